@@ -1,0 +1,100 @@
+package spec
+
+import (
+	"crypto/sha256"
+	"encoding/hex"
+	"encoding/json"
+)
+
+// canonicalSpec is the canonical form's shape: every field explicit, defaults
+// filled, in a fixed order. Paths appear as written in the spec, so the hash
+// does not depend on where the checkout lives.
+type canonicalSpec struct {
+	Version       int               `json:"version"`
+	Name          string            `json:"name"`
+	Sources       []canonicalSource `json:"sources"`
+	Columns       canonicalColumns  `json:"columns"`
+	Calendar      canonicalCalendar `json:"calendar"`
+	Shaping       canonicalShaping  `json:"shaping"`
+	Decomposition canonicalDecomp   `json:"decomposition"`
+	Methods       []canonicalMethod `json:"methods"`
+	Horizon       int               `json:"horizon"`
+	Output        string            `json:"output"`
+}
+
+type canonicalSource struct {
+	Path      string `json:"path"`
+	Format    string `json:"format"`
+	Delimiter string `json:"delimiter,omitempty"`
+}
+
+type canonicalColumns struct {
+	Time  string   `json:"time"`
+	Value string   `json:"value"`
+	Keys  []string `json:"keys"`
+}
+
+type canonicalCalendar struct {
+	Frequency    string `json:"frequency"`
+	SeasonLength int    `json:"season_length"`
+}
+
+type canonicalShaping struct {
+	Combine string `json:"combine"`
+	Gaps    string `json:"gaps"`
+}
+
+type canonicalDecomp struct {
+	Form    string `json:"form"`
+	Average string `json:"average"`
+}
+
+type canonicalMethod struct {
+	Method  string         `json:"method"`
+	Label   string         `json:"label"`
+	Options map[string]any `json:"options"` // encoding/json sorts map keys
+}
+
+// Canonical returns the spec's canonical form: compact JSON with every
+// default filled in and keys in a fixed order. Two specs that mean the same
+// run have the same canonical form, whatever their comments, key order,
+// short forms or spacing.
+func (s *Spec) Canonical() []byte {
+	c := canonicalSpec{
+		Version: s.Version,
+		Name:    s.Name,
+		Columns: canonicalColumns{Time: s.Columns.Time, Value: s.Columns.Value, Keys: s.Columns.Keys},
+		Calendar: canonicalCalendar{
+			Frequency:    string(s.Calendar.Frequency),
+			SeasonLength: s.Calendar.SeasonLength,
+		},
+		Shaping:       canonicalShaping{Combine: string(s.Shaping.Combine), Gaps: string(s.Shaping.Gaps)},
+		Decomposition: canonicalDecomp{Form: string(s.Decomposition.Form), Average: s.Decomposition.Average},
+		Horizon:       s.Horizon,
+		Output:        s.Output,
+	}
+	if c.Columns.Keys == nil {
+		c.Columns.Keys = []string{}
+	}
+	for _, src := range s.Sources {
+		c.Sources = append(c.Sources, canonicalSource{Path: src.Path, Format: string(src.Format), Delimiter: src.Delimiter})
+	}
+	for _, m := range s.Methods {
+		opts := m.Options
+		if opts == nil {
+			opts = map[string]any{}
+		}
+		c.Methods = append(c.Methods, canonicalMethod{Method: m.Method, Label: m.Label, Options: opts})
+	}
+	b, err := json.Marshal(c)
+	if err != nil {
+		panic("spec: canonical form: " + err.Error())
+	}
+	return b
+}
+
+// Hash returns the hex SHA-256 of the canonical form.
+func (s *Spec) Hash() string {
+	sum := sha256.Sum256(s.Canonical())
+	return hex.EncodeToString(sum[:])
+}

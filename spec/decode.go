@@ -1,0 +1,713 @@
+package spec
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"regexp"
+	"sort"
+	"strconv"
+	"strings"
+
+	"gopkg.in/yaml.v3"
+)
+
+// Limits that keep a hostile or broken spec from exhausting the machine.
+var (
+	// MaxSpecBytes is the largest spec file Load reads.
+	MaxSpecBytes int64 = 1 << 20
+	// MaxAliasNodes bounds how many nodes YAML aliases may expand to.
+	MaxAliasNodes = 10000
+)
+
+// Load reads, decodes, defaults and validates the spec at path. On bad input
+// it returns an ErrorList with every problem found, each with file:line:col.
+// Other errors (the file cannot be read) are returned as they are.
+func Load(path string) (*Spec, error) {
+	info, err := os.Stat(path)
+	if err != nil {
+		return nil, fmt.Errorf("spec %s: %w", path, err)
+	}
+	if info.IsDir() {
+		return nil, fmt.Errorf("spec %s: is a directory, not a spec file", path)
+	}
+	if info.Size() > MaxSpecBytes {
+		return nil, ErrorList{{File: path, Msg: fmt.Sprintf("spec file is %d bytes; the limit is %d bytes (a spec this large is almost certainly not hand-written)", info.Size(), MaxSpecBytes)}}
+	}
+	src, err := os.ReadFile(path)
+	if err != nil {
+		return nil, fmt.Errorf("spec %s: %w", path, err)
+	}
+	s, err := Parse(src, path)
+	if err != nil {
+		return nil, err
+	}
+	abs, err := filepath.Abs(path)
+	if err != nil {
+		return nil, err
+	}
+	s.File = path
+	s.Dir = filepath.Dir(abs)
+	return s, nil
+}
+
+// Parse decodes spec source; file is used only in error messages.
+func Parse(src []byte, file string) (*Spec, error) {
+	if int64(len(src)) > MaxSpecBytes {
+		return nil, ErrorList{{File: file, Msg: fmt.Sprintf("spec is %d bytes; the limit is %d bytes", len(src), MaxSpecBytes)}}
+	}
+	d := &decoder{file: file}
+	var root yaml.Node
+	if err := yaml.Unmarshal(src, &root); err != nil {
+		return nil, ErrorList{d.yamlError(err)}
+	}
+	if root.Kind == 0 || len(root.Content) == 0 {
+		return nil, ErrorList{{File: file, Line: 1, Col: 1, Msg: "spec is empty; expected a mapping with version, name, sources, columns, calendar, methods and horizon"}}
+	}
+	s := d.spec(root.Content[0])
+	if len(d.errs) > 0 {
+		sort.SliceStable(d.errs, func(i, j int) bool {
+			a, b := d.errs[i], d.errs[j]
+			if a.Line != b.Line {
+				return a.Line < b.Line
+			}
+			return a.Col < b.Col
+		})
+		return nil, d.errs
+	}
+	return s, nil
+}
+
+var yamlLineRE = regexp.MustCompile(`^yaml: line (\d+): (.*)$`)
+
+func (d *decoder) yamlError(err error) *Error {
+	msg := err.Error()
+	if m := yamlLineRE.FindStringSubmatch(msg); m != nil {
+		line, _ := strconv.Atoi(m[1])
+		// yaml.v3 reports the line of the enclosing construct for some
+		// errors, so the line is a neighbourhood, not a pinpoint.
+		return &Error{File: d.file, Line: line, Col: 1, Msg: "YAML syntax error (at or just after this line): " + m[2]}
+	}
+	var te *yaml.TypeError
+	if errors.As(err, &te) {
+		return &Error{File: d.file, Msg: "YAML: " + strings.Join(te.Errors, "; ")}
+	}
+	return &Error{File: d.file, Msg: "YAML: " + strings.TrimPrefix(msg, "yaml: ")}
+}
+
+type decoder struct {
+	file    string
+	errs    ErrorList
+	aliases int
+}
+
+func (d *decoder) errAt(n *yaml.Node, path, format string, args ...any) {
+	e := &Error{File: d.file, Path: path, Msg: fmt.Sprintf(format, args...)}
+	if n != nil {
+		e.Line, e.Col = n.Line, n.Column
+	}
+	d.errs = append(d.errs, e)
+}
+
+// resolve follows aliases, counting how many nodes they expand to.
+func (d *decoder) resolve(n *yaml.Node) *yaml.Node {
+	for n != nil && n.Kind == yaml.AliasNode {
+		d.aliases += countNodes(n.Alias, MaxAliasNodes+1)
+		if d.aliases > MaxAliasNodes {
+			d.errAt(n, "", "YAML aliases expand to more than %d nodes; refusing to expand further", MaxAliasNodes)
+			return nil
+		}
+		n = n.Alias
+	}
+	return n
+}
+
+func countNodes(n *yaml.Node, limit int) int {
+	if n == nil {
+		return 0
+	}
+	c := 1
+	for _, k := range n.Content {
+		if c > limit {
+			break
+		}
+		if k.Kind == yaml.AliasNode {
+			c += countNodes(k.Alias, limit-c)
+		} else {
+			c += countNodes(k, limit-c)
+		}
+	}
+	return c
+}
+
+func kindName(n *yaml.Node) string {
+	switch n.Kind {
+	case yaml.MappingNode:
+		return "a mapping"
+	case yaml.SequenceNode:
+		return "a list"
+	case yaml.ScalarNode:
+		switch n.Tag {
+		case "!!null":
+			return "null"
+		case "!!bool":
+			return "a boolean"
+		case "!!int":
+			return "an integer"
+		case "!!float":
+			return "a number"
+		}
+		return fmt.Sprintf("the string %q", n.Value)
+	}
+	return "an unexpected node"
+}
+
+// field is one key of a mapping: its name, whether it must be present, and
+// how to decode its value.
+type field struct {
+	name     string
+	required bool
+	decode   func(n *yaml.Node, path string)
+}
+
+// mapping decodes a mapping node against a field table: unknown keys are
+// rejected with a suggestion, duplicate keys are rejected, and missing
+// required keys are reported at the mapping.
+func (d *decoder) mapping(n *yaml.Node, path, what string, fields []field) {
+	n = d.resolve(n)
+	if n == nil {
+		return
+	}
+	if n.Kind != yaml.MappingNode {
+		d.errAt(n, path, "expected %s (a mapping), found %s", what, kindName(n))
+		return
+	}
+	names := make([]string, len(fields))
+	for i, f := range fields {
+		names[i] = f.name
+	}
+	seen := map[string]*yaml.Node{}
+	for i := 0; i+1 < len(n.Content); i += 2 {
+		k, v := n.Content[i], n.Content[i+1]
+		if k.Kind != yaml.ScalarNode {
+			d.errAt(k, path, "keys must be plain names, found %s", kindName(k))
+			continue
+		}
+		key := k.Value
+		sub := joinPath(path, key)
+		if prev, dup := seen[key]; dup {
+			d.errAt(k, sub, "duplicate key %q (first given at line %d)", key, prev.Line)
+			continue
+		}
+		seen[key] = k
+		var f *field
+		for j := range fields {
+			if fields[j].name == key {
+				f = &fields[j]
+				break
+			}
+		}
+		if f == nil {
+			msg := fmt.Sprintf("unknown key %q in %s", key, what)
+			if s := suggest(key, names); s != "" {
+				msg += fmt.Sprintf(" (did you mean %q?)", s)
+			} else {
+				msg += "; allowed keys: " + quoteList(names)
+			}
+			d.errAt(k, sub, "%s", msg)
+			continue
+		}
+		f.decode(v, sub)
+	}
+	for _, f := range fields {
+		if f.required {
+			if _, ok := seen[f.name]; !ok {
+				d.errAt(n, path, "missing required key %q in %s", f.name, what)
+			}
+		}
+	}
+}
+
+func joinPath(path, key string) string {
+	if path == "" {
+		return key
+	}
+	return path + "." + key
+}
+
+func (d *decoder) scalar(n *yaml.Node, path, what string) (*yaml.Node, bool) {
+	n = d.resolve(n)
+	if n == nil {
+		return nil, false
+	}
+	if n.Kind != yaml.ScalarNode || n.Tag == "!!null" {
+		d.errAt(n, path, "expected %s, found %s", what, kindName(n))
+		return nil, false
+	}
+	return n, true
+}
+
+func (d *decoder) str(n *yaml.Node, path, what string, dst *string) {
+	if n, ok := d.scalar(n, path, what); ok {
+		if n.Tag == "!!bool" {
+			d.errAt(n, path, "expected %s, found the boolean %s (quote it if you mean the text)", what, n.Value)
+			return
+		}
+		if strings.TrimSpace(n.Value) == "" {
+			d.errAt(n, path, "expected %s, found an empty string", what)
+			return
+		}
+		*dst = n.Value
+	}
+}
+
+func (d *decoder) integer(n *yaml.Node, path, what string, dst *int) bool {
+	n, ok := d.scalar(n, path, what)
+	if !ok {
+		return false
+	}
+	if n.Tag != "!!int" {
+		d.errAt(n, path, "expected %s, found %s", what, kindName(n))
+		return false
+	}
+	v, err := strconv.ParseInt(n.Value, 0, 32)
+	if err != nil {
+		d.errAt(n, path, "expected %s, found %s (out of range)", what, n.Value)
+		return false
+	}
+	*dst = int(v)
+	return true
+}
+
+func (d *decoder) enum(n *yaml.Node, path, what string, allowed []string, dst *string) {
+	n, ok := d.scalar(n, path, what)
+	if !ok {
+		return
+	}
+	for _, a := range allowed {
+		if n.Value == a {
+			*dst = a
+			return
+		}
+	}
+	msg := fmt.Sprintf("%q is not a valid %s; allowed: %s", n.Value, what, quoteList(allowed))
+	if s := suggest(n.Value, allowed); s != "" {
+		msg += fmt.Sprintf(" (did you mean %q?)", s)
+	}
+	d.errAt(n, path, "%s", msg)
+}
+
+var nameRE = regexp.MustCompile(`^[A-Za-z0-9][A-Za-z0-9._-]*$`)
+
+// reservedColumns are output column names a key column may not take.
+var reservedColumns = []string{"method", "model", "period", "step", "value", "decomposition", "form",
+	"observed", "trend", "seasonal", "remainder", "adjusted", "position", "factor", "count",
+	"stage", "severity", "message"}
+
+func (d *decoder) spec(root *yaml.Node) *Spec {
+	s := &Spec{
+		Shaping:       DefaultShaping,
+		Decomposition: DefaultDecomposition,
+	}
+	var (
+		decompNode, seasonNode *yaml.Node
+		methodNodes            []*yaml.Node
+		haveDecomp             bool
+	)
+	d.mapping(root, "", "the spec", []field{
+		{"version", true, func(n *yaml.Node, p string) {
+			if d.integer(n, p, "the spec format version (an integer)", &s.Version) && s.Version != FormatVersion {
+				d.errAt(n, p, "unsupported spec format version %d; this almanac reads version %d", s.Version, FormatVersion)
+			}
+		}},
+		{"name", true, func(n *yaml.Node, p string) {
+			d.str(n, p, "a run name", &s.Name)
+			if s.Name != "" && !nameRE.MatchString(s.Name) {
+				d.errAt(n, p, "name %q may hold only letters, digits, '.', '_' and '-', starting with a letter or digit", s.Name)
+			}
+		}},
+		{"sources", true, func(n *yaml.Node, p string) { s.Sources = d.sources(n, p) }},
+		{"columns", true, func(n *yaml.Node, p string) { d.columns(n, p, &s.Columns) }},
+		{"calendar", true, func(n *yaml.Node, p string) {
+			seasonNode = d.calendar(n, p, &s.Calendar)
+		}},
+		{"shaping", false, func(n *yaml.Node, p string) {
+			d.mapping(n, p, "shaping", []field{
+				{"combine", false, func(n *yaml.Node, p string) {
+					d.enum(n, p, "combine rule", CombineRules, (*string)(&s.Shaping.Combine))
+				}},
+				{"gaps", false, func(n *yaml.Node, p string) {
+					d.enum(n, p, "gap rule", GapRules, (*string)(&s.Shaping.Gaps))
+				}},
+			})
+		}},
+		{"decomposition", false, func(n *yaml.Node, p string) {
+			decompNode, haveDecomp = n, true
+			d.mapping(n, p, "decomposition", []field{
+				{"form", false, func(n *yaml.Node, p string) {
+					d.enum(n, p, "form", Forms, (*string)(&s.Decomposition.Form))
+				}},
+				{"average", false, func(n *yaml.Node, p string) {
+					d.enum(n, p, "average", []string{"mean", "median"}, &s.Decomposition.Average)
+				}},
+			})
+		}},
+		{"methods", true, func(n *yaml.Node, p string) {
+			s.Methods, methodNodes = d.methods(n, p)
+		}},
+		{"horizon", true, func(n *yaml.Node, p string) {
+			if d.integer(n, p, "the forecast horizon (a whole number of periods)", &s.Horizon) && s.Horizon <= 0 {
+				d.errAt(n, p, "horizon must be at least 1 period, found %d", s.Horizon)
+				s.Horizon = 0
+			}
+		}},
+		{"output", false, func(n *yaml.Node, p string) {
+			d.str(n, p, "the output folder", &s.Output)
+		}},
+	})
+
+	// Defaults that depend on other fields.
+	if s.Calendar.Frequency != "" && s.Calendar.SeasonLength == 0 && seasonNode == nil {
+		s.Calendar.SeasonLength = DefaultSeasonLength[s.Calendar.Frequency]
+	}
+	if s.Output == "" && s.Name != "" {
+		s.Output = DefaultOutputRoot + "/" + s.Name
+	}
+
+	// Cross-field checks.
+	if s.Calendar.SeasonLength == 1 {
+		for i, m := range s.Methods {
+			if catalog[m.Method].Seasonal {
+				d.errAt(methodNodes[i], fmt.Sprintf("methods[%d]", i),
+					"%s needs a season length of at least 2, but calendar.season_length is %d%s",
+					m.Method, s.Calendar.SeasonLength, defaultNote(seasonNode, s.Calendar.Frequency))
+			}
+		}
+		if haveDecomp {
+			d.errAt(decompNode, "decomposition",
+				"a decomposition needs a season length of at least 2, but calendar.season_length is %d%s",
+				s.Calendar.SeasonLength, defaultNote(seasonNode, s.Calendar.Frequency))
+		}
+	}
+	seen := map[string]int{}
+	for i, m := range s.Methods {
+		if j, dup := seen[m.Label]; dup {
+			d.errAt(methodNodes[i], fmt.Sprintf("methods[%d]", i),
+				"label %q is already used by methods[%d]; give one of them a different label", m.Label, j)
+			continue
+		}
+		seen[m.Label] = i
+	}
+	return s
+}
+
+func defaultNote(seasonNode *yaml.Node, f Frequency) string {
+	if seasonNode != nil {
+		return ""
+	}
+	return fmt.Sprintf(" (the default for frequency %s); set calendar.season_length", f)
+}
+
+func (d *decoder) sources(n *yaml.Node, path string) []Source {
+	n = d.resolve(n)
+	if n == nil {
+		return nil
+	}
+	if n.Kind != yaml.SequenceNode {
+		d.errAt(n, path, "expected a list of sources, found %s", kindName(n))
+		return nil
+	}
+	if len(n.Content) == 0 {
+		d.errAt(n, path, "at least one source is needed")
+	}
+	var out []Source
+	for i, item := range n.Content {
+		p := fmt.Sprintf("%s[%d]", path, i)
+		item = d.resolve(item)
+		if item == nil {
+			continue
+		}
+		var src Source
+		var formatGiven bool
+		if item.Kind == yaml.ScalarNode {
+			d.str(item, p, "a source path", &src.Path)
+		} else {
+			d.mapping(item, p, "a source", []field{
+				{"path", true, func(n *yaml.Node, p string) { d.str(n, p, "a file path or glob", &src.Path) }},
+				{"format", false, func(n *yaml.Node, p string) {
+					formatGiven = true
+					d.enum(n, p, "format", Formats, (*string)(&src.Format))
+				}},
+				{"delimiter", false, func(n *yaml.Node, p string) {
+					var s string
+					d.str(n, p, "a one-character CSV delimiter", &s)
+					if s == "\\t" || s == "tab" {
+						s = "\t"
+					}
+					if s != "" && len([]rune(s)) != 1 || s == "\"" || s == "\n" || s == "\r" {
+						d.errAt(n, p, "delimiter must be one character other than a quote or newline, found %q", s)
+						return
+					}
+					src.Delimiter = s
+				}},
+			})
+		}
+		if src.Path == "" {
+			continue
+		}
+		if !formatGiven {
+			switch strings.ToLower(filepath.Ext(src.Path)) {
+			case ".csv", ".tsv", ".txt":
+				src.Format = FormatCSV
+			case ".parquet", ".pq":
+				src.Format = FormatParquet
+			default:
+				d.errAt(item, p, "cannot tell the format of %q from its extension; add format: (one of %s)", src.Path, quoteList(Formats))
+			}
+		}
+		if src.Format == FormatCSV && src.Delimiter == "" {
+			src.Delimiter = ","
+			if strings.EqualFold(filepath.Ext(src.Path), ".tsv") {
+				src.Delimiter = "\t"
+			}
+		}
+		if src.Format == FormatParquet && src.Delimiter != "" {
+			d.errAt(item, p, "delimiter applies only to CSV sources")
+		}
+		if _, err := filepath.Match(src.Path, ""); err != nil {
+			d.errAt(item, p, "bad glob pattern %q: %v", src.Path, err)
+		}
+		out = append(out, src)
+	}
+	return out
+}
+
+func (d *decoder) columns(n *yaml.Node, path string, c *Columns) {
+	var keysNode *yaml.Node
+	d.mapping(n, path, "columns", []field{
+		{"time", true, func(n *yaml.Node, p string) { d.str(n, p, "the name of the time column", &c.Time) }},
+		{"value", true, func(n *yaml.Node, p string) { d.str(n, p, "the name of the value column", &c.Value) }},
+		{"keys", false, func(n *yaml.Node, p string) {
+			keysNode = d.resolve(n)
+			if keysNode == nil {
+				return
+			}
+			if keysNode.Kind == yaml.ScalarNode && keysNode.Tag != "!!null" {
+				var k string
+				d.str(keysNode, p, "a key column name", &k)
+				if k != "" {
+					c.Keys = []string{k}
+				}
+				return
+			}
+			if keysNode.Kind != yaml.SequenceNode {
+				d.errAt(keysNode, p, "expected a list of key column names, found %s", kindName(keysNode))
+				return
+			}
+			c.Keys = []string{}
+			for i, k := range keysNode.Content {
+				var name string
+				d.str(k, fmt.Sprintf("%s[%d]", p, i), "a key column name", &name)
+				if name != "" {
+					c.Keys = append(c.Keys, name)
+				}
+			}
+		}},
+	})
+	if keysNode == nil {
+		return
+	}
+	seen := map[string]bool{c.Time: true, c.Value: true}
+	for i, k := range c.Keys {
+		p := fmt.Sprintf("%s.keys[%d]", path, i)
+		if seen[k] {
+			d.errAt(keysNode, p, "column %q is listed twice among time, value and keys", k)
+		}
+		seen[k] = true
+		for _, r := range reservedColumns {
+			if strings.EqualFold(k, r) {
+				d.errAt(keysNode, p, "key column %q has the name of an output column; rename it in the input (reserved: %s)", k, quoteList(reservedColumns))
+			}
+		}
+	}
+	if c.Time != "" && c.Time == c.Value {
+		d.errAt(n, path, "time and value name the same column %q", c.Time)
+	}
+}
+
+func (d *decoder) calendar(n *yaml.Node, path string, c *Calendar) (seasonNode *yaml.Node) {
+	d.mapping(n, path, "calendar", []field{
+		{"frequency", true, func(n *yaml.Node, p string) {
+			d.enum(n, p, "frequency", Frequencies, (*string)(&c.Frequency))
+		}},
+		{"season_length", false, func(n *yaml.Node, p string) {
+			seasonNode = n
+			if d.integer(n, p, "the season length (periods per season)", &c.SeasonLength) && (c.SeasonLength < 1 || c.SeasonLength > 1000) {
+				d.errAt(n, p, "season_length must be between 1 and 1000, found %d", c.SeasonLength)
+				c.SeasonLength = 0
+			}
+		}},
+	})
+	return seasonNode
+}
+
+func (d *decoder) methods(n *yaml.Node, path string) ([]MethodSpec, []*yaml.Node) {
+	n = d.resolve(n)
+	if n == nil {
+		return nil, nil
+	}
+	if n.Kind != yaml.SequenceNode {
+		d.errAt(n, path, "expected a list of methods, found %s", kindName(n))
+		return nil, nil
+	}
+	if len(n.Content) == 0 {
+		d.errAt(n, path, "at least one method is needed; choose from %s", quoteList(MethodNames()))
+	}
+	var out []MethodSpec
+	var nodes []*yaml.Node
+	for i, item := range n.Content {
+		p := fmt.Sprintf("%s[%d]", path, i)
+		item = d.resolve(item)
+		if item == nil {
+			continue
+		}
+		if m, ok := d.method(item, p); ok {
+			out = append(out, m)
+			nodes = append(nodes, item)
+		}
+	}
+	return out, nodes
+}
+
+func (d *decoder) methodName(n *yaml.Node, path string) (string, bool) {
+	var name string
+	d.str(n, path, "a method name", &name)
+	if name == "" {
+		return "", false
+	}
+	if _, ok := catalog[name]; !ok {
+		msg := fmt.Sprintf("unknown method %q", name)
+		if s := suggest(name, MethodNames()); s != "" {
+			msg += fmt.Sprintf(" (did you mean %q?)", s)
+		}
+		msg += "; methods: " + quoteList(MethodNames())
+		d.errAt(n, path, "%s", msg)
+		return "", false
+	}
+	return name, true
+}
+
+func (d *decoder) method(n *yaml.Node, path string) (MethodSpec, bool) {
+	switch n.Kind {
+	case yaml.ScalarNode:
+		name, ok := d.methodName(n, path)
+		if !ok {
+			return MethodSpec{}, false
+		}
+		return MethodSpec{Method: name, Label: name, Options: defaults(catalog[name])}, true
+	case yaml.MappingNode:
+	default:
+		d.errAt(n, path, "expected a method name or a mapping with a method key, found %s", kindName(n))
+		return MethodSpec{}, false
+	}
+	// Find the method key first: the allowed options depend on it.
+	var nameNode *yaml.Node
+	for i := 0; i+1 < len(n.Content); i += 2 {
+		if n.Content[i].Value == "method" {
+			nameNode = n.Content[i+1]
+			break
+		}
+	}
+	if nameNode == nil {
+		d.errAt(n, path, "missing required key \"method\" in a method mapping")
+		return MethodSpec{}, false
+	}
+	name, ok := d.methodName(d.resolve(nameNode), path+".method")
+	if !ok {
+		return MethodSpec{}, false
+	}
+	def := catalog[name]
+	m := MethodSpec{Method: name, Label: name, Options: defaults(def)}
+	fields := []field{
+		{"method", true, func(*yaml.Node, string) {}},
+		{"label", false, func(n *yaml.Node, p string) {
+			d.str(n, p, "a label", &m.Label)
+			if m.Label != "" && !nameRE.MatchString(m.Label) {
+				d.errAt(n, p, "label %q may hold only letters, digits, '.', '_' and '-'", m.Label)
+			}
+		}},
+	}
+	for _, optName := range MethodOptionNames(name) {
+		opt := def.Options[optName]
+		fields = append(fields, field{optName, false, func(n *yaml.Node, p string) {
+			if v, ok := d.option(n, p, name, optName, opt); ok {
+				m.Options[optName] = v
+			}
+		}})
+	}
+	what := fmt.Sprintf("method %s", name)
+	if len(def.Options) == 0 {
+		what = fmt.Sprintf("method %s (which takes no options besides label)", name)
+	}
+	d.mapping(n, path, what, fields)
+	return m, true
+}
+
+func defaults(def methodDef) map[string]any {
+	out := map[string]any{}
+	for k, o := range def.Options {
+		out[k] = o.Default
+	}
+	return out
+}
+
+func (d *decoder) option(n *yaml.Node, path, method, name string, o optionDef) (any, bool) {
+	switch o.Kind {
+	case kindEnum:
+		var v string
+		d.enum(n, path, fmt.Sprintf("%s %s", method, name), o.Allowed, &v)
+		return v, v != ""
+	case kindInt:
+		var v int
+		if !d.integer(n, path, fmt.Sprintf("%s %s (an integer)", method, name), &v) {
+			return nil, false
+		}
+		if float64(v) < o.Min || float64(v) > o.Max {
+			d.errAt(n, path, "%s %s must be between %g and %g, found %d", method, name, o.Min, o.Max, v)
+			return nil, false
+		}
+		return v, true
+	case kindFloat:
+		sn, ok := d.scalar(n, path, fmt.Sprintf("%s %s (a number)", method, name))
+		if !ok {
+			return nil, false
+		}
+		if sn.Tag != "!!int" && sn.Tag != "!!float" {
+			d.errAt(sn, path, "expected %s %s (a number), found %s", method, name, kindName(sn))
+			return nil, false
+		}
+		v, err := strconv.ParseFloat(sn.Value, 64)
+		if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
+			d.errAt(sn, path, "expected %s %s (a finite number), found %s", method, name, sn.Value)
+			return nil, false
+		}
+		if v < o.Min || v > o.Max {
+			d.errAt(sn, path, "%s %s must be between %g and %g, found %g", method, name, o.Min, o.Max, v)
+			return nil, false
+		}
+		return v, true
+	case kindBool:
+		sn, ok := d.scalar(n, path, fmt.Sprintf("%s %s (true or false)", method, name))
+		if !ok {
+			return nil, false
+		}
+		if sn.Tag != "!!bool" {
+			d.errAt(sn, path, "expected %s %s (true or false), found %s", method, name, kindName(sn))
+			return nil, false
+		}
+		return sn.Value == "true", true
+	}
+	panic("spec: unknown option kind")
+}

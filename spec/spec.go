@@ -1,0 +1,153 @@
+// Package spec defines almanac's forecast spec: a YAML file, kept in git and
+// reviewed in pull requests, that says which tables to read, how to shape
+// them into series, which methods to run, how far ahead, and where to write.
+//
+// The package is a leaf: it knows nothing of how a spec is run. Load decodes
+// a file through yaml.v3 nodes so that every error carries file:line:col,
+// reports every error in one pass, fills defaults, and validates. Canonical
+// gives the spec's canonical JSON form; Hash its SHA-256.
+package spec
+
+// FormatVersion is the spec format this package reads.
+const FormatVersion = 1
+
+// Spec is a decoded, defaulted and validated forecast spec.
+type Spec struct {
+	Version       int
+	Name          string
+	Sources       []Source
+	Columns       Columns
+	Calendar      Calendar
+	Shaping       Shaping
+	Decomposition Decomposition
+	Methods       []MethodSpec
+	Horizon       int
+	Output        string // as written; relative paths are relative to Dir
+
+	// File is the path the spec was loaded from, Dir its folder. Neither is
+	// part of the canonical form.
+	File string
+	Dir  string
+}
+
+// Source is one input: a path or glob, and how to read it.
+type Source struct {
+	Path      string // as written; relative to the spec's folder
+	Format    Format // csv or parquet; inferred from the extension when not given
+	Delimiter string // CSV field delimiter, one character; default ","
+}
+
+// Format is an input file format.
+type Format string
+
+// Input formats.
+const (
+	FormatCSV     Format = "csv"
+	FormatParquet Format = "parquet"
+)
+
+// Formats lists the allowed values of Format.
+var Formats = []string{string(FormatCSV), string(FormatParquet)}
+
+// Columns names the input columns that matter.
+type Columns struct {
+	Time  string
+	Value string
+	Keys  []string // zero or more; together they identify a series
+}
+
+// Frequency is the calendar unit of one period.
+type Frequency string
+
+// Calendar frequencies.
+const (
+	Day     Frequency = "day"
+	Week    Frequency = "week"
+	Month   Frequency = "month"
+	Quarter Frequency = "quarter"
+	Year    Frequency = "year"
+)
+
+// Frequencies lists the allowed values of Frequency.
+var Frequencies = []string{string(Day), string(Week), string(Month), string(Quarter), string(Year)}
+
+// DefaultSeasonLength is the season length used when the spec gives none.
+var DefaultSeasonLength = map[Frequency]int{Day: 7, Week: 52, Month: 12, Quarter: 4, Year: 1}
+
+// Calendar says what one period is and how many make a season.
+type Calendar struct {
+	Frequency    Frequency
+	SeasonLength int // periods per season; default from the frequency
+}
+
+// Combine says how rows that fall into the same period of one series combine.
+type Combine string
+
+// Combine rules.
+const (
+	CombineSum    Combine = "sum"
+	CombineMean   Combine = "mean"
+	CombineLast   Combine = "last" // the last row in input order
+	CombineReject Combine = "reject"
+)
+
+// CombineRules lists the allowed values of Combine.
+var CombineRules = []string{string(CombineSum), string(CombineMean), string(CombineLast), string(CombineReject)}
+
+// Gaps says what a period with no rows becomes, between a series' first and
+// last period.
+type Gaps string
+
+// Gap rules.
+const (
+	GapsZero    Gaps = "zero"
+	GapsMissing Gaps = "missing"
+	GapsReject  Gaps = "reject"
+)
+
+// GapRules lists the allowed values of Gaps.
+var GapRules = []string{string(GapsZero), string(GapsMissing), string(GapsReject)}
+
+// Shaping turns rows into one value per period.
+type Shaping struct {
+	Combine Combine
+	Gaps    Gaps
+}
+
+// DefaultShaping: rows in one period are summed (so daily order lines add up
+// to weekly demand), and a period with no rows is zero demand.
+var DefaultShaping = Shaping{Combine: CombineSum, Gaps: GapsZero}
+
+// Form is additive or multiplicative.
+type Form string
+
+// Decomposition forms.
+const (
+	Additive       Form = "additive"
+	Multiplicative Form = "multiplicative"
+)
+
+// Forms lists the allowed values of Form.
+var Forms = []string{string(Additive), string(Multiplicative)}
+
+// Decomposition configures the decompose stage, which writes the components
+// and seasonal_factors tables.
+type Decomposition struct {
+	Form    Form
+	Average string // mean or median
+}
+
+// DefaultDecomposition is a multiplicative classical decomposition with
+// factors averaged by the mean.
+var DefaultDecomposition = Decomposition{Form: Multiplicative, Average: "mean"}
+
+// MethodSpec is one method to run, with its validated and defaulted options.
+type MethodSpec struct {
+	Method  string         // registered method name, e.g. "classical"
+	Label   string         // output name; defaults to Method; unique within the spec
+	Options map[string]any // string, int, float64 or bool values, defaults filled
+}
+
+// DefaultOutputRoot is where the run folder goes when the spec names none:
+// runs/<name> beside the spec.
+const DefaultOutputRoot = "runs"

@@ -1,0 +1,245 @@
+package spec
+
+import (
+	"errors"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+const minimal = `version: 1
+name: t
+sources: [data.csv]
+columns: {time: date, value: qty}
+calendar: {frequency: month}
+methods: [naive]
+horizon: 6
+`
+
+func TestLoadGood(t *testing.T) {
+	s, err := Load("testdata/good.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if s.Calendar.SeasonLength != 52 {
+		t.Errorf("season length default for week = %d, want 52", s.Calendar.SeasonLength)
+	}
+	if s.Sources[0].Format != FormatCSV || s.Sources[1].Format != FormatParquet {
+		t.Errorf("formats inferred = %q, %q", s.Sources[0].Format, s.Sources[1].Format)
+	}
+	if s.Shaping.Combine != CombineSum || s.Shaping.Gaps != GapsMissing {
+		t.Errorf("shaping = %+v", s.Shaping)
+	}
+	if len(s.Methods) != 3 || s.Methods[2].Label != "classical_add" || s.Methods[2].Options["trend"] != "trend_step" ||
+		s.Methods[2].Options["average"] != "mean" {
+		t.Errorf("methods = %+v", s.Methods)
+	}
+	if s.Methods[0].Label != "naive" {
+		t.Errorf("default label = %q", s.Methods[0].Label)
+	}
+	if got := strings.Join(s.Columns.Keys, ","); got != "depot,sku" {
+		t.Errorf("keys = %s", got)
+	}
+	abs, _ := filepath.Abs("testdata")
+	if s.Dir != abs {
+		t.Errorf("Dir = %s, want %s", s.Dir, abs)
+	}
+}
+
+func TestDefaults(t *testing.T) {
+	s, err := Parse([]byte(minimal), "m.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if s.Shaping != DefaultShaping {
+		t.Errorf("shaping = %+v, want defaults %+v", s.Shaping, DefaultShaping)
+	}
+	if s.Calendar.SeasonLength != 12 || s.Output != "runs/t" || s.Decomposition != DefaultDecomposition {
+		t.Errorf("defaults: season %d output %q decomposition %+v", s.Calendar.SeasonLength, s.Output, s.Decomposition)
+	}
+	if len(s.Columns.Keys) != 0 {
+		t.Errorf("keys = %v", s.Columns.Keys)
+	}
+}
+
+// Each bad spec is the minimal spec with one edit; the test pins the
+// position and the message.
+func TestBadSpecs(t *testing.T) {
+	cases := []struct {
+		name, from, to string
+		want           []string // substrings, in order, one per expected error
+	}{
+		{"unknown key with suggestion", "horizon: 6", "horizon: 6\nhorizn: 3",
+			[]string{`m.yaml:8:1: horizn: unknown key "horizn" in the spec (did you mean "horizon"?)`}},
+		{"unknown nested key", "calendar: {frequency: month}", "calendar: {frequency: month, season_lenght: 12}",
+			[]string{`m.yaml:5:30: calendar.season_lenght: unknown key "season_lenght" in calendar (did you mean "season_length"?)`}},
+		{"wrong type", "horizon: 6", "horizon: soon",
+			[]string{`m.yaml:7:10: horizon: expected the forecast horizon (a whole number of periods), found the string "soon"`}},
+		{"bad enumeration", "frequency: month", "frequency: monthly",
+			[]string{`m.yaml:5:23: calendar.frequency: "monthly" is not a valid frequency; allowed: day, week, month, quarter, year (did you mean "month"?)`}},
+		{"missing required key", "horizon: 6\n", "",
+			[]string{`m.yaml:1:1: missing required key "horizon" in the spec`}},
+		{"horizon zero", "horizon: 6", "horizon: 0",
+			[]string{`m.yaml:7:10: horizon: horizon must be at least 1 period, found 0`}},
+		{"horizon negative", "horizon: 6", "horizon: -2",
+			[]string{`horizon must be at least 1 period, found -2`}},
+		{"seasonal method with season 1", "calendar: {frequency: month}\nmethods: [naive]", "calendar: {frequency: year}\nmethods: [naive, seasonal_naive]",
+			[]string{`m.yaml:6:18: methods[1]: seasonal_naive needs a season length of at least 2, but calendar.season_length is 1 (the default for frequency year); set calendar.season_length`}},
+		{"unknown method", "methods: [naive]", "methods: [naïve, sesonal_naive]",
+			[]string{`methods[0]: unknown method "naïve" (did you mean "naive"?)`, `methods[1]: unknown method "sesonal_naive" (did you mean "seasonal_naive"?)`}},
+		{"bad method option", "methods: [naive]", "methods: [{method: classical, trend: linear}]",
+			[]string{`methods[0].trend: "linear" is not a valid classical trend; allowed: adjusted_line, trend_line, trend_step, trend_flat`}},
+		{"option on a method without options", "methods: [naive]", "methods: [{method: naive, form: additive}]",
+			[]string{`methods[0].form: unknown key "form" in method naive (which takes no options besides label)`}},
+		{"duplicate labels", "methods: [naive]", "methods: [naive, naive]",
+			[]string{`methods[1]: label "naive" is already used by methods[0]`}},
+		{"duplicate yaml key", "horizon: 6", "horizon: 6\nhorizon: 7",
+			[]string{`m.yaml:8:1: horizon: duplicate key "horizon" (first given at line 7)`}},
+		{"unknown extension", "sources: [data.csv]", "sources: [data.xlsx]",
+			[]string{`sources[0]: cannot tell the format of "data.xlsx" from its extension; add format: (one of csv, parquet)`}},
+		{"reserved key column", "value: qty}", "value: qty, keys: [method]}",
+			[]string{`columns.keys[0]: key column "method" has the name of an output column`}},
+		{"wrong version", "version: 1", "version: 2",
+			[]string{`m.yaml:1:10: version: unsupported spec format version 2; this almanac reads version 1`}},
+		{"yaml syntax", "horizon: 6", "horizon: [6",
+			[]string{`m.yaml:6:1: YAML syntax error (at or just after this line): did not find expected ',' or ']'`}},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			src := strings.Replace(minimal, c.from, c.to, 1)
+			if src == minimal {
+				t.Fatalf("edit %q did not apply", c.from)
+			}
+			_, err := Parse([]byte(src), "m.yaml")
+			var list ErrorList
+			if !errors.As(err, &list) {
+				t.Fatalf("got %v, want an ErrorList", err)
+			}
+			msg := list.Error()
+			for _, w := range c.want {
+				i := strings.Index(msg, w)
+				if i < 0 {
+					t.Fatalf("error\n%s\ndoes not contain\n%s", msg, w)
+				}
+				msg = msg[i+len(w):]
+			}
+		})
+	}
+}
+
+func TestAllErrorsInOnePass(t *testing.T) {
+	src := `version: 1
+name: bad name
+sources: []
+columns: {time: d}
+calendar: {frequency: fortnight}
+methods: [nave]
+horizon: 0
+colour: blue
+`
+	_, err := Parse([]byte(src), "x.yaml")
+	var list ErrorList
+	if !errors.As(err, &list) {
+		t.Fatalf("got %v", err)
+	}
+	if len(list) != 7 {
+		t.Fatalf("got %d errors, want 7:\n%s", len(list), list.Error())
+	}
+	for i := 1; i < len(list); i++ {
+		if list[i].Line < list[i-1].Line {
+			t.Errorf("errors out of file order:\n%s", list.Error())
+		}
+	}
+}
+
+func TestPretty(t *testing.T) {
+	src := strings.Replace(minimal, "horizon: 6", "horizon: x", 1)
+	_, err := Parse([]byte(src), "m.yaml")
+	got := err.(ErrorList).Pretty([]byte(src))
+	want := "m.yaml:7:10: horizon: expected the forecast horizon (a whole number of periods), found the string \"x\"\n     7 | horizon: x\n       |          ^\n"
+	if got != want {
+		t.Errorf("Pretty =\n%q\nwant\n%q", got, want)
+	}
+}
+
+func TestAliasBomb(t *testing.T) {
+	var b strings.Builder
+	b.WriteString(minimal)
+	b.WriteString("x0: &a0 [1,1,1,1,1,1,1,1,1,1]\n")
+	for i := 1; i < 9; i++ {
+		b.WriteString("x" + string(rune('0'+i)) + ": &a" + string(rune('0'+i)) + " [")
+		for j := 0; j < 10; j++ {
+			if j > 0 {
+				b.WriteString(",")
+			}
+			b.WriteString("*a" + string(rune('0'+i-1)))
+		}
+		b.WriteString("]\n")
+	}
+	b.WriteString("methods2: *a8\n")
+	_, err := Parse([]byte(b.String()), "bomb.yaml")
+	if err == nil || !strings.Contains(err.Error(), "unknown key") {
+		t.Fatalf("want unknown-key errors, got %v", err)
+	}
+	// The same bomb under a key that is decoded must stop at the limit.
+	src := strings.Replace(b.String(), "methods: [naive]\n", "", 1)
+	src = strings.Replace(src, "methods2: *a8", "methods: *a8", 1)
+	_, err = Parse([]byte(src), "bomb.yaml")
+	if err == nil || !strings.Contains(err.Error(), "YAML aliases expand to more than") {
+		t.Fatalf("want alias limit error, got %v", err)
+	}
+}
+
+func TestSpecTooLarge(t *testing.T) {
+	dir := t.TempDir()
+	p := filepath.Join(dir, "big.yaml")
+	big := minimal + "# " + strings.Repeat("x", int(MaxSpecBytes)) + "\n"
+	if err := os.WriteFile(p, []byte(big), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	_, err := Load(p)
+	if err == nil || !strings.Contains(err.Error(), "the limit is 1048576 bytes") || !strings.Contains(err.Error(), p) {
+		t.Fatalf("got %v", err)
+	}
+}
+
+func TestCanonicalIgnoresStyle(t *testing.T) {
+	a, err := Parse([]byte(minimal), "a.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	restyled := `# same run, other style
+horizon: 6
+methods:
+  - method: naive
+    label: naive
+calendar:
+  frequency: month
+  season_length: 12
+columns:
+  value: qty
+  time: date
+sources:
+  - path: data.csv
+    format: csv
+name: t
+version: 1
+shaping: {gaps: zero, combine: sum}
+output: runs/t
+`
+	b, err := Parse([]byte(restyled), "b.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if string(a.Canonical()) != string(b.Canonical()) || a.Hash() != b.Hash() {
+		t.Errorf("canonical forms differ:\n%s\n%s", a.Canonical(), b.Canonical())
+	}
+	c, _ := Parse([]byte(strings.Replace(minimal, "horizon: 6", "horizon: 7", 1)), "c.yaml")
+	if c.Hash() == a.Hash() {
+		t.Error("a changed horizon kept the hash")
+	}
+	if len(a.Hash()) != 64 {
+		t.Errorf("hash %q is not hex SHA-256", a.Hash())
+	}
+}
