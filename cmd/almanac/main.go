@@ -1,0 +1,273 @@
+// Command almanac runs declarative forecast specs: it reads the tables a
+// spec names, shapes them into series, decomposes and forecasts each, and
+// writes Parquet tables into a run folder.
+//
+// Exit codes: 0 success; 1 the run failed (bad data, unreadable input,
+// output refused); 2 the spec or the command line is wrong.
+package main
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"os/signal"
+	"runtime"
+	"syscall"
+	"time"
+
+	"github.com/schollz/progressbar/v3"
+	"github.com/urfave/cli/v2"
+	"golang.org/x/term"
+
+	"almanac/pipeline"
+	"almanac/spec"
+)
+
+// Exit codes, defined once.
+const (
+	exitOK   = 0
+	exitRun  = 1
+	exitSpec = 2
+)
+
+// exitError carries an exit code through urfave/cli.
+type exitError struct {
+	code int
+	err  error
+}
+
+func (e *exitError) Error() string { return e.err.Error() }
+func (e *exitError) Unwrap() error { return e.err }
+
+func main() {
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	code := run(ctx, os.Args, os.Stdout, os.Stderr)
+	stop()
+	os.Exit(code)
+}
+
+// run is the whole program: it parses args, does the work, and maps any
+// error to an exit code.
+func run(ctx context.Context, args []string, stdout, stderr io.Writer) int {
+	app := newApp(stdout, stderr)
+	err := app.RunContext(ctx, args)
+	if err == nil {
+		return exitOK
+	}
+	var ee *exitError
+	if errors.As(err, &ee) {
+		if ee.err != nil && ee.err.Error() != "" {
+			fmt.Fprintln(stderr, ee.err)
+		}
+		return ee.code
+	}
+	// urfave/cli reports flag and command mistakes as plain errors.
+	fmt.Fprintln(stderr, "almanac:", err)
+	return exitSpec
+}
+
+func newApp(stdout, stderr io.Writer) *cli.App {
+	return &cli.App{
+		Name:            "almanac",
+		Usage:           "run declarative forecast specs: CSV/Parquet in, forecasts as Parquet out",
+		Version:         pipeline.Version,
+		Writer:          stdout,
+		ErrWriter:       stderr,
+		HideHelpCommand: true,
+		ExitErrHandler:  func(*cli.Context, error) {}, // run maps errors to exit codes
+		Commands: []*cli.Command{
+			{
+				Name:      "check",
+				Usage:     "validate specs; list every error with file:line:col",
+				ArgsUsage: "SPEC...",
+				Action:    checkCmd,
+			},
+			{
+				Name:      "plan",
+				Usage:     "print the compiled stages, inputs, series count and methods; fits nothing, writes nothing",
+				ArgsUsage: "SPEC",
+				Flags:     []cli.Flag{outFlag()},
+				Action:    planCmd,
+			},
+			{
+				Name:      "run",
+				Usage:     "run a spec and write its run folder",
+				ArgsUsage: "SPEC",
+				Flags: []cli.Flag{
+					outFlag(),
+					&cli.IntFlag{Name: "workers", Aliases: []string{"w"}, Value: runtime.NumCPU(), Usage: "series processed in parallel"},
+					&cli.BoolFlag{Name: "quiet", Aliases: []string{"q"}, Usage: "no progress output"},
+				},
+				Action: runCmd,
+			},
+		},
+	}
+}
+
+func outFlag() cli.Flag {
+	return &cli.StringFlag{Name: "out", Aliases: []string{"o"}, Usage: "run folder, instead of the spec's output"}
+}
+
+// loadSpec is the one loader check, plan and run share.
+func loadSpec(path string, stderr io.Writer) (*spec.Spec, error) {
+	s, err := spec.Load(path)
+	if err == nil {
+		return s, nil
+	}
+	var list spec.ErrorList
+	if errors.As(err, &list) {
+		src, _ := os.ReadFile(path)
+		fmt.Fprint(stderr, list.Pretty(src))
+		noun := "errors"
+		if len(list) == 1 {
+			noun = "error"
+		}
+		return nil, &exitError{exitSpec, fmt.Errorf("%s: %d %s", path, len(list), noun)}
+	}
+	return nil, &exitError{exitSpec, err}
+}
+
+func oneSpec(c *cli.Context) (string, error) {
+	if c.NArg() != 1 {
+		return "", &exitError{exitSpec, fmt.Errorf("almanac %s: expected one SPEC argument, got %d", c.Command.Name, c.NArg())}
+	}
+	return c.Args().First(), nil
+}
+
+func checkCmd(c *cli.Context) error {
+	if c.NArg() == 0 {
+		return &exitError{exitSpec, errors.New("almanac check: expected at least one SPEC argument")}
+	}
+	bad := 0
+	for _, path := range c.Args().Slice() {
+		s, err := loadSpec(path, c.App.ErrWriter)
+		if err != nil {
+			var ee *exitError
+			if errors.As(err, &ee) {
+				fmt.Fprintln(c.App.ErrWriter, ee.err)
+			}
+			bad++
+			continue
+		}
+		fmt.Fprintf(c.App.Writer, "%s: ok (%s, %d method(s), sha256 %s)\n", path, s.Name, len(s.Methods), s.Hash()[:16])
+	}
+	if bad > 0 {
+		return &exitError{exitSpec, nil}
+	}
+	return nil
+}
+
+func planCmd(c *cli.Context) error {
+	path, err := oneSpec(c)
+	if err != nil {
+		return err
+	}
+	s, err := loadSpec(path, c.App.ErrWriter)
+	if err != nil {
+		return err
+	}
+	p, err := pipeline.MakePlan(c.Context, s, pipeline.Options{Out: c.String("out")})
+	if err != nil {
+		return &exitError{exitRun, err}
+	}
+	p.Print(c.App.Writer)
+	return nil
+}
+
+func runCmd(c *cli.Context) error {
+	path, err := oneSpec(c)
+	if err != nil {
+		return err
+	}
+	s, err := loadSpec(path, c.App.ErrWriter)
+	if err != nil {
+		return err
+	}
+	workers := c.Int("workers")
+	if workers < 1 {
+		return &exitError{exitSpec, fmt.Errorf("almanac run: --workers must be at least 1, got %d", workers)}
+	}
+	opts := pipeline.Options{Out: c.String("out"), Workers: workers}
+	if !c.Bool("quiet") {
+		if f, ok := c.App.ErrWriter.(*os.File); ok && term.IsTerminal(int(f.Fd())) {
+			opts.Progress = &barProgress{out: f}
+		} else {
+			opts.Progress = &lineProgress{out: c.App.ErrWriter}
+			opts.Log = c.App.ErrWriter
+		}
+	}
+	sum, err := pipeline.Run(c.Context, s, opts)
+	if err != nil {
+		return &exitError{exitRun, fmt.Errorf("almanac run %s: %v", path, err)}
+	}
+	printSummary(c.App.Writer, sum)
+	return nil
+}
+
+func printSummary(w io.Writer, sum *pipeline.Summary) {
+	m := sum.Manifest
+	var fc int64
+	for _, t := range m.Tables {
+		if t.Name == pipeline.TableForecasts {
+			fc = t.Rows
+		}
+	}
+	fmt.Fprintf(w, "%s: %d series, %d method(s), %d forecast rows in %.2fs\n", m.Spec.Name, m.Series, len(m.Methods), fc, m.Seconds)
+	for _, mm := range m.Methods {
+		fmt.Fprintf(w, "  %-28s forecast %d of %d series\n", mm.Label, mm.Series, m.Series)
+	}
+	fmt.Fprintf(w, "problems: %d error(s), %d warning(s)", m.Problems.Errors, m.Problems.Warnings)
+	if m.Problems.Errors+m.Problems.Warnings > 0 {
+		fmt.Fprintf(w, " — see problems.parquet")
+	}
+	fmt.Fprintf(w, "\ntables:   %s\n", sum.Dir)
+}
+
+// barProgress draws a progress bar on a terminal.
+type barProgress struct {
+	out *os.File
+	bar *progressbar.ProgressBar
+}
+
+func (b *barProgress) Start(total int) {
+	b.bar = progressbar.NewOptions(total,
+		progressbar.OptionSetWriter(b.out),
+		progressbar.OptionSetDescription("series"),
+		progressbar.OptionShowCount(),
+		progressbar.OptionShowIts(),
+		progressbar.OptionSetItsString("series"),
+		progressbar.OptionSetPredictTime(true),
+		progressbar.OptionThrottle(100*time.Millisecond),
+		progressbar.OptionClearOnFinish(),
+	)
+}
+func (b *barProgress) Add(n int) { b.bar.Add(n) }
+func (b *barProgress) Finish()   { b.bar.Finish() }
+
+// lineProgress writes a plain line at each tenth of the work, for logs.
+type lineProgress struct {
+	out        io.Writer
+	total      int
+	done, next int
+	start      time.Time
+}
+
+func (l *lineProgress) Start(total int) {
+	l.total, l.start = total, time.Now()
+	l.next = max(1, total/10)
+}
+
+func (l *lineProgress) Add(n int) {
+	l.done += n
+	if l.done >= l.next || l.done == l.total {
+		el := time.Since(l.start).Seconds()
+		rate := float64(l.done) / max(el, 1e-9)
+		eta := float64(l.total-l.done) / max(rate, 1e-9)
+		fmt.Fprintf(l.out, "series %d/%d (%.0f%%), %.0f series/s, eta %.0fs\n", l.done, l.total, 100*float64(l.done)/float64(max(l.total, 1)), rate, eta)
+		l.next += max(1, l.total/10)
+	}
+}
+
+func (l *lineProgress) Finish() {}

@@ -1,0 +1,136 @@
+package pipeline
+
+import (
+	"context"
+	"fmt"
+	"io"
+	"sort"
+	"strings"
+
+	"almanac/spec"
+)
+
+// Plan is a compiled spec: the stages a run would execute, on which inputs,
+// for how many series. Making a plan reads and shapes the input (to count
+// series) but fits no method and writes nothing.
+type Plan struct {
+	Spec    *spec.Spec
+	Out     string
+	Inputs  []InputFile
+	Rows    int64
+	Series  int
+	Periods struct{ Min, Max int }
+	First   string // earliest period in the data
+	Last    string // latest period in the data
+	cal     calendar
+}
+
+// MakePlan compiles s and counts what a run would process.
+func MakePlan(ctx context.Context, s *spec.Spec, opts Options) (*Plan, error) {
+	target, err := OutputDir(s, opts)
+	if err != nil {
+		return nil, err
+	}
+	if _, _, err := compileMethods(s); err != nil {
+		return nil, err
+	}
+	files, err := resolveSources(s)
+	if err != nil {
+		return nil, err
+	}
+	if err := checkTarget(target, files); err != nil {
+		return nil, err
+	}
+	cal := calendar{freq: s.Calendar.Frequency, season: s.Calendar.SeasonLength}
+	rs, err := readInputs(ctx, s, files, cal)
+	if err != nil {
+		return nil, err
+	}
+	series, err := shapeRows(rs, s.Shaping, cal, s.Columns.Keys)
+	if err != nil {
+		return nil, err
+	}
+	p := &Plan{Spec: s, Out: target, Inputs: files, Rows: int64(len(rs.periods)), Series: len(series), cal: cal}
+	if len(series) > 0 {
+		p.Periods.Min = 1 << 62
+		lo, hi := series[0].Start, series[0].Start
+		for _, se := range series {
+			n := len(se.Values)
+			p.Periods.Min = min(p.Periods.Min, n)
+			p.Periods.Max = max(p.Periods.Max, n)
+			lo = min(lo, se.Start)
+			hi = max(hi, se.Start+int64(n)-1)
+		}
+		p.First, p.Last = cal.label(lo), cal.label(hi)
+	}
+	return p, nil
+}
+
+// Print writes the plan for people.
+func (p *Plan) Print(w io.Writer) {
+	s := p.Spec
+	fmt.Fprintf(w, "spec     %s (sha256 %s)\n", s.Name, s.Hash()[:16])
+	fmt.Fprintf(w, "output   %s\n\n", p.Out)
+	fmt.Fprintf(w, "1. read      %d file(s), %d rows\n", len(p.Inputs), p.Rows)
+	for _, f := range p.Inputs {
+		fmt.Fprintf(w, "               %s  (%s, %s)\n", f.Path, f.Format, humanBytes(f.Size))
+	}
+	fmt.Fprintf(w, "             columns: time %q, value %q, keys %s\n", s.Columns.Time, s.Columns.Value, listOrNone(s.Columns.Keys))
+	fmt.Fprintf(w, "2. shape     %s periods, season length %d; rows in one period: %s; missing periods: %s\n",
+		s.Calendar.Frequency, s.Calendar.SeasonLength, s.Shaping.Combine, s.Shaping.Gaps)
+	fmt.Fprintf(w, "3. split     %d series", p.Series)
+	if p.Series > 0 {
+		fmt.Fprintf(w, ", %d to %d periods each, %s … %s", p.Periods.Min, p.Periods.Max, p.First, p.Last)
+	}
+	fmt.Fprintln(w)
+	if s.Calendar.SeasonLength >= 2 {
+		fmt.Fprintf(w, "4. decompose classical, %s, factors averaged by %s  → components, seasonal_factors\n", s.Decomposition.Form, s.Decomposition.Average)
+	} else {
+		fmt.Fprintf(w, "4. decompose skipped (season length 1)\n")
+	}
+	fmt.Fprintf(w, "5. forecast  %d step(s) ahead with %d method(s)  → forecasts\n", s.Horizon, len(s.Methods))
+	for _, m := range s.Methods {
+		opts := make([]string, 0, len(m.Options))
+		for _, k := range sortedKeysAny(m.Options) {
+			opts = append(opts, fmt.Sprintf("%s=%v", k, m.Options[k]))
+		}
+		label := m.Label
+		if label != m.Method {
+			label += " (" + m.Method + ")"
+		}
+		fmt.Fprintf(w, "               %-28s %s\n", label, strings.Join(opts, " "))
+	}
+	fmt.Fprintf(w, "6. write     forecasts, components, seasonal_factors, problems (.parquet), manifest.json\n")
+}
+
+func sortedKeysAny(m map[string]any) []string {
+	out := make([]string, 0, len(m))
+	for k := range m {
+		out = append(out, k)
+	}
+	sort.Strings(out)
+	return out
+}
+
+func listOrNone(xs []string) string {
+	if len(xs) == 0 {
+		return "(none: one series)"
+	}
+	q := make([]string, len(xs))
+	for i, x := range xs {
+		q[i] = fmt.Sprintf("%q", x)
+	}
+	return strings.Join(q, ", ")
+}
+
+func humanBytes(n int64) string {
+	switch {
+	case n >= 1<<30:
+		return fmt.Sprintf("%.1f GiB", float64(n)/(1<<30))
+	case n >= 1<<20:
+		return fmt.Sprintf("%.1f MiB", float64(n)/(1<<20))
+	case n >= 1<<10:
+		return fmt.Sprintf("%.1f KiB", float64(n)/(1<<10))
+	}
+	return fmt.Sprintf("%d B", n)
+}

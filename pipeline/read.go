@@ -1,0 +1,347 @@
+package pipeline
+
+import (
+	"context"
+	"crypto/sha256"
+	"encoding/csv"
+	"encoding/hex"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"sort"
+	"strconv"
+	"strings"
+	"unicode/utf8"
+
+	"almanac/spec"
+)
+
+// InputFile is one file a run read, as recorded in the manifest.
+type InputFile struct {
+	Path   string `json:"path"` // as resolved from the spec's source, relative to the spec's folder when below it
+	Format string `json:"format"`
+	Size   int64  `json:"size"`
+	SHA256 string `json:"sha256"`
+	Rows   int64  `json:"rows"`
+	abs    string
+	source int // index into the spec's sources
+}
+
+// rowSet holds every input row in columns: the interned series key, the
+// period, the value (NaN when missing) and where the row came from.
+type rowSet struct {
+	keyIDs  []int32
+	periods []int64
+	values  []float64
+	files   []int32 // index into files
+	lines   []int64 // CSV line, or Parquet row number (1-based)
+
+	keys      [][]string // by key id
+	keyIndex  map[string]int32
+	keyBuf    []byte
+	files_    []InputFile
+	missing   int64 // rows whose value was empty or NaN
+	keyBlanks int64 // rows whose key had an empty component
+}
+
+func newRowSet() *rowSet {
+	return &rowSet{keyIndex: map[string]int32{}}
+}
+
+func (r *rowSet) internKey(parts []string) int32 {
+	r.keyBuf = r.keyBuf[:0]
+	for i, p := range parts {
+		if i > 0 {
+			r.keyBuf = append(r.keyBuf, 0)
+		}
+		r.keyBuf = append(r.keyBuf, p...)
+	}
+	if id, ok := r.keyIndex[string(r.keyBuf)]; ok {
+		return id
+	}
+	id := int32(len(r.keys))
+	r.keyIndex[string(r.keyBuf)] = id
+	r.keys = append(r.keys, append([]string(nil), parts...))
+	return id
+}
+
+func (r *rowSet) add(key int32, period int64, value float64, file int32, line int64) {
+	r.keyIDs = append(r.keyIDs, key)
+	r.periods = append(r.periods, period)
+	r.values = append(r.values, value)
+	r.files = append(r.files, file)
+	r.lines = append(r.lines, line)
+	if math.IsNaN(value) {
+		r.missing++
+	}
+}
+
+func (r *rowSet) where(i int) string {
+	f := r.files_[r.files[i]]
+	if f.Format == string(spec.FormatParquet) {
+		return fmt.Sprintf("%s: row %d", f.Path, r.lines[i])
+	}
+	return fmt.Sprintf("%s:%d", f.Path, r.lines[i])
+}
+
+// DataError is bad input data: it names the file and line (or row).
+type DataError struct {
+	Msgs []string
+}
+
+func (e *DataError) Error() string { return strings.Join(e.Msgs, "\n") }
+
+// maxDataErrors is how many bad rows are reported before reading stops.
+const maxDataErrors = 20
+
+// resolveSources expands every source's path or glob, relative to the spec's
+// folder, into files in sorted order.
+func resolveSources(s *spec.Spec) ([]InputFile, error) {
+	var out []InputFile
+	seen := map[string]bool{}
+	for i, src := range s.Sources {
+		pattern := src.Path
+		if !filepath.IsAbs(pattern) {
+			pattern = filepath.Join(s.Dir, pattern)
+		}
+		matches, err := filepath.Glob(pattern)
+		if err != nil {
+			return nil, fmt.Errorf("%s: sources[%d]: bad glob %q: %v", s.File, i, src.Path, err)
+		}
+		if len(matches) == 0 {
+			if hasMeta(src.Path) {
+				return nil, fmt.Errorf("%s: sources[%d]: the pattern %q matches no files (looked in %s)", s.File, i, src.Path, filepath.Dir(pattern))
+			}
+			return nil, fmt.Errorf("%s: sources[%d]: source file %q does not exist (looked for %s)", s.File, i, src.Path, pattern)
+		}
+		sort.Strings(matches)
+		for _, m := range matches {
+			st, err := os.Stat(m)
+			if err != nil {
+				return nil, fmt.Errorf("%s: sources[%d]: %v", s.File, i, err)
+			}
+			if st.IsDir() {
+				return nil, fmt.Errorf("%s: sources[%d]: %q matches the folder %s; sources must be files (use a pattern such as %s)", s.File, i, src.Path, relTo(s.Dir, m), filepath.Join(src.Path, "*."+string(src.Format)))
+			}
+			if seen[m] {
+				continue
+			}
+			seen[m] = true
+			out = append(out, InputFile{Path: relTo(s.Dir, m), Format: string(src.Format), Size: st.Size(), abs: m, source: i})
+		}
+	}
+	return out, nil
+}
+
+func hasMeta(p string) bool { return strings.ContainsAny(p, "*?[") }
+
+// relTo shows path relative to dir when it lies below dir, else absolute.
+func relTo(dir, path string) string {
+	if r, err := filepath.Rel(dir, path); err == nil && !strings.HasPrefix(r, "..") {
+		return filepath.ToSlash(r)
+	}
+	return path
+}
+
+// readInputs reads every input file into one rowSet.
+func readInputs(ctx context.Context, s *spec.Spec, files []InputFile, cal calendar) (*rowSet, error) {
+	rs := newRowSet()
+	rs.files_ = files
+	for i := range files {
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
+		f := &files[i]
+		var err error
+		switch f.Format {
+		case string(spec.FormatCSV):
+			err = readCSV(s, f, int32(i), s.Sources[f.source], cal, rs)
+		case string(spec.FormatParquet):
+			err = readParquet(s, f, int32(i), cal, rs)
+		default:
+			err = fmt.Errorf("%s: unknown format %q", f.Path, f.Format)
+		}
+		if err != nil {
+			return nil, err
+		}
+	}
+	return rs, nil
+}
+
+// hashingReader hashes what is read through it.
+type hashingReader struct {
+	r io.Reader
+	h interface {
+		io.Writer
+		Sum([]byte) []byte
+	}
+}
+
+func (h *hashingReader) Read(p []byte) (int, error) {
+	n, err := h.r.Read(p)
+	h.h.Write(p[:n])
+	return n, err
+}
+
+func hashFile(path string) (string, error) {
+	fh, err := os.Open(path)
+	if err != nil {
+		return "", err
+	}
+	defer fh.Close()
+	h := sha256.New()
+	if _, err := io.Copy(h, fh); err != nil {
+		return "", err
+	}
+	return hex.EncodeToString(h.Sum(nil)), nil
+}
+
+func readCSV(s *spec.Spec, f *InputFile, fileIdx int32, src spec.Source, cal calendar, rs *rowSet) error {
+	fh, err := os.Open(f.abs)
+	if err != nil {
+		return fmt.Errorf("%s: %v", f.Path, err)
+	}
+	defer fh.Close()
+	hr := &hashingReader{r: fh, h: sha256.New()}
+	cr := csv.NewReader(hr)
+	cr.ReuseRecord = true
+	cr.FieldsPerRecord = 0
+	if src.Delimiter != "" {
+		cr.Comma, _ = utf8.DecodeRuneInString(src.Delimiter)
+	}
+	header, err := cr.Read()
+	if err == io.EOF {
+		return fmt.Errorf("%s: the file is empty; expected a header line naming the columns %s", f.Path, strings.Join(wantedColumns(s), ", "))
+	}
+	if err != nil {
+		return csvError(f.Path, err)
+	}
+	header = append([]string(nil), header...)
+	if len(header) > 0 {
+		header[0] = strings.TrimPrefix(header[0], "\ufeff")
+	}
+	for i := range header {
+		header[i] = strings.TrimSpace(header[i])
+	}
+	idx, err := columnIndexes(f.Path, header, s)
+	if err != nil {
+		return err
+	}
+	timeIdx, valueIdx, keyIdx := idx[0], idx[1], idx[2:]
+	keyParts := make([]string, len(keyIdx))
+	var errs []string
+	var rows int64
+	for {
+		rec, err := cr.Read()
+		if err == io.EOF {
+			break
+		}
+		if err != nil {
+			errs = append(errs, csvError(f.Path, err).Error())
+			break
+		}
+		rows++
+		line, _ := cr.FieldPos(timeIdx)
+		tv := strings.TrimSpace(rec[timeIdx])
+		p, terr := cal.parse(tv)
+		if terr != nil {
+			errs = append(errs, fmt.Sprintf("%s:%d: column %q: %v", f.Path, line, s.Columns.Time, terr))
+		}
+		v, verr := parseValue(rec[valueIdx])
+		if verr != nil {
+			vl, _ := cr.FieldPos(valueIdx)
+			errs = append(errs, fmt.Sprintf("%s:%d: column %q: %v", f.Path, vl, s.Columns.Value, verr))
+		}
+		if len(errs) >= maxDataErrors {
+			errs = append(errs, fmt.Sprintf("%s: stopped after %d errors", f.Path, maxDataErrors))
+			break
+		}
+		if terr != nil || verr != nil {
+			continue
+		}
+		for j, k := range keyIdx {
+			keyParts[j] = rec[k]
+			if rec[k] == "" {
+				rs.keyBlanks++
+			}
+		}
+		rs.add(rs.internKey(keyParts), p, v, fileIdx, int64(line))
+	}
+	if len(errs) > 0 {
+		return &DataError{Msgs: errs}
+	}
+	// Drain what the csv reader did not consume so the hash covers the file.
+	if _, err := io.Copy(io.Discard, hr); err != nil {
+		return fmt.Errorf("%s: %v", f.Path, err)
+	}
+	f.Rows = rows
+	f.SHA256 = hex.EncodeToString(hr.h.Sum(nil))
+	return nil
+}
+
+func csvError(path string, err error) error {
+	var pe *csv.ParseError
+	if errors.As(err, &pe) {
+		if errors.Is(pe.Err, csv.ErrFieldCount) {
+			return fmt.Errorf("%s:%d: this line has a different number of fields from the header", path, pe.Line)
+		}
+		return fmt.Errorf("%s:%d:%d: CSV: %v", path, pe.Line, pe.Column, pe.Err)
+	}
+	return fmt.Errorf("%s: %v", path, err)
+}
+
+func wantedColumns(s *spec.Spec) []string {
+	return append([]string{s.Columns.Time, s.Columns.Value}, s.Columns.Keys...)
+}
+
+// columnIndexes finds the time, value and key columns in a header.
+func columnIndexes(path string, header []string, s *spec.Spec) ([]int, error) {
+	pos := map[string]int{}
+	for i, h := range header {
+		if _, dup := pos[h]; !dup {
+			pos[h] = i
+		}
+	}
+	var out []int
+	var missing []string
+	for _, want := range wantedColumns(s) {
+		i, ok := pos[want]
+		if !ok {
+			missing = append(missing, fmt.Sprintf("%q", want))
+			continue
+		}
+		out = append(out, i)
+	}
+	if len(missing) > 0 {
+		present := make([]string, len(header))
+		for i, h := range header {
+			present[i] = fmt.Sprintf("%q", h)
+		}
+		return nil, fmt.Errorf("%s: column %s named in the spec is not in the file; columns present: %s",
+			path, strings.Join(missing, ", "), strings.Join(present, ", "))
+	}
+	return out, nil
+}
+
+// parseValue reads a number. Empty text, NA and NaN are a missing value;
+// infinities and anything else that is not a plain number are errors.
+func parseValue(s string) (float64, error) {
+	t := strings.TrimSpace(s)
+	switch t {
+	case "", "NA", "NaN", "nan", "NAN", "null", "NULL":
+		return math.NaN(), nil
+	}
+	v, err := strconv.ParseFloat(t, 64)
+	if err != nil || math.IsInf(v, 0) || math.IsNaN(v) || strings.ContainsAny(t, "xXpP_") {
+		hint := ""
+		if strings.Contains(t, ",") {
+			hint = " (a comma is not read as a decimal point or thousands separator; export plain numbers such as 1234.5)"
+		}
+		return 0, fmt.Errorf("%q is not a number%s", s, hint)
+	}
+	return v, nil
+}
+

@@ -1,0 +1,683 @@
+// Package pipeline compiles an almanac spec into stages and runs them:
+// read → shape → split → decompose → forecast → write. It owns Arrow,
+// dates, keys and files; the numerics live in package engines.
+package pipeline
+
+import (
+	"context"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"runtime"
+	"runtime/debug"
+	"strings"
+	"sync"
+	"time"
+
+	"github.com/apache/arrow-go/v18/arrow/memory"
+
+	"almanac/engines"
+	"almanac/spec"
+)
+
+// Progress receives the count of series written. Implementations must be
+// safe to call from the goroutine that runs the pipeline.
+type Progress interface {
+	Start(total int)
+	Add(n int)
+	Finish()
+}
+
+// Options are the run's settings that are not part of the spec: they may
+// change how fast a run goes, never what it writes.
+type Options struct {
+	Out      string           // run folder; overrides the spec's output (relative to the working directory)
+	Workers  int              // parallel series workers; 0 means runtime.NumCPU()
+	Progress Progress         // may be nil
+	Log      io.Writer        // plain progress lines; may be nil
+	Mem      memory.Allocator // nil means memory.DefaultAllocator
+
+	// beforeCommit, when set, runs after every table is written and before
+	// the run folder is committed; tests use it to inject a failure.
+	beforeCommit func(staging string) error
+	// wrapMethod, when set, wraps each method; tests use it to inject faults.
+	wrapMethod func(engines.Method) engines.Method
+}
+
+// Summary is what a run reports when it finishes.
+type Summary struct {
+	Dir      string
+	Manifest *Manifest
+}
+
+// methodRun is a compiled method of the spec.
+type methodRun struct {
+	spec   spec.MethodSpec
+	method engines.Method
+}
+
+// problem is one row of the problems table.
+type problem struct {
+	key      []string // nil for run-level problems
+	stage    string
+	severity string
+	method   string
+	message  string
+}
+
+// seriesResult is everything one series contributes to the tables.
+type seriesResult struct {
+	series    *Series
+	decomp    *engines.Decomposition
+	forecasts []methodForecast
+	problems  []problem
+}
+
+type methodForecast struct {
+	label  string
+	model  string
+	values []float64
+}
+
+// OutputDir is where a run of s with opts writes.
+func OutputDir(s *spec.Spec, opts Options) (string, error) {
+	if opts.Out != "" {
+		return filepath.Abs(opts.Out)
+	}
+	if filepath.IsAbs(s.Output) {
+		return filepath.Clean(s.Output), nil
+	}
+	return filepath.Join(s.Dir, s.Output), nil
+}
+
+func compileMethods(s *spec.Spec) ([]methodRun, engines.Decomposer, error) {
+	var runs []methodRun
+	for i, m := range s.Methods {
+		em, err := engines.New(m.Method, engines.Options(m.Options))
+		if err != nil {
+			return nil, nil, fmt.Errorf("%s: methods[%d]: %v", s.File, i, err)
+		}
+		runs = append(runs, methodRun{spec: m, method: em})
+	}
+	if s.Calendar.SeasonLength < 2 {
+		return runs, nil, nil
+	}
+	dm, err := engines.New("classical", engines.Options{"form": string(s.Decomposition.Form), "average": s.Decomposition.Average})
+	if err != nil {
+		return nil, nil, err
+	}
+	dec, ok := dm.(engines.Decomposer)
+	if !ok {
+		return nil, nil, errors.New("pipeline: the classical method does not decompose")
+	}
+	return runs, dec, nil
+}
+
+type stageClock struct {
+	stages []StageTiming
+	last   time.Time
+}
+
+func (c *stageClock) lap(name string) {
+	now := time.Now()
+	c.stages = append(c.stages, StageTiming{Stage: name, Seconds: math.Round(now.Sub(c.last).Seconds()*1e6) / 1e6})
+	c.last = now
+}
+
+// Run executes the spec and commits the run folder. On any error nothing
+// is left at the target except what was there before.
+func Run(ctx context.Context, s *spec.Spec, opts Options) (*Summary, error) {
+	started := time.Now()
+	clock := &stageClock{last: started}
+	workers := opts.Workers
+	if workers <= 0 {
+		workers = runtime.NumCPU()
+	}
+	mem := opts.Mem
+	if mem == nil {
+		mem = memory.DefaultAllocator
+	}
+	logf := func(format string, args ...any) {
+		if opts.Log != nil {
+			fmt.Fprintf(opts.Log, format+"\n", args...)
+		}
+	}
+	target, err := OutputDir(s, opts)
+	if err != nil {
+		return nil, err
+	}
+	cal := calendar{freq: s.Calendar.Frequency, season: s.Calendar.SeasonLength}
+	methods, decomposer, err := compileMethods(s)
+	if err != nil {
+		return nil, err
+	}
+	files, err := resolveSources(s)
+	if err != nil {
+		return nil, err
+	}
+	if err := checkTarget(target, files); err != nil {
+		return nil, err
+	}
+	clock.lap("plan")
+
+	rs, err := readInputs(ctx, s, files, cal)
+	if err != nil {
+		return nil, err
+	}
+	logf("read %d rows from %d file(s)", len(rs.periods), len(files))
+	clock.lap("read")
+	series, err := shapeRows(rs, s.Shaping, cal, s.Columns.Keys)
+	if err != nil {
+		return nil, err
+	}
+	rowsRead, missing, keyBlanks := int64(len(rs.periods)), rs.missing, rs.keyBlanks
+	rs = nil // the rows are in the series now
+	clock.lap("shape")
+	logf("shaped %d series", len(series))
+
+	staging, err := makeStaging(target)
+	if err != nil {
+		return nil, err
+	}
+	committed := false
+	defer func() {
+		if !committed {
+			os.RemoveAll(staging)
+		}
+	}()
+	meta := map[string]string{
+		"almanac.spec_sha256": s.Hash(),
+		"almanac.version":     Version,
+		"almanac.spec_name":   s.Name,
+	}
+	w, err := openTables(staging, s.Columns.Keys, meta, mem)
+	if err != nil {
+		return nil, err
+	}
+	defer w.abort()
+
+	// Run-level problems come first in the problems table.
+	if keyBlanks > 0 {
+		w.problem(problem{stage: "read", severity: "warning",
+			message: fmt.Sprintf("%d rows have an empty key value; they form series whose key holds an empty string", keyBlanks)})
+	}
+	if missing > 0 {
+		w.problem(problem{stage: "read", severity: "warning",
+			message: fmt.Sprintf("%d rows have an empty or NaN value; they count as missing", missing)})
+	}
+
+	if opts.Progress != nil {
+		opts.Progress.Start(len(series))
+	}
+	work := &seriesWork{spec: s, cal: cal, methods: methods, decomposer: decomposer, wrap: opts.wrapMethod}
+	err = forEachOrdered(ctx, len(series), workers, func(i int) *seriesResult {
+		return work.process(series[i])
+	}, func(i int, r *seriesResult) error {
+		series[i] = nil // written; let it go
+		if opts.Progress != nil {
+			opts.Progress.Add(1)
+		}
+		return w.write(r, cal)
+	})
+	if opts.Progress != nil {
+		opts.Progress.Finish()
+	}
+	if err != nil {
+		return nil, err
+	}
+	clock.lap("forecast")
+	if err := w.close(); err != nil {
+		return nil, err
+	}
+	clock.lap("write")
+
+	man := &Manifest{
+		Almanac:   Version,
+		GoVersion: runtime.Version(),
+		Spec: ManifestSpec{
+			Name: s.Name, File: s.File, SHA256: s.Hash(), Canonical: json.RawMessage(s.Canonical()),
+		},
+		Inputs:        files,
+		RowsRead:      rowsRead,
+		MissingValues: missing,
+		Series:        w.series,
+		Workers:       workers,
+		Problems:      ProblemCounts{Errors: w.errors, Warnings: w.warnings},
+		StartedAt:     started.UTC().Format(time.RFC3339Nano),
+	}
+	for _, m := range methods {
+		man.Methods = append(man.Methods, ManifestMethod{Label: m.spec.Label, Method: m.spec.Method, Options: m.spec.Options,
+			Series: w.methodSeries[m.spec.Label]})
+	}
+	for _, t := range w.tables() {
+		sum, err := hashFile(t.path)
+		if err != nil {
+			return nil, err
+		}
+		st, _ := os.Stat(t.path)
+		man.Tables = append(man.Tables, TableInfo{Name: t.name, File: t.name + ".parquet", Rows: t.rows, Bytes: st.Size(), SHA256: sum})
+	}
+	if opts.beforeCommit != nil {
+		if err := opts.beforeCommit(staging); err != nil {
+			return nil, err
+		}
+	}
+	clock.lap("commit")
+	man.Stages = clock.stages
+	man.FinishedAt = time.Now().UTC().Format(time.RFC3339Nano)
+	man.Seconds = math.Round(time.Since(started).Seconds()*1e6) / 1e6
+	if err := writeManifest(filepath.Join(staging, "manifest.json"), man); err != nil {
+		return nil, err
+	}
+	if err := commitStaging(staging, target); err != nil {
+		return nil, err
+	}
+	committed = true
+	return &Summary{Dir: target, Manifest: man}, nil
+}
+
+// forEachOrdered runs work(i) for i in [0, n) on the given number of
+// goroutines and calls emit(i, result) in index order from the calling
+// goroutine. At most a few results per worker wait to be emitted, so memory
+// stays bounded however large n is.
+func forEachOrdered[R any](ctx context.Context, n, workers int, work func(int) R, emit func(int, R) error) error {
+	if n == 0 {
+		return nil
+	}
+	ctx, cancel := context.WithCancel(ctx)
+	defer cancel()
+	window := workers * 4
+	tokens := make(chan struct{}, window)
+	jobs := make(chan int)
+	type done struct {
+		i int
+		r R
+	}
+	results := make(chan done, window)
+	var wg sync.WaitGroup
+	go func() {
+		defer close(jobs)
+		for i := 0; i < n; i++ {
+			select {
+			case tokens <- struct{}{}:
+			case <-ctx.Done():
+				return
+			}
+			select {
+			case jobs <- i:
+			case <-ctx.Done():
+				return
+			}
+		}
+	}()
+	for k := 0; k < workers; k++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := range jobs {
+				results <- done{i, work(i)}
+			}
+		}()
+	}
+	go func() { wg.Wait(); close(results) }()
+	pending := make(map[int]R, window)
+	next := 0
+	var err error
+	for d := range results {
+		if err != nil {
+			continue // drain
+		}
+		pending[d.i] = d.r
+		for {
+			r, ok := pending[next]
+			if !ok {
+				break
+			}
+			delete(pending, next)
+			if e := emit(next, r); e != nil {
+				err = e
+				cancel()
+				break
+			}
+			next++
+			<-tokens
+		}
+	}
+	if err == nil && next < n {
+		if cerr := ctx.Err(); cerr != nil {
+			return cerr
+		}
+		return fmt.Errorf("pipeline: %d of %d series were not processed", n-next, n)
+	}
+	return err
+}
+
+// seriesWork processes one series through decomposition and every method.
+type seriesWork struct {
+	spec       *spec.Spec
+	cal        calendar
+	methods    []methodRun
+	decomposer engines.Decomposer
+	wrap       func(engines.Method) engines.Method
+}
+
+func allMissing(y []float64) bool {
+	for _, v := range y {
+		if !math.IsNaN(v) {
+			return false
+		}
+	}
+	return true
+}
+
+func (w *seriesWork) process(s *Series) *seriesResult {
+	r := &seriesResult{series: s}
+	add := func(stage, severity, method, msg string) {
+		r.problems = append(r.problems, problem{key: s.Key, stage: stage, severity: severity, method: method, message: msg})
+	}
+	if allMissing(s.Values) {
+		add("shape", "error", "", fmt.Sprintf("all %d values are missing; no decomposition or forecast", len(s.Values)))
+		return r
+	}
+	m := w.spec.Calendar.SeasonLength
+	if w.decomposer != nil {
+		d, err := safeDecompose(w.decomposer, s.Values, m)
+		if err != nil {
+			add("decompose", "error", "", err.Error())
+		} else {
+			r.decomp = d
+			for _, msg := range d.Warnings {
+				add("decompose", "warning", "", msg)
+			}
+		}
+	}
+	h := w.spec.Horizon
+	for _, mr := range w.methods {
+		method := mr.method
+		if w.wrap != nil {
+			method = w.wrap(method)
+		}
+		label := mr.spec.Label
+		fc, model, warnings, err := safeForecast(method, s.Values, m, h)
+		if err != nil {
+			add("forecast", "error", label, err.Error())
+			continue
+		}
+		for _, msg := range warnings {
+			add("forecast", "warning", label, msg)
+		}
+		r.forecasts = append(r.forecasts, methodForecast{label: label, model: model, values: fc})
+	}
+	return r
+}
+
+func safeDecompose(d engines.Decomposer, y []float64, m int) (out *engines.Decomposition, err error) {
+	defer func() {
+		if p := recover(); p != nil {
+			out, err = nil, panicError(p)
+		}
+	}()
+	return d.Decompose(y, m)
+}
+
+// safeForecast fits and forecasts one method on one series. A panic inside
+// the method is caught and becomes an error for this series and method only.
+func safeForecast(m engines.Method, y []float64, season, h int) (fc []float64, model string, warnings []string, err error) {
+	defer func() {
+		if p := recover(); p != nil {
+			fc, err = nil, panicError(p)
+		}
+	}()
+	fitted, err := m.Fit(y, season)
+	if err != nil {
+		return nil, "", nil, err
+	}
+	fc = fitted.Forecast(h)
+	if len(fc) != h {
+		return nil, "", nil, fmt.Errorf("internal error: %s returned %d forecasts for a horizon of %d", m.Name(), len(fc), h)
+	}
+	model = m.Name()
+	if d, ok := fitted.(engines.Described); ok {
+		model = d.Describe()
+	}
+	if wr, ok := fitted.(engines.Warner); ok {
+		warnings = wr.Warnings()
+	}
+	return fc, model, warnings, nil
+}
+
+func panicError(p any) error {
+	stack := string(debug.Stack())
+	// Keep the first frame inside almanac to help a bug report.
+	frame := ""
+	for _, line := range strings.Split(stack, "\n") {
+		line = strings.TrimSpace(line)
+		if strings.Contains(line, "almanac/engines/") {
+			frame = line
+			break
+		}
+	}
+	if frame != "" {
+		if i := strings.LastIndex(frame, " +0x"); i > 0 {
+			frame = frame[:i]
+		}
+		if i := strings.Index(frame, "almanac/"); i >= 0 {
+			frame = frame[i:]
+		}
+		return fmt.Errorf("internal error (panic: %v at %s); the series was skipped for this method", p, frame)
+	}
+	return fmt.Errorf("internal error (panic: %v); the series was skipped for this method", p)
+}
+
+// runTables holds the open table writers of a run.
+type runTables struct {
+	forecasts, components, factors, problems *tableWriter
+	series                                   int
+	errors, warnings                         int
+	methodSeries                             map[string]int
+}
+
+func openTables(dir string, keys []string, meta map[string]string, mem memory.Allocator) (*runTables, error) {
+	rt := &runTables{methodSeries: map[string]int{}}
+	var err error
+	open := func(name string, cols []column) *tableWriter {
+		if err != nil {
+			return nil
+		}
+		var t *tableWriter
+		t, err = newTableWriter(dir, name, keys, cols, meta, mem)
+		return t
+	}
+	rt.forecasts = open(TableForecasts, forecastCols)
+	rt.components = open(TableComponents, componentCols)
+	rt.factors = open(TableSeasonalFactors, factorCols)
+	rt.problems = open(TableProblems, problemCols)
+	if err != nil {
+		rt.abort()
+		return nil, err
+	}
+	return rt, nil
+}
+
+func (rt *runTables) tables() []*tableWriter {
+	return []*tableWriter{rt.forecasts, rt.components, rt.factors, rt.problems}
+}
+
+func (rt *runTables) abort() {
+	for _, t := range rt.tables() {
+		if t != nil {
+			t.abort()
+		}
+	}
+}
+
+func (rt *runTables) close() error {
+	for _, t := range rt.tables() {
+		if err := t.close(); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+func (rt *runTables) problem(p problem) error {
+	t := rt.problems
+	t.key(p.key)
+	t.str(0, p.stage)
+	t.str(1, p.severity)
+	t.strOrNull(2, p.method)
+	t.str(3, p.message)
+	if p.severity == "error" {
+		rt.errors++
+	} else {
+		rt.warnings++
+	}
+	return t.endRow()
+}
+
+func (rt *runTables) write(r *seriesResult, cal calendar) error {
+	s := r.series
+	rt.series++
+	last := s.Start + int64(len(s.Values)) - 1
+	for _, f := range r.forecasts {
+		rt.methodSeries[f.label]++
+		for k, v := range f.values {
+			t := rt.forecasts
+			t.key(s.Key)
+			t.str(0, f.label)
+			t.str(1, f.model)
+			t.date(2, cal.startDays(last+int64(k)+1))
+			t.int32(3, k+1)
+			t.float(4, v)
+			if err := t.endRow(); err != nil {
+				return err
+			}
+		}
+	}
+	if d := r.decomp; d != nil {
+		for i, obs := range s.Values {
+			t := rt.components
+			t.key(s.Key)
+			t.str(0, "classical")
+			t.str(1, d.Form)
+			t.date(2, cal.startDays(s.Start+int64(i)))
+			t.float(3, obs)
+			t.float(4, d.Trend[i])
+			t.float(5, d.Seasonal[i])
+			t.float(6, d.Remainder[i])
+			t.float(7, d.Adjusted[i])
+			if err := t.endRow(); err != nil {
+				return err
+			}
+		}
+		m := len(d.Factors)
+		byPos := make([]int, m) // calendar position-1 → factor index
+		for j := 0; j < m; j++ {
+			byPos[cal.position(s.Start+int64(j))-1] = j
+		}
+		for pos, j := range byPos {
+			t := rt.factors
+			t.key(s.Key)
+			t.str(0, "classical")
+			t.str(1, d.Form)
+			t.int32(2, pos+1)
+			t.float(3, d.Factors[j])
+			t.int32(4, d.Counts[j])
+			if err := t.endRow(); err != nil {
+				return err
+			}
+		}
+	}
+	for _, p := range r.problems {
+		if err := rt.problem(p); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// ProblemCounts counts problems rows by severity.
+type ProblemCounts struct {
+	Errors   int `json:"errors"`
+	Warnings int `json:"warnings"`
+}
+
+// Manifest is manifest.json: what ran, on which inputs, and how long it took.
+// Unlike the tables it holds wall-clock times, so it differs between reruns.
+type Manifest struct {
+	Almanac       string           `json:"almanac_version"`
+	GoVersion     string           `json:"go_version"`
+	Spec          ManifestSpec     `json:"spec"`
+	Inputs        []InputFile      `json:"inputs"`
+	RowsRead      int64            `json:"rows_read"`
+	MissingValues int64            `json:"missing_values"`
+	Series        int              `json:"series"`
+	Methods       []ManifestMethod `json:"methods"`
+	Tables        []TableInfo      `json:"tables"`
+	Problems      ProblemCounts    `json:"problems"`
+	Workers       int              `json:"workers"`
+	Stages        []StageTiming    `json:"stages"`
+	StartedAt     string           `json:"started_at"`
+	FinishedAt    string           `json:"finished_at"`
+	Seconds       float64          `json:"seconds"`
+}
+
+// ManifestSpec identifies the spec of a run.
+type ManifestSpec struct {
+	Name      string          `json:"name"`
+	File      string          `json:"file"`
+	SHA256    string          `json:"sha256"`
+	Canonical json.RawMessage `json:"canonical"`
+}
+
+// ManifestMethod is one method of the run and how many series it forecast.
+type ManifestMethod struct {
+	Label   string         `json:"label"`
+	Method  string         `json:"method"`
+	Options map[string]any `json:"options"`
+	Series  int            `json:"series_forecast"`
+}
+
+// TableInfo describes one table file of the run folder.
+type TableInfo struct {
+	Name   string `json:"name"`
+	File   string `json:"file"`
+	Rows   int64  `json:"rows"`
+	Bytes  int64  `json:"bytes"`
+	SHA256 string `json:"sha256"`
+}
+
+// StageTiming is the wall time of one stage.
+type StageTiming struct {
+	Stage   string  `json:"stage"`
+	Seconds float64 `json:"seconds"`
+}
+
+func writeManifest(path string, m *Manifest) error {
+	b, err := json.MarshalIndent(m, "", "  ")
+	if err != nil {
+		return err
+	}
+	b = append(b, '\n')
+	if err := os.WriteFile(path, b, 0o644); err != nil {
+		return err
+	}
+	return fsyncPath(path)
+}
+
+// ReadManifest reads a run folder's manifest.json.
+func ReadManifest(dir string) (*Manifest, error) {
+	b, err := os.ReadFile(filepath.Join(dir, "manifest.json"))
+	if err != nil {
+		return nil, err
+	}
+	var m Manifest
+	if err := json.Unmarshal(b, &m); err != nil {
+		return nil, fmt.Errorf("%s: %v", filepath.Join(dir, "manifest.json"), err)
+	}
+	return &m, nil
+}

@@ -1,0 +1,155 @@
+package pipeline
+
+import (
+	"fmt"
+	"math"
+	"slices"
+	"strings"
+
+	"almanac/spec"
+)
+
+// Series is one key's history: a value per period from Start, NaN where missing.
+type Series struct {
+	Key    []string
+	Start  int64 // period index of Values[0]
+	Values []float64
+	// Filled counts periods with no rows that the gap rule filled;
+	// Combined counts periods that held more than one row.
+	Filled, Combined int
+}
+
+// shapeRows groups rows by key, sorts series by key, buckets each series'
+// rows into periods, combines duplicates and fills gaps per the spec.
+func shapeRows(rs *rowSet, sh spec.Shaping, cal calendar, keyNames []string) ([]*Series, error) {
+	nk := len(rs.keys)
+	// Counting sort of row indexes by key id, stable in input order.
+	counts := make([]int, nk+1)
+	for _, k := range rs.keyIDs {
+		counts[k+1]++
+	}
+	for i := 1; i <= nk; i++ {
+		counts[i] += counts[i-1]
+	}
+	order := make([]int32, len(rs.keyIDs))
+	next := append([]int(nil), counts[:nk]...)
+	for i, k := range rs.keyIDs {
+		order[next[k]] = int32(i)
+		next[k]++
+	}
+	// Keys in sorted order.
+	ids := make([]int32, nk)
+	for i := range ids {
+		ids[i] = int32(i)
+	}
+	slices.SortFunc(ids, func(a, b int32) int { return compareKeys(rs.keys[a], rs.keys[b]) })
+
+	out := make([]*Series, 0, nk)
+	var errs []string
+	for _, id := range ids {
+		rows := order[counts[id]:counts[id+1]]
+		// Stable sort by period keeps input order within a period, which
+		// "last" relies on.
+		slices.SortStableFunc(rows, func(a, b int32) int {
+			pa, pb := rs.periods[a], rs.periods[b]
+			switch {
+			case pa < pb:
+				return -1
+			case pa > pb:
+				return 1
+			}
+			return 0
+		})
+		first, last := rs.periods[rows[0]], rs.periods[rows[len(rows)-1]]
+		n := int(last - first + 1)
+		s := &Series{Key: rs.keys[id], Start: first, Values: make([]float64, n)}
+		present := make([]bool, n)
+		for i := 0; i < len(rows); {
+			j := i + 1
+			for j < len(rows) && rs.periods[rows[j]] == rs.periods[rows[i]] {
+				j++
+			}
+			slot := int(rs.periods[rows[i]] - first)
+			present[slot] = true
+			if j-i > 1 {
+				s.Combined++
+				if sh.Combine == spec.CombineReject {
+					if len(errs) < maxDataErrors {
+						errs = append(errs, fmt.Sprintf("%s: %d rows for series %s in period %s (also %s); shaping.combine is reject",
+							rs.where(int(rows[i+1])), j-i, keyLabel(keyNames, s.Key), cal.label(rs.periods[rows[i]]), rs.where(int(rows[i]))))
+					}
+				}
+			}
+			s.Values[slot] = combine(sh.Combine, rs.values, rows[i:j])
+			i = j
+		}
+		for slot, ok := range present {
+			if ok {
+				continue
+			}
+			s.Filled++
+			switch sh.Gaps {
+			case spec.GapsZero:
+				s.Values[slot] = 0
+			default:
+				s.Values[slot] = math.NaN()
+			}
+		}
+		if sh.Gaps == spec.GapsReject && s.Filled > 0 && len(errs) < maxDataErrors {
+			errs = append(errs, fmt.Sprintf("series %s has no rows for %d of its periods (first gap: %s); shaping.gaps is reject",
+				keyLabel(keyNames, s.Key), s.Filled, cal.label(first+int64(slices.Index(present, false)))))
+		}
+		out = append(out, s)
+	}
+	if len(errs) > 0 {
+		return nil, &DataError{Msgs: errs}
+	}
+	return out, nil
+}
+
+func combine(rule spec.Combine, values []float64, rows []int32) float64 {
+	if len(rows) == 1 {
+		return values[rows[0]]
+	}
+	switch rule {
+	case spec.CombineLast:
+		return values[rows[len(rows)-1]]
+	case spec.CombineMean, spec.CombineSum:
+		sum, n := 0.0, 0
+		for _, r := range rows {
+			if v := values[r]; !math.IsNaN(v) {
+				sum += v
+				n++
+			}
+		}
+		if n == 0 {
+			return math.NaN()
+		}
+		if rule == spec.CombineMean {
+			return sum / float64(n)
+		}
+		return sum
+	}
+	return values[rows[0]]
+}
+
+func compareKeys(a, b []string) int {
+	for i := range a {
+		if c := strings.Compare(a[i], b[i]); c != 0 {
+			return c
+		}
+	}
+	return 0
+}
+
+// keyLabel renders a key for messages: depot=North, sku=A-100.
+func keyLabel(names, key []string) string {
+	if len(names) == 0 {
+		return "(the only series)"
+	}
+	parts := make([]string, len(names))
+	for i := range names {
+		parts[i] = names[i] + "=" + key[i]
+	}
+	return strings.Join(parts, ", ")
+}

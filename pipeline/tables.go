@@ -1,0 +1,254 @@
+package pipeline
+
+import (
+	"fmt"
+	"math"
+	"os"
+
+	"github.com/apache/arrow-go/v18/arrow"
+	"github.com/apache/arrow-go/v18/arrow/array"
+	"github.com/apache/arrow-go/v18/arrow/memory"
+	"github.com/apache/arrow-go/v18/parquet"
+	"github.com/apache/arrow-go/v18/parquet/compress"
+	"github.com/apache/arrow-go/v18/parquet/pqarrow"
+)
+
+// Table names, as files in the run folder (with .parquet).
+const (
+	TableForecasts       = "forecasts"
+	TableComponents      = "components"
+	TableSeasonalFactors = "seasonal_factors"
+	TableProblems        = "problems"
+)
+
+// flushRows is how many rows a table buffers before handing them to the
+// Parquet writer; rowGroupRows is the largest row group written.
+const (
+	flushRows    = 64 * 1024
+	rowGroupRows = 1 << 20
+)
+
+// colKind is the type of a fixed (non-key) column.
+type colKind int
+
+const (
+	colString colKind = iota
+	colDate
+	colInt
+	colFloat
+)
+
+type column struct {
+	name     string
+	kind     colKind
+	nullable bool
+}
+
+// tableWriter streams rows of one table into a Parquet file.
+type tableWriter struct {
+	name   string
+	path   string
+	file   *os.File
+	fw     *pqarrow.FileWriter
+	rb     *array.RecordBuilder
+	nkeys  int
+	cols   []column
+	rows   int64
+	buffer int
+}
+
+func tableSchema(keyNames []string, cols []column) *arrow.Schema {
+	fields := make([]arrow.Field, 0, len(keyNames)+len(cols))
+	for _, k := range keyNames {
+		fields = append(fields, arrow.Field{Name: k, Type: arrow.BinaryTypes.String, Nullable: true})
+	}
+	for _, c := range cols {
+		var t arrow.DataType
+		switch c.kind {
+		case colString:
+			t = arrow.BinaryTypes.String
+		case colDate:
+			t = arrow.FixedWidthTypes.Date32
+		case colInt:
+			t = arrow.PrimitiveTypes.Int32
+		case colFloat:
+			t = arrow.PrimitiveTypes.Float64
+		}
+		fields = append(fields, arrow.Field{Name: c.name, Type: t, Nullable: c.nullable})
+	}
+	return arrow.NewSchema(fields, nil)
+}
+
+// writerProps are the Parquet properties of every table: zstd, dictionary
+// encoding, statistics, a fixed created-by so files do not change with the
+// library's build.
+func writerProps() *parquet.WriterProperties {
+	return parquet.NewWriterProperties(
+		parquet.WithCompression(compress.Codecs.Zstd),
+		parquet.WithCompressionLevel(3),
+		parquet.WithDictionaryDefault(true),
+		parquet.WithStats(true),
+		parquet.WithMaxRowGroupLength(rowGroupRows),
+		parquet.WithCreatedBy("almanac "+Version),
+		parquet.WithVersion(parquet.V2_6),
+	)
+}
+
+func newTableWriter(dir, name string, keyNames []string, cols []column, meta map[string]string, mem memory.Allocator) (*tableWriter, error) {
+	sch := tableSchema(keyNames, cols)
+	path := dir + string(os.PathSeparator) + name + ".parquet"
+	f, err := os.OpenFile(path, os.O_CREATE|os.O_EXCL|os.O_WRONLY, 0o644)
+	if err != nil {
+		return nil, err
+	}
+	keys := make([]string, 0, len(meta))
+	vals := make([]string, 0, len(meta))
+	for _, k := range sortedKeys(meta) {
+		keys = append(keys, k)
+		vals = append(vals, meta[k])
+	}
+	md := arrow.NewMetadata(keys, vals)
+	sch = arrow.NewSchema(sch.Fields(), &md)
+	fw, err := pqarrow.NewFileWriter(sch, f, writerProps(), pqarrow.NewArrowWriterProperties(pqarrow.WithStoreSchema(), pqarrow.WithAllocator(mem)))
+	if err != nil {
+		f.Close()
+		return nil, err
+	}
+	return &tableWriter{name: name, path: path, file: f, fw: fw, rb: array.NewRecordBuilder(mem, sch), nkeys: len(keyNames), cols: cols}, nil
+}
+
+// key appends the key columns of a row; key nil writes NULLs.
+func (t *tableWriter) key(key []string) {
+	for i := 0; i < t.nkeys; i++ {
+		b := t.rb.Field(i).(*array.StringBuilder)
+		if key == nil {
+			b.AppendNull()
+		} else {
+			b.Append(key[i])
+		}
+	}
+}
+
+func (t *tableWriter) str(col int, v string) {
+	t.rb.Field(t.nkeys + col).(*array.StringBuilder).Append(v)
+}
+
+func (t *tableWriter) strOrNull(col int, v string) {
+	b := t.rb.Field(t.nkeys + col).(*array.StringBuilder)
+	if v == "" {
+		b.AppendNull()
+	} else {
+		b.Append(v)
+	}
+}
+
+func (t *tableWriter) date(col int, days int64) {
+	t.rb.Field(t.nkeys + col).(*array.Date32Builder).Append(arrow.Date32(days))
+}
+
+func (t *tableWriter) int32(col int, v int) {
+	t.rb.Field(t.nkeys + col).(*array.Int32Builder).Append(int32(v))
+}
+
+// float appends v, or NULL when v is NaN or infinite.
+func (t *tableWriter) float(col int, v float64) {
+	b := t.rb.Field(t.nkeys + col).(*array.Float64Builder)
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		b.AppendNull()
+	} else {
+		b.Append(v)
+	}
+}
+
+// endRow counts a finished row and flushes a full buffer.
+func (t *tableWriter) endRow() error {
+	t.rows++
+	t.buffer++
+	if t.buffer >= flushRows {
+		return t.flush()
+	}
+	return nil
+}
+
+func (t *tableWriter) flush() error {
+	if t.buffer == 0 {
+		return nil
+	}
+	rec := t.rb.NewRecordBatch()
+	defer rec.Release()
+	t.buffer = 0
+	if err := t.fw.WriteBuffered(rec); err != nil {
+		return fmt.Errorf("writing %s: %w", t.name, err)
+	}
+	return nil
+}
+
+// close flushes, finishes the Parquet footer and fsyncs the file.
+func (t *tableWriter) close() error {
+	if t.fw == nil {
+		return nil
+	}
+	err := t.flush()
+	if cerr := t.fw.Close(); err == nil && cerr != nil {
+		err = fmt.Errorf("writing %s: %w", t.name, cerr)
+	}
+	t.fw = nil
+	t.rb.Release()
+	// pqarrow's Close closes the underlying file; reopen to fsync.
+	if err == nil {
+		err = fsyncPath(t.path)
+	}
+	return err
+}
+
+// abort releases the writer without caring about the file.
+func (t *tableWriter) abort() {
+	if t.fw != nil {
+		t.fw.Close()
+		t.fw = nil
+		t.rb.Release()
+	}
+}
+
+func fsyncPath(path string) error {
+	f, err := os.Open(path)
+	if err != nil {
+		return err
+	}
+	defer f.Close()
+	return f.Sync()
+}
+
+var forecastCols = []column{
+	{"method", colString, false},
+	{"model", colString, false},
+	{"period", colDate, false},
+	{"step", colInt, false},
+	{"value", colFloat, true},
+}
+
+var componentCols = []column{
+	{"decomposition", colString, false},
+	{"form", colString, false},
+	{"period", colDate, false},
+	{"observed", colFloat, true},
+	{"trend", colFloat, true},
+	{"seasonal", colFloat, true},
+	{"remainder", colFloat, true},
+	{"adjusted", colFloat, true},
+}
+
+var factorCols = []column{
+	{"decomposition", colString, false},
+	{"form", colString, false},
+	{"position", colInt, false},
+	{"factor", colFloat, true},
+	{"count", colInt, false},
+}
+
+var problemCols = []column{
+	{"stage", colString, false},
+	{"severity", colString, false},
+	{"method", colString, true},
+	{"message", colString, false},
+}
