@@ -344,4 +344,3 @@ func parseValue(s string) (float64, error) {
 	}
 	return v, nil
 }
-
