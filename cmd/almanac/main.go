@@ -14,6 +14,7 @@ import (
 	"os"
 	"os/signal"
 	"runtime"
+	"strings"
 	"syscall"
 	"time"
 
@@ -52,7 +53,7 @@ func main() {
 // error to an exit code.
 func run(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	app := newApp(stdout, stderr)
-	err := app.RunContext(ctx, args)
+	err := app.RunContext(ctx, flagsFirst(args))
 	if err == nil {
 		return exitOK
 	}
@@ -66,6 +67,37 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	// urfave/cli reports flag and command mistakes as plain errors.
 	fmt.Fprintln(stderr, "almanac:", err)
 	return exitSpec
+}
+
+// valueFlags are the flags that take a value, in every spelling.
+var valueFlags = map[string]bool{"--out": true, "-out": true, "-o": true, "--workers": true, "-workers": true, "-w": true}
+
+// flagsFirst moves a command's flags in front of its arguments, so that
+// "almanac run spec.yaml --workers 2" works as people type it (urfave/cli
+// stops reading flags at the first argument).
+func flagsFirst(args []string) []string {
+	if len(args) < 3 {
+		return args
+	}
+	out := append([]string{}, args[:2]...)
+	var rest []string
+	for i := 2; i < len(args); i++ {
+		a := args[i]
+		switch {
+		case a == "--":
+			rest = append(rest, args[i:]...)
+			i = len(args)
+		case strings.HasPrefix(a, "-") && len(a) > 1:
+			out = append(out, a)
+			if valueFlags[a] && i+1 < len(args) {
+				out = append(out, args[i+1])
+				i++
+			}
+		default:
+			rest = append(rest, a)
+		}
+	}
+	return append(out, rest...)
 }
 
 func newApp(stdout, stderr io.Writer) *cli.App {
