@@ -402,7 +402,9 @@ func TestBadInputs(t *testing.T) {
 			[]string{"spec.yaml: sources[0]: source file \"data/nope.csv\" does not exist"}},
 		{"glob matching nothing", "", func(s string) string { return strings.Replace(s, "data/sales.csv", "data/*.parquet", 1) },
 			[]string{"spec.yaml: sources[0]: the pattern \"data/*.parquet\" matches no files"}},
-		{"glob matching a folder", "", func(s string) string { return strings.Replace(s, "[data/sales.csv]", "[{path: \"dat*\", format: csv}]", 1) },
+		{"glob matching a folder", "", func(s string) string {
+			return strings.Replace(s, "[data/sales.csv]", "[{path: \"dat*\", format: csv}]", 1)
+		},
 			[]string{"matches the folder data; sources must be files"}},
 		{"named column absent", "month,shop,item,qty\n2021-01,S1,A,1\n", nil,
 			[]string{`data/sales.csv: column "store" named in the spec is not in the file; columns present: "month", "shop", "item", "qty"`}},
