@@ -76,8 +76,8 @@ func (p *Plan) Print(w io.Writer) {
 		fmt.Fprintf(w, "               %s  (%s, %s)\n", f.Path, f.Format, humanBytes(f.Size))
 	}
 	fmt.Fprintf(w, "             columns: time %q, value %q, keys %s\n", s.Columns.Time, s.Columns.Value, listOrNone(s.Columns.Keys))
-	fmt.Fprintf(w, "2. shape     %s periods, season length %d; rows in one period: %s; missing periods: %s\n",
-		s.Calendar.Frequency, s.Calendar.SeasonLength, s.Shaping.Combine, s.Shaping.Gaps)
+	fmt.Fprintf(w, "2. shape     %s periods, season length %d; rows in one period: %s; missing periods: %s; series end at the %s end\n",
+		s.Calendar.Frequency, s.Calendar.SeasonLength, s.Shaping.Combine, s.Shaping.Gaps, s.Shaping.End)
 	fmt.Fprintf(w, "3. split     %d series", p.Series)
 	if p.Series > 0 {
 		fmt.Fprintf(w, ", %d to %d periods each, %s … %s", p.Periods.Min, p.Periods.Max, p.First, p.Last)

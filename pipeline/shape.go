@@ -44,6 +44,10 @@ func shapeRows(rs *rowSet, sh spec.Shaping, cal calendar, keyNames []string) ([]
 	}
 	slices.SortFunc(ids, func(a, b int32) int { return compareKeys(rs.keys[a], rs.keys[b]) })
 
+	panelLast := int64(math.MinInt64)
+	for _, p := range rs.periods {
+		panelLast = max(panelLast, p)
+	}
 	out := make([]*Series, 0, nk)
 	var errs []string
 	for _, id := range ids {
@@ -61,6 +65,9 @@ func shapeRows(rs *rowSet, sh spec.Shaping, cal calendar, keyNames []string) ([]
 			return 0
 		})
 		first, last := rs.periods[rows[0]], rs.periods[rows[len(rows)-1]]
+		if sh.End == spec.EndPanel {
+			last = panelLast
+		}
 		n := int(last - first + 1)
 		s := &Series{Key: rs.keys[id], Start: first, Values: make([]float64, n)}
 		present := make([]bool, n)
@@ -96,7 +103,7 @@ func shapeRows(rs *rowSet, sh spec.Shaping, cal calendar, keyNames []string) ([]
 			}
 		}
 		if sh.Gaps == spec.GapsReject && s.Filled > 0 && len(errs) < maxDataErrors {
-			errs = append(errs, fmt.Sprintf("series %s has no rows for %d of its periods (first gap: %s); shaping.gaps is reject",
+			errs = append(errs, fmt.Sprintf("series %s has no rows for %d of its periods (first gap: %s); shaping.gaps is reject (shaping.end: series stops a series at its own last row)",
 				keyLabel(keyNames, s.Key), s.Filled, cal.label(first+int64(slices.Index(present, false)))))
 		}
 		out = append(out, s)

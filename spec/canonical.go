@@ -42,6 +42,7 @@ type canonicalCalendar struct {
 type canonicalShaping struct {
 	Combine string `json:"combine"`
 	Gaps    string `json:"gaps"`
+	End     string `json:"end"`
 }
 
 type canonicalDecomp struct {
@@ -68,7 +69,7 @@ func (s *Spec) Canonical() []byte {
 			Frequency:    string(s.Calendar.Frequency),
 			SeasonLength: s.Calendar.SeasonLength,
 		},
-		Shaping:       canonicalShaping{Combine: string(s.Shaping.Combine), Gaps: string(s.Shaping.Gaps)},
+		Shaping:       canonicalShaping{Combine: string(s.Shaping.Combine), Gaps: string(s.Shaping.Gaps), End: string(s.Shaping.End)},
 		Decomposition: canonicalDecomp{Form: string(s.Decomposition.Form), Average: s.Decomposition.Average},
 		Horizon:       s.Horizon,
 		Output:        s.Output,

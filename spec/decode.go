@@ -272,9 +272,10 @@ func (d *decoder) integer(n *yaml.Node, path, what string, dst *int) bool {
 		d.errAt(n, path, "expected %s, found %s", what, kindName(n))
 		return false
 	}
-	v, err := strconv.ParseInt(n.Value, 0, 32)
+	// Decimal only: YAML 1.2 reads 012 as twelve, and so does almanac.
+	v, err := strconv.ParseInt(strings.TrimPrefix(n.Value, "+"), 10, 32)
 	if err != nil {
-		d.errAt(n, path, "expected %s, found %s (out of range)", what, n.Value)
+		d.errAt(n, path, "expected %s, found %s (write a decimal integer within ±2147483647)", what, n.Value)
 		return false
 	}
 	*dst = int(v)
@@ -340,6 +341,9 @@ func (d *decoder) spec(root *yaml.Node) *Spec {
 				}},
 				{"gaps", false, func(n *yaml.Node, p string) {
 					d.enum(n, p, "gap rule", GapRules, (*string)(&s.Shaping.Gaps))
+				}},
+				{"end", false, func(n *yaml.Node, p string) {
+					d.enum(n, p, "history end", Ends, (*string)(&s.Shaping.End))
 				}},
 			})
 		}},
@@ -441,13 +445,16 @@ func (d *decoder) sources(n *yaml.Node, path string) []Source {
 					d.enum(n, p, "format", Formats, (*string)(&src.Format))
 				}},
 				{"delimiter", false, func(n *yaml.Node, p string) {
-					var s string
-					d.str(n, p, "a one-character CSV delimiter", &s)
+					sn, ok := d.scalar(n, p, "a one-character CSV delimiter")
+					if !ok {
+						return
+					}
+					s := sn.Value // not trimmed: a tab or a space is a delimiter
 					if s == "\\t" || s == "tab" {
 						s = "\t"
 					}
-					if s != "" && len([]rune(s)) != 1 || s == "\"" || s == "\n" || s == "\r" {
-						d.errAt(n, p, "delimiter must be one character other than a quote or newline, found %q", s)
+					if len([]rune(s)) != 1 || s == "\"" || s == "\n" || s == "\r" {
+						d.errAt(sn, p, "delimiter must be one character other than a quote or newline, found %q", s)
 						return
 					}
 					src.Delimiter = s
@@ -476,7 +483,7 @@ func (d *decoder) sources(n *yaml.Node, path string) []Source {
 		if src.Format == FormatParquet && src.Delimiter != "" {
 			d.errAt(item, p, "delimiter applies only to CSV sources")
 		}
-		if _, err := filepath.Match(src.Path, ""); err != nil {
+		if err := checkGlob(src.Path); err != nil {
 			d.errAt(item, p, "bad glob pattern %q: %v", src.Path, err)
 		}
 		out = append(out, src)
@@ -516,25 +523,63 @@ func (d *decoder) columns(n *yaml.Node, path string, c *Columns) {
 			}
 		}},
 	})
+	if c.Time != "" && c.Time == c.Value {
+		d.errAt(n, path, "time and value name the same column %q", c.Time)
+	}
 	if keysNode == nil {
 		return
 	}
 	seen := map[string]bool{c.Time: true, c.Value: true}
 	for i, k := range c.Keys {
 		p := fmt.Sprintf("%s.keys[%d]", path, i)
+		at := keysNode
+		if keysNode.Kind == yaml.SequenceNode && i < len(keysNode.Content) {
+			at = keysNode.Content[i]
+		}
 		if seen[k] {
-			d.errAt(keysNode, p, "column %q is listed twice among time, value and keys", k)
+			d.errAt(at, p, "column %q is listed twice among time, value and keys", k)
 		}
 		seen[k] = true
 		for _, r := range reservedColumns {
 			if strings.EqualFold(k, r) {
-				d.errAt(keysNode, p, "key column %q has the name of an output column; rename it in the input (reserved: %s)", k, quoteList(reservedColumns))
+				d.errAt(at, p, "key column %q has the name of an output column; rename it in the input (reserved: %s)", k, quoteList(reservedColumns))
 			}
 		}
 	}
-	if c.Time != "" && c.Time == c.Value {
-		d.errAt(n, path, "time and value name the same column %q", c.Time)
+}
+
+// checkGlob reports a malformed pattern: filepath.Match finds a bad
+// character class only when matching reaches it.
+func checkGlob(pattern string) error {
+	for i := 0; i < len(pattern); i++ {
+		switch pattern[i] {
+		case '\\':
+			i++
+		case '[':
+			j := i + 1
+			if j < len(pattern) && pattern[j] == '^' {
+				j++
+			}
+			if j < len(pattern) && pattern[j] == ']' {
+				j++ // a literal ] first in a class is still malformed in Go; let Match say so
+			}
+			for j < len(pattern) && pattern[j] != ']' {
+				if pattern[j] == '\\' {
+					j++
+				}
+				j++
+			}
+			if j >= len(pattern) {
+				return filepath.ErrBadPattern
+			}
+			if _, err := filepath.Match(pattern[i:j+1], "a"); err != nil {
+				return err
+			}
+			i = j
+		}
 	}
+	_, err := filepath.Match(pattern, "")
+	return err
 }
 
 func (d *decoder) calendar(n *yaml.Node, path string, c *Calendar) (seasonNode *yaml.Node) {
@@ -635,7 +680,7 @@ func (d *decoder) method(n *yaml.Node, path string) (MethodSpec, bool) {
 		{"label", false, func(n *yaml.Node, p string) {
 			d.str(n, p, "a label", &m.Label)
 			if m.Label != "" && !nameRE.MatchString(m.Label) {
-				d.errAt(n, p, "label %q may hold only letters, digits, '.', '_' and '-'", m.Label)
+				d.errAt(n, p, "label %q may hold only letters, digits, '.', '_' and '-', starting with a letter or digit", m.Label)
 			}
 		}},
 	}

@@ -108,15 +108,33 @@ const (
 // GapRules lists the allowed values of Gaps.
 var GapRules = []string{string(GapsZero), string(GapsMissing), string(GapsReject)}
 
+// End says where each series' history ends.
+type End string
+
+// History ends.
+const (
+	// EndPanel: every series runs to the latest period found in the whole
+	// input, so all forecasts start at the same period; the periods after
+	// a series' last row are gaps, filled by the gap rule.
+	EndPanel End = "panel"
+	// EndSeries: each series ends at its own last row.
+	EndSeries End = "series"
+)
+
+// Ends lists the allowed values of End.
+var Ends = []string{string(EndPanel), string(EndSeries)}
+
 // Shaping turns rows into one value per period.
 type Shaping struct {
 	Combine Combine
 	Gaps    Gaps
+	End     End
 }
 
 // DefaultShaping: rows in one period are summed (so daily order lines add up
-// to weekly demand), and a period with no rows is zero demand.
-var DefaultShaping = Shaping{Combine: CombineSum, Gaps: GapsZero}
+// to weekly demand), a period with no rows is zero demand, and every series
+// runs to the end of the panel. A series starts at its own first row.
+var DefaultShaping = Shaping{Combine: CombineSum, Gaps: GapsZero, End: EndPanel}
 
 // Form is additive or multiplicative.
 type Form string
