@@ -46,7 +46,7 @@ func MakePlan(ctx context.Context, s *spec.Spec, opts Options) (*Plan, error) {
 	if err != nil {
 		return nil, err
 	}
-	series, err := shapeRows(rs, s.Shaping, cal, s.Columns.Keys)
+	series, err := shapeRows(rs, s.Shaping, s.Limits, cal, s.Columns.Keys)
 	if err != nil {
 		return nil, err
 	}
@@ -56,6 +56,9 @@ func MakePlan(ctx context.Context, s *spec.Spec, opts Options) (*Plan, error) {
 		lo, hi := series[0].Start, series[0].Start
 		for _, se := range series {
 			n := len(se.Values)
+			if se.Skip != "" {
+				continue
+			}
 			p.Periods.Min = min(p.Periods.Min, n)
 			p.Periods.Max = max(p.Periods.Max, n)
 			lo = min(lo, se.Start)

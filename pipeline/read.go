@@ -45,6 +45,7 @@ type rowSet struct {
 	files_    []InputFile
 	missing   int64 // rows whose value was empty or NaN
 	keyBlanks int64 // rows whose key had an empty component
+	notes     []problem
 }
 
 func newRowSet() *rowSet {
@@ -168,6 +169,9 @@ func readInputs(ctx context.Context, s *spec.Spec, files []InputFile, cal calend
 			return nil, err
 		}
 	}
+	if len(rs.periods) == 0 {
+		return nil, fmt.Errorf("no data rows in any input (%d file(s) read); nothing to forecast", len(files))
+	}
 	return rs, nil
 }
 
@@ -245,6 +249,13 @@ func readCSV(s *spec.Spec, f *InputFile, fileIdx int32, src spec.Source, cal cal
 		}
 		rows++
 		line, _ := cr.FieldPos(timeIdx)
+		if sameFields(rec, header) {
+			errs = append(errs, fmt.Sprintf("%s:%d: this line repeats the header; two exports were probably joined — remove the extra header line", f.Path, line))
+			if len(errs) >= maxDataErrors {
+				break
+			}
+			continue
+		}
 		tv := strings.TrimSpace(rec[timeIdx])
 		p, terr := cal.parse(tv)
 		if terr != nil {
@@ -262,11 +273,22 @@ func readCSV(s *spec.Spec, f *InputFile, fileIdx int32, src spec.Source, cal cal
 		if terr != nil || verr != nil {
 			continue
 		}
+		badKey := false
 		for j, k := range keyIdx {
 			keyParts[j] = rec[k]
 			if rec[k] == "" {
 				rs.keyBlanks++
+			} else if !utf8.ValidString(rec[k]) {
+				kl, _ := cr.FieldPos(k)
+				errs = append(errs, fmt.Sprintf("%s:%d: column %q: %q is not valid UTF-8; almanac reads text as UTF-8 (re-export the file as UTF-8)", f.Path, kl, s.Columns.Keys[j], rec[k]))
+				badKey = true
 			}
+		}
+		if badKey {
+			if len(errs) >= maxDataErrors {
+				break
+			}
+			continue
 		}
 		rs.add(rs.internKey(keyParts), p, v, fileIdx, int64(line))
 	}
@@ -279,7 +301,23 @@ func readCSV(s *spec.Spec, f *InputFile, fileIdx int32, src spec.Source, cal cal
 	}
 	f.Rows = rows
 	f.SHA256 = hex.EncodeToString(hr.h.Sum(nil))
+	if rows == 0 {
+		rs.notes = append(rs.notes, problem{stage: "read", severity: "warning",
+			message: fmt.Sprintf("%s has a header line but no rows", f.Path)})
+	}
 	return nil
+}
+
+func sameFields(a, b []string) bool {
+	if len(a) != len(b) {
+		return false
+	}
+	for i := range a {
+		if strings.TrimSpace(strings.TrimPrefix(a[i], "\ufeff")) != b[i] {
+			return false
+		}
+	}
+	return true
 }
 
 func csvError(path string, err error) error {
@@ -316,14 +354,37 @@ func columnIndexes(path string, header []string, s *spec.Spec) ([]int, error) {
 		out = append(out, i)
 	}
 	if len(missing) > 0 {
-		present := make([]string, len(header))
-		for i, h := range header {
-			present[i] = fmt.Sprintf("%q", h)
-		}
-		return nil, fmt.Errorf("%s: column %s named in the spec is not in the file; columns present: %s",
-			path, strings.Join(missing, ", "), strings.Join(present, ", "))
+		return nil, missingColumns(path, missing, header)
 	}
 	return out, nil
+}
+
+// missingColumns explains which spec columns a file lacks, lists the
+// columns it has, and points out names that differ only in letter case.
+func missingColumns(path string, missing, present []string) error {
+	quoted := make([]string, len(present))
+	for i, h := range present {
+		quoted[i] = fmt.Sprintf("%q", h)
+	}
+	noun := "column"
+	if len(missing) > 1 {
+		noun = "columns"
+	}
+	msg := fmt.Sprintf("%s: %s %s named in the spec %s not in the file; columns present: %s",
+		path, noun, strings.Join(missing, ", "), map[bool]string{true: "are", false: "is"}[len(missing) > 1], strings.Join(quoted, ", "))
+	var hints []string
+	for _, m := range missing {
+		want, _ := strconv.Unquote(m)
+		for _, h := range present {
+			if h != want && strings.EqualFold(h, want) {
+				hints = append(hints, fmt.Sprintf("%q for %q", h, want))
+			}
+		}
+	}
+	if len(hints) > 0 {
+		msg += " (names are case-sensitive: the file has " + strings.Join(hints, ", ") + ")"
+	}
+	return errors.New(msg)
 }
 
 // parseValue reads a number. Empty text, NA and NaN are a missing value;
@@ -335,7 +396,16 @@ func parseValue(s string) (float64, error) {
 		return math.NaN(), nil
 	}
 	v, err := strconv.ParseFloat(t, 64)
-	if err != nil || math.IsInf(v, 0) || math.IsNaN(v) || strings.ContainsAny(t, "xXpP_") {
+	if errors.Is(err, strconv.ErrRange) && math.IsInf(v, 0) {
+		return 0, fmt.Errorf("%q is too large for a 64-bit float", s)
+	}
+	if err == nil && math.IsInf(v, 0) {
+		if strings.ContainsAny(t, "iI") {
+			return 0, fmt.Errorf("%q: infinite values are not accepted; leave the cell empty for a missing value", s)
+		}
+		return 0, fmt.Errorf("%q is too large for a 64-bit float", s)
+	}
+	if err != nil || math.IsNaN(v) || strings.ContainsAny(t, "xXpP_") {
 		hint := ""
 		if strings.Contains(t, ",") {
 			hint = " (a comma is not read as a decimal point or thousands separator; export plain numbers such as 1234.5)"

@@ -6,6 +6,7 @@ import (
 	"math"
 	"strconv"
 	"strings"
+	"unicode/utf8"
 
 	"github.com/apache/arrow-go/v18/arrow"
 	"github.com/apache/arrow-go/v18/arrow/array"
@@ -55,10 +56,9 @@ func readParquet(s *spec.Spec, f *InputFile, fileIdx int32, cal calendar, rs *ro
 	if len(missing) > 0 {
 		present := make([]string, sch.NumColumns())
 		for i := range present {
-			present[i] = fmt.Sprintf("%q", sch.Column(i).Name())
+			present[i] = sch.Column(i).Name()
 		}
-		return fmt.Errorf("%s: column %s named in the spec is not in the file; columns present: %s",
-			f.Path, strings.Join(missing, ", "), strings.Join(present, ", "))
+		return missingColumns(f.Path, missing, present)
 	}
 	rr, err := fr.GetRecordReader(context.Background(), cols, nil)
 	if err != nil {
@@ -99,6 +99,8 @@ func readParquet(s *spec.Spec, f *InputFile, fileIdx int32, cal calendar, rs *ro
 				keyParts[j] = k
 				if k == "" {
 					rs.keyBlanks++
+				} else if !utf8.ValidString(k) {
+					return &DataError{Msgs: []string{fmt.Sprintf("%s: row %d: column %q: %q is not valid UTF-8; almanac reads text as UTF-8", f.Path, row+int64(i)+1, s.Columns.Keys[j], k)}}
 				}
 			}
 			rs.add(rs.internKey(keyParts), periods[i], values[i], fileIdx, row+int64(i)+1)
@@ -116,6 +118,9 @@ func readParquet(s *spec.Spec, f *InputFile, fileIdx int32, cal calendar, rs *ro
 	}
 	f.Rows = row
 	f.SHA256 = sum
+	if row == 0 {
+		rs.notes = append(rs.notes, problem{stage: "read", severity: "warning", message: fmt.Sprintf("%s has no rows", f.Path)})
+	}
 	return nil
 }
 

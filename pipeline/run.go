@@ -170,11 +170,11 @@ func Run(ctx context.Context, s *spec.Spec, opts Options) (*Summary, error) {
 	}
 	logf("read %d rows from %d file(s)", len(rs.periods), len(files))
 	clock.lap("read")
-	series, err := shapeRows(rs, s.Shaping, cal, s.Columns.Keys)
+	series, err := shapeRows(rs, s.Shaping, s.Limits, cal, s.Columns.Keys)
 	if err != nil {
 		return nil, err
 	}
-	rowsRead, missing, keyBlanks := int64(len(rs.periods)), rs.missing, rs.keyBlanks
+	rowsRead, missing, keyBlanks, notes := int64(len(rs.periods)), rs.missing, rs.keyBlanks, rs.notes
 	rs = nil // the rows are in the series now
 	clock.lap("shape")
 	logf("shaped %d series", len(series))
@@ -201,6 +201,9 @@ func Run(ctx context.Context, s *spec.Spec, opts Options) (*Summary, error) {
 	defer w.abort()
 
 	// Run-level problems come first in the problems table.
+	for _, p := range notes {
+		w.problem(p)
+	}
 	if keyBlanks > 0 {
 		w.problem(problem{stage: "read", severity: "warning",
 			message: fmt.Sprintf("%d rows have an empty key value; they form series whose key holds an empty string", keyBlanks)})
@@ -379,6 +382,10 @@ func (w *seriesWork) process(s *Series) *seriesResult {
 	add := func(stage, severity, method, msg string) {
 		r.problems = append(r.problems, problem{key: s.Key, stage: stage, severity: severity, method: method, message: msg})
 	}
+	if s.Skip != "" {
+		add("shape", "error", "", s.Skip)
+		return r
+	}
 	if allMissing(s.Values) {
 		add("shape", "error", "", fmt.Sprintf("all %d values are missing; no decomposition or forecast", len(s.Values)))
 		return r
@@ -404,15 +411,21 @@ func (w *seriesWork) process(s *Series) *seriesResult {
 		label := mr.spec.Label
 		fc, model, warnings, err := safeForecast(method, s.Values, m, h)
 		if err != nil {
-			add("forecast", "error", label, err.Error())
+			add("forecast", "error", label, trimName(err.Error(), mr.spec.Method))
 			continue
 		}
 		for _, msg := range warnings {
-			add("forecast", "warning", label, msg)
+			add("forecast", "warning", label, trimName(msg, mr.spec.Method))
 		}
 		r.forecasts = append(r.forecasts, methodForecast{label: label, model: model, values: fc})
 	}
 	return r
+}
+
+// trimName drops a leading "name: " from an engine's message: the method
+// column of the problems table already says which method spoke.
+func trimName(msg, name string) string {
+	return strings.TrimPrefix(msg, name+": ")
 }
 
 func safeDecompose(d engines.Decomposer, y []float64, m int) (out *engines.Decomposition, err error) {

@@ -17,12 +17,18 @@ type Series struct {
 	// Filled counts periods with no rows that the gap rule filled;
 	// Combined counts periods that held more than one row.
 	Filled, Combined int
+	// Skip, when set, says why the series was not built (Values is nil);
+	// it becomes a problems row and the run goes on.
+	Skip string
 }
 
 // shapeRows groups rows by key, sorts series by key, buckets each series'
 // rows into periods, combines duplicates and fills gaps per the spec.
-func shapeRows(rs *rowSet, sh spec.Shaping, cal calendar, keyNames []string) ([]*Series, error) {
+func shapeRows(rs *rowSet, sh spec.Shaping, lim spec.Limits, cal calendar, keyNames []string) ([]*Series, error) {
 	nk := len(rs.keys)
+	if nk > lim.MaxSeries {
+		return nil, fmt.Errorf("the input holds %d series; limits.max_series is %d (raise it in the spec if this is right)", nk, lim.MaxSeries)
+	}
 	// Counting sort of row indexes by key id, stable in input order.
 	counts := make([]int, nk+1)
 	for _, k := range rs.keyIDs {
@@ -67,6 +73,11 @@ func shapeRows(rs *rowSet, sh spec.Shaping, cal calendar, keyNames []string) ([]
 		first, last := rs.periods[rows[0]], rs.periods[rows[len(rows)-1]]
 		if sh.End == spec.EndPanel {
 			last = panelLast
+		}
+		if last-first+1 > int64(lim.MaxPeriods) {
+			out = append(out, &Series{Key: rs.keys[id], Start: first, Skip: fmt.Sprintf("the series spans %d periods (%s … %s, first row at %s), more than limits.max_periods %d; skipped — a stray date is the usual cause",
+				last-first+1, cal.label(first), cal.label(last), rs.where(int(rows[0])), lim.MaxPeriods)})
+			continue
 		}
 		n := int(last - first + 1)
 		s := &Series{Key: rs.keys[id], Start: first, Values: make([]float64, n)}

@@ -20,6 +20,12 @@ type canonicalSpec struct {
 	Methods       []canonicalMethod `json:"methods"`
 	Horizon       int               `json:"horizon"`
 	Output        string            `json:"output"`
+	Limits        canonicalLimits   `json:"limits"`
+}
+
+type canonicalLimits struct {
+	MaxSeries  int `json:"max_series"`
+	MaxPeriods int `json:"max_periods"`
 }
 
 type canonicalSource struct {
@@ -73,6 +79,7 @@ func (s *Spec) Canonical() []byte {
 		Decomposition: canonicalDecomp{Form: string(s.Decomposition.Form), Average: s.Decomposition.Average},
 		Horizon:       s.Horizon,
 		Output:        s.Output,
+		Limits:        canonicalLimits{MaxSeries: s.Limits.MaxSeries, MaxPeriods: s.Limits.MaxPeriods},
 	}
 	if c.Columns.Keys == nil {
 		c.Columns.Keys = []string{}

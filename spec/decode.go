@@ -58,7 +58,7 @@ func Parse(src []byte, file string) (*Spec, error) {
 	if int64(len(src)) > MaxSpecBytes {
 		return nil, ErrorList{{File: file, Msg: fmt.Sprintf("spec is %d bytes; the limit is %d bytes", len(src), MaxSpecBytes)}}
 	}
-	d := &decoder{file: file}
+	d := &decoder{file: file, src: src}
 	var root yaml.Node
 	if err := yaml.Unmarshal(src, &root); err != nil {
 		return nil, ErrorList{d.yamlError(err)}
@@ -86,6 +86,13 @@ func (d *decoder) yamlError(err error) *Error {
 	msg := err.Error()
 	if m := yamlLineRE.FindStringSubmatch(msg); m != nil {
 		line, _ := strconv.Atoi(m[1])
+		lines := strings.Split(string(d.src), "\n")
+		for _, l := range lines[max(0, line-2):min(len(lines), line+1)] {
+			if strings.HasPrefix(strings.TrimLeft(l, " "), "\t") {
+				m[2] += " (YAML does not allow tabs for indentation; indent with spaces)"
+				break
+			}
+		}
 		// yaml.v3 reports the line of the enclosing construct for some
 		// errors, so the line is a neighbourhood, not a pinpoint.
 		return &Error{File: d.file, Line: line, Col: 1, Msg: "YAML syntax error (at or just after this line): " + m[2]}
@@ -99,6 +106,7 @@ func (d *decoder) yamlError(err error) *Error {
 
 type decoder struct {
 	file    string
+	src     []byte
 	errs    ErrorList
 	aliases int
 }
@@ -311,6 +319,7 @@ func (d *decoder) spec(root *yaml.Node) *Spec {
 	s := &Spec{
 		Shaping:       DefaultShaping,
 		Decomposition: DefaultDecomposition,
+		Limits:        DefaultLimits,
 	}
 	var (
 		decompNode, seasonNode *yaml.Node
@@ -369,6 +378,20 @@ func (d *decoder) spec(root *yaml.Node) *Spec {
 		}},
 		{"output", false, func(n *yaml.Node, p string) {
 			d.str(n, p, "the output folder", &s.Output)
+		}},
+		{"limits", false, func(n *yaml.Node, p string) {
+			d.mapping(n, p, "limits", []field{
+				{"max_series", false, func(n *yaml.Node, p string) {
+					if d.integer(n, p, "the most series a run may hold", &s.Limits.MaxSeries) && s.Limits.MaxSeries < 1 {
+						d.errAt(n, p, "max_series must be at least 1, found %d", s.Limits.MaxSeries)
+					}
+				}},
+				{"max_periods", false, func(n *yaml.Node, p string) {
+					if d.integer(n, p, "the longest series, in periods", &s.Limits.MaxPeriods) && s.Limits.MaxPeriods < 1 {
+						d.errAt(n, p, "max_periods must be at least 1, found %d", s.Limits.MaxPeriods)
+					}
+				}},
+			})
 		}},
 	})
 

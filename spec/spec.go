@@ -23,6 +23,7 @@ type Spec struct {
 	Methods       []MethodSpec
 	Horizon       int
 	Output        string // as written; relative paths are relative to Dir
+	Limits        Limits
 
 	// File is the path the spec was loaded from, Dir its folder. Neither is
 	// part of the canonical form.
@@ -165,6 +166,22 @@ type MethodSpec struct {
 	Label   string         // output name; defaults to Method; unique within the spec
 	Options map[string]any // string, int, float64 or bool values, defaults filled
 }
+
+// Limits bound what one run may take on, so that a broken export fails
+// clearly instead of exhausting the machine.
+type Limits struct {
+	// MaxSeries is the most series a run may hold; more stops the run
+	// before any forecasting.
+	MaxSeries int
+	// MaxPeriods is the longest a series may be, in periods from its first
+	// row to its end; a longer series (usually one stray date) is skipped
+	// with a problems row and the rest of the run goes on.
+	MaxPeriods int
+}
+
+// DefaultLimits: ten million series, and 100,000 periods (about 270 years
+// of days).
+var DefaultLimits = Limits{MaxSeries: 10_000_000, MaxPeriods: 100_000}
 
 // DefaultOutputRoot is where the run folder goes when the spec names none:
 // runs/<name> beside the spec.

@@ -1,0 +1,280 @@
+package main
+
+import (
+	"context"
+	"encoding/json"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/apache/arrow-go/v18/arrow"
+	"github.com/apache/arrow-go/v18/arrow/array"
+	"github.com/apache/arrow-go/v18/arrow/memory"
+	"github.com/apache/arrow-go/v18/parquet"
+	"github.com/apache/arrow-go/v18/parquet/file"
+	"github.com/apache/arrow-go/v18/parquet/pqarrow"
+	"gopkg.in/yaml.v3"
+)
+
+// expectation is a corpus case's expect.yaml: the exit code, text that
+// stderr must hold, and for runs that succeed the series count and the
+// problems rows ("severity stage[ method]: message" prefixes).
+type expectation struct {
+	Exit     int      `yaml:"exit"`
+	Stderr   []string `yaml:"stderr"`
+	Series   int      `yaml:"series"`
+	Problems []string `yaml:"problems"`
+}
+
+// problemRows reads problems.parquet as "severity stage[ method]: message".
+func problemRows(t *testing.T, path string) []string {
+	t.Helper()
+	pf, err := file.OpenParquetFile(path, false)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer pf.Close()
+	fr, err := pqarrow.NewFileReader(pf, pqarrow.ArrowReadProperties{}, memory.DefaultAllocator)
+	if err != nil {
+		t.Fatal(err)
+	}
+	tbl, err := fr.ReadTable(context.Background())
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer tbl.Release()
+	col := func(name string) []string {
+		idx := tbl.Schema().FieldIndices(name)
+		var out []string
+		for _, c := range tbl.Column(idx[0]).Data().Chunks() {
+			s := c.(*array.String)
+			for i := 0; i < s.Len(); i++ {
+				if s.IsNull(i) {
+					out = append(out, "")
+				} else {
+					out = append(out, s.Value(i))
+				}
+			}
+		}
+		return out
+	}
+	sev, stage, method, msg := col("severity"), col("stage"), col("method"), col("message")
+	rows := make([]string, len(sev))
+	for i := range sev {
+		head := sev[i] + " " + stage[i]
+		if method[i] != "" {
+			head += " " + method[i]
+		}
+		rows[i] = head + ": " + msg[i]
+	}
+	return rows
+}
+
+func checkCase(t *testing.T, dir string, want expectation) {
+	t.Helper()
+	out := filepath.Join(t.TempDir(), "run")
+	_, stderr, code := almanac(t, dir, "run", "spec.yaml", "--out", out, "-q")
+	if strings.Contains(stderr, "panic") || strings.Contains(stderr, "goroutine ") {
+		t.Fatalf("almanac panicked:\n%s", stderr)
+	}
+	if code != want.Exit {
+		t.Fatalf("exit %d, want %d\n%s", code, want.Exit, stderr)
+	}
+	for _, w := range want.Stderr {
+		if !strings.Contains(stderr, w) {
+			t.Errorf("stderr lacks %q:\n%s", w, stderr)
+		}
+	}
+	if code != 0 {
+		if _, err := os.Stat(out); !os.IsNotExist(err) {
+			t.Errorf("a failed run left %s", out)
+		}
+		return
+	}
+	b, err := os.ReadFile(filepath.Join(out, "manifest.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var m struct{ Series int }
+	json.Unmarshal(b, &m)
+	if want.Series != 0 && m.Series != want.Series {
+		t.Errorf("series = %d, want %d", m.Series, want.Series)
+	}
+	rows := problemRows(t, filepath.Join(out, "problems.parquet"))
+	for _, w := range want.Problems {
+		found := false
+		for _, r := range rows {
+			if strings.HasPrefix(r, w) {
+				found = true
+				break
+			}
+		}
+		if !found {
+			t.Errorf("no problems row starts with %q; rows:\n%s", w, strings.Join(rows, "\n"))
+		}
+	}
+}
+
+// TestBadInputCorpus runs every case in pipeline/testdata/corpus through the
+// real binary: each fails with its pinned message and exit code, or is
+// accepted with its pinned problems rows. Never a panic, never a silent drop.
+func TestBadInputCorpus(t *testing.T) {
+	cases, _ := filepath.Glob("../../pipeline/testdata/corpus/*/expect.yaml")
+	if len(cases) < 30 {
+		t.Fatalf("found %d corpus cases, want at least 30", len(cases))
+	}
+	for _, c := range cases {
+		dir := filepath.Dir(c)
+		t.Run(filepath.Base(dir), func(t *testing.T) {
+			var want expectation
+			b, _ := os.ReadFile(c)
+			if err := yaml.Unmarshal(b, &want); err != nil {
+				t.Fatal(err)
+			}
+			checkCase(t, dir, want)
+		})
+	}
+}
+
+const parquetSpec = `version: 1
+name: corpus-parquet
+sources: [data.parquet]
+columns: {time: month, value: qty, keys: [store]}
+calendar: {frequency: month}
+methods: [naive, seasonal_naive]
+horizon: 3
+output: out
+`
+
+// writeParquet writes one record batch built by fill to dir/data.parquet.
+func writeParquet(t *testing.T, dir string, fields []arrow.Field, n int, fill func(b *array.RecordBuilder, i int)) string {
+	t.Helper()
+	sch := arrow.NewSchema(fields, nil)
+	b := array.NewRecordBuilder(memory.DefaultAllocator, sch)
+	defer b.Release()
+	for i := 0; i < n; i++ {
+		fill(b, i)
+	}
+	rec := b.NewRecordBatch()
+	defer rec.Release()
+	path := filepath.Join(dir, "data.parquet")
+	f, err := os.Create(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	w, err := pqarrow.NewFileWriter(sch, f, parquet.NewWriterProperties(), pqarrow.DefaultWriterProps())
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := w.Write(rec); err != nil {
+		t.Fatal(err)
+	}
+	if err := w.Close(); err != nil {
+		t.Fatal(err)
+	}
+	os.WriteFile(filepath.Join(dir, "spec.yaml"), []byte(parquetSpec), 0o644)
+	return path
+}
+
+var (
+	fTimeStr = arrow.Field{Name: "month", Type: arrow.BinaryTypes.String}
+	fStore   = arrow.Field{Name: "store", Type: arrow.BinaryTypes.String}
+	fQty     = arrow.Field{Name: "qty", Type: arrow.PrimitiveTypes.Float64, Nullable: true}
+)
+
+func monthText(i int) string {
+	return []string{"2021", "2022", "2023"}[i/12] + "-" + []string{"01", "02", "03", "04", "05", "06", "07", "08", "09", "10", "11", "12"}[i%12]
+}
+
+// Cases that need files made on the fly: Parquet variants and a 50 MB spec.
+func TestBadInputCorpusGenerated(t *testing.T) {
+	t.Run("parquet-good-date32-int-keys", func(t *testing.T) {
+		dir := t.TempDir()
+		writeParquet(t, dir, []arrow.Field{{Name: "month", Type: arrow.FixedWidthTypes.Date32}, {Name: "store", Type: arrow.PrimitiveTypes.Int64}, {Name: "qty", Type: arrow.PrimitiveTypes.Int32}}, 36,
+			func(b *array.RecordBuilder, i int) {
+				d := arrow.Date32FromTime(mustMonth(monthText(i)))
+				b.Field(0).(*array.Date32Builder).Append(d)
+				b.Field(1).(*array.Int64Builder).Append(17)
+				b.Field(2).(*array.Int32Builder).Append(int32(100 + i))
+			})
+		checkCase(t, dir, expectation{Exit: 0, Series: 1})
+	})
+	t.Run("parquet-timestamp", func(t *testing.T) {
+		dir := t.TempDir()
+		writeParquet(t, dir, []arrow.Field{{Name: "month", Type: &arrow.TimestampType{Unit: arrow.Microsecond, TimeZone: "UTC"}}, fStore, fQty}, 36,
+			func(b *array.RecordBuilder, i int) {
+				b.Field(0).(*array.TimestampBuilder).Append(arrow.Timestamp(mustMonth(monthText(i)).UnixMicro() + 3600e6))
+				b.Field(1).(*array.StringBuilder).Append("A")
+				b.Field(2).(*array.Float64Builder).Append(float64(i))
+			})
+		checkCase(t, dir, expectation{Exit: 0, Series: 1})
+	})
+	t.Run("parquet-value-column-wrong-type", func(t *testing.T) {
+		dir := t.TempDir()
+		writeParquet(t, dir, []arrow.Field{fTimeStr, fStore, {Name: "qty", Type: arrow.BinaryTypes.String}}, 3,
+			func(b *array.RecordBuilder, i int) {
+				b.Field(0).(*array.StringBuilder).Append(monthText(i))
+				b.Field(1).(*array.StringBuilder).Append("A")
+				b.Field(2).(*array.StringBuilder).Append("12")
+			})
+		checkCase(t, dir, expectation{Exit: 1, Stderr: []string{`data.parquet: column "qty" has type utf8; the value column must be numeric`}})
+	})
+	t.Run("parquet-time-column-wrong-type", func(t *testing.T) {
+		dir := t.TempDir()
+		writeParquet(t, dir, []arrow.Field{{Name: "month", Type: arrow.PrimitiveTypes.Float64}, fStore, fQty}, 3,
+			func(b *array.RecordBuilder, i int) {
+				b.Field(0).(*array.Float64Builder).Append(2021.5)
+				b.Field(1).(*array.StringBuilder).Append("A")
+				b.Field(2).(*array.Float64Builder).Append(1)
+			})
+		checkCase(t, dir, expectation{Exit: 1, Stderr: []string{`data.parquet: column "month" has type float64; a time column must be DATE, TIMESTAMP or text`}})
+	})
+	t.Run("parquet-null-time", func(t *testing.T) {
+		dir := t.TempDir()
+		writeParquet(t, dir, []arrow.Field{{Name: "month", Type: arrow.BinaryTypes.String, Nullable: true}, fStore, fQty}, 3,
+			func(b *array.RecordBuilder, i int) {
+				if i == 1 {
+					b.Field(0).(*array.StringBuilder).AppendNull()
+				} else {
+					b.Field(0).(*array.StringBuilder).Append(monthText(i))
+				}
+				b.Field(1).(*array.StringBuilder).Append("A")
+				b.Field(2).(*array.Float64Builder).Append(1)
+			})
+		checkCase(t, dir, expectation{Exit: 1, Stderr: []string{`data.parquet: row 2: column "month": the time is NULL`}})
+	})
+	t.Run("parquet-truncated", func(t *testing.T) {
+		dir := t.TempDir()
+		path := writeParquet(t, dir, []arrow.Field{fTimeStr, fStore, fQty}, 36, func(b *array.RecordBuilder, i int) {
+			b.Field(0).(*array.StringBuilder).Append(monthText(i))
+			b.Field(1).(*array.StringBuilder).Append("A")
+			b.Field(2).(*array.Float64Builder).Append(float64(i))
+		})
+		full, _ := os.ReadFile(path)
+		for _, keep := range []int{len(full) / 2, len(full) - 3, 4, 0} {
+			os.WriteFile(path, full[:keep], 0o644)
+			checkCase(t, dir, expectation{Exit: 1, Stderr: []string{"data.parquet: not a readable Parquet file"}})
+		}
+	})
+	t.Run("spec-50MB", func(t *testing.T) {
+		dir := t.TempDir()
+		f, _ := os.Create(filepath.Join(dir, "spec.yaml"))
+		f.WriteString(parquetSpec)
+		line := "# " + strings.Repeat("padding ", 12) + "\n"
+		for written := 0; written < 50<<20; written += len(line) {
+			f.WriteString(line)
+		}
+		f.Close()
+		checkCase(t, dir, expectation{Exit: 2, Stderr: []string{"spec.yaml: spec file is 5242", "bytes; the limit is 1048576 bytes"}})
+	})
+}
+
+func mustMonth(s string) time.Time {
+	t, err := time.Parse("2006-01", s)
+	if err != nil {
+		panic(err)
+	}
+	return t
+}
