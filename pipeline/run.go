@@ -170,6 +170,7 @@ func Run(ctx context.Context, s *spec.Spec, opts Options) (*Summary, error) {
 	}
 	logf("read %d rows from %d file(s)", len(rs.periods), len(files))
 	clock.lap("read")
+	stallPoint("read")
 	series, err := shapeRows(rs, s.Shaping, s.Limits, cal, s.Columns.Keys)
 	if err != nil {
 		return nil, err
@@ -224,6 +225,9 @@ func Run(ctx context.Context, s *spec.Spec, opts Options) (*Summary, error) {
 		if opts.Progress != nil {
 			opts.Progress.Add(1)
 		}
+		if i == len(series)/2 {
+			stallPoint("forecast")
+		}
 		return w.write(r, cal)
 	})
 	if opts.Progress != nil {
@@ -237,6 +241,7 @@ func Run(ctx context.Context, s *spec.Spec, opts Options) (*Summary, error) {
 		return nil, err
 	}
 	clock.lap("write")
+	stallPoint("tables")
 
 	man := &Manifest{
 		Almanac:   Version,
@@ -276,11 +281,26 @@ func Run(ctx context.Context, s *spec.Spec, opts Options) (*Summary, error) {
 	if err := writeManifest(filepath.Join(staging, "manifest.json"), man); err != nil {
 		return nil, err
 	}
+	stallPoint("commit")
 	if err := commitStaging(staging, target); err != nil {
 		return nil, err
 	}
 	committed = true
 	return &Summary{Dir: target, Manifest: man}, nil
+}
+
+// StallEnv names the environment variable of the crash-safety tests: when
+// it holds a stage name (read, forecast, tables, commit), the run says
+// "almanac: stalled at <stage>" on stderr at that point and blocks, so that
+// a test can kill the process there. Not for production use.
+const StallEnv = "ALMANAC_TEST_STALL_AT"
+
+func stallPoint(name string) {
+	if os.Getenv(StallEnv) != name {
+		return
+	}
+	fmt.Fprintf(os.Stderr, "almanac: stalled at %s\n", name)
+	select {}
 }
 
 // forEachOrdered runs work(i) for i in [0, n) on the given number of

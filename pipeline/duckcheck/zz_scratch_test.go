@@ -1,7 +1,6 @@
 package duckcheck
 
 import (
-	"database/sql"
 	"fmt"
 	"os"
 	"strings"
@@ -13,7 +12,7 @@ func TestScratch(t *testing.T) {
 	if q == "" {
 		t.Skip()
 	}
-	db, _ := sql.Open("duckdb", "")
+	ready(t)
 	for _, s := range strings.Split(q, ";;") {
 		rows, err := db.Query(s)
 		if err != nil {

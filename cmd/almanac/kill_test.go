@@ -1,0 +1,155 @@
+package main
+
+import (
+	"bufio"
+	"bytes"
+	"fmt"
+	"math"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"strings"
+	"syscall"
+	"testing"
+	"time"
+
+	"almanac/pipeline"
+)
+
+// killPanel writes a panel big enough that a run takes a moment.
+func killPanel(t *testing.T, dir string) {
+	t.Helper()
+	var b strings.Builder
+	b.WriteString("month,store,item,qty\n")
+	for k := 0; k < 1500; k++ {
+		for i := 0; i < 48; i++ {
+			v := 200 + float64(k%37) + 3*float64(i) + 40*math.Sin(2*math.Pi*float64(i%12)/12+float64(k))
+			fmt.Fprintf(&b, "%04d-%02d,S%04d,I%d,%.2f\n", 2020+i/12, i%12+1, k%300, k/300, v)
+		}
+	}
+	os.WriteFile(filepath.Join(dir, "sales.csv"), []byte(b.String()), 0o644)
+	os.WriteFile(filepath.Join(dir, "spec.yaml"), []byte(`version: 1
+name: kill
+sources: [sales.csv]
+columns: {time: month, value: qty, keys: [store, item]}
+calendar: {frequency: month}
+methods: [naive, seasonal_naive, drift, {method: classical}, {method: classical, form: additive, trend: trend_step, label: add}]
+horizon: 12
+output: out/kill
+`), 0o644)
+}
+
+func tableBytes(t *testing.T, dir string) map[string][]byte {
+	t.Helper()
+	out := map[string][]byte{}
+	for _, n := range []string{"forecasts", "components", "seasonal_factors", "problems"} {
+		b, err := os.ReadFile(filepath.Join(dir, n+".parquet"))
+		if err != nil {
+			t.Fatal(err)
+		}
+		out[n] = b
+	}
+	return out
+}
+
+// visible lists what a reader of out/ would see (hidden staging excluded).
+func visible(t *testing.T, dir string) []string {
+	entries, _ := os.ReadDir(dir)
+	var names []string
+	for _, e := range entries {
+		if !strings.HasPrefix(e.Name(), ".") {
+			names = append(names, e.Name())
+		}
+	}
+	return names
+}
+
+// startStalled starts almanac run and waits until it reports the stall point.
+func startStalled(t *testing.T, dir, point string) *exec.Cmd {
+	t.Helper()
+	cmd := exec.Command(binary, "run", "spec.yaml", "-q", "--workers", "2")
+	cmd.Dir = dir
+	cmd.Env = append(os.Environ(), pipeline.StallEnv+"="+point)
+	stderr, _ := cmd.StderrPipe()
+	if err := cmd.Start(); err != nil {
+		t.Fatal(err)
+	}
+	got := make(chan string, 1)
+	go func() {
+		sc := bufio.NewScanner(stderr)
+		for sc.Scan() {
+			if strings.Contains(sc.Text(), "stalled at") {
+				got <- sc.Text()
+				return
+			}
+		}
+		got <- ""
+	}()
+	select {
+	case line := <-got:
+		if !strings.Contains(line, "stalled at "+point) {
+			cmd.Process.Kill()
+			t.Fatalf("process did not stall at %s (said %q)", point, line)
+		}
+	case <-time.After(60 * time.Second):
+		cmd.Process.Kill()
+		t.Fatalf("no stall at %s within a minute", point)
+	}
+	return cmd
+}
+
+// TestSIGKILLLeavesNoPartialRun kills a real almanac run with SIGKILL at
+// several points of its work: no partial run folder becomes visible, an
+// earlier run survives intact, and the rerun is byte-identical to an
+// uninterrupted run.
+func TestSIGKILLLeavesNoPartialRun(t *testing.T) {
+	ref := t.TempDir()
+	killPanel(t, ref)
+	if _, stderr, code := almanac(t, ref, "run", "spec.yaml", "-q"); code != 0 {
+		t.Fatalf("reference run: %s", stderr)
+	}
+	want := tableBytes(t, filepath.Join(ref, "out", "kill"))
+
+	for _, point := range []string{"read", "forecast", "tables", "commit"} {
+		t.Run(point, func(t *testing.T) {
+			dir := t.TempDir()
+			killPanel(t, dir)
+			// First run killed: nothing appears.
+			cmd := startStalled(t, dir, point)
+			cmd.Process.Signal(syscall.SIGKILL)
+			cmd.Wait()
+			if v := visible(t, filepath.Join(dir, "out")); len(v) != 0 {
+				t.Fatalf("after SIGKILL at %s, out/ shows %v", point, v)
+			}
+			// A complete run, then a killed rerun: the old run survives whole.
+			if _, stderr, code := almanac(t, dir, "run", "spec.yaml", "-q"); code != 0 {
+				t.Fatalf("rerun: %s", stderr)
+			}
+			before := tableBytes(t, filepath.Join(dir, "out", "kill"))
+			cmd = startStalled(t, dir, point)
+			cmd.Process.Signal(syscall.SIGKILL)
+			cmd.Wait()
+			after := tableBytes(t, filepath.Join(dir, "out", "kill"))
+			for n := range before {
+				if !bytes.Equal(before[n], after[n]) {
+					t.Errorf("killed rerun changed %s of the previous run", n)
+				}
+			}
+			// The next run cleans up and writes the same bytes as an
+			// uninterrupted run.
+			if _, stderr, code := almanac(t, dir, "run", "spec.yaml", "-q"); code != 0 {
+				t.Fatalf("run after kill: %s", stderr)
+			}
+			got := tableBytes(t, filepath.Join(dir, "out", "kill"))
+			for n := range want {
+				if !bytes.Equal(want[n], got[n]) {
+					t.Errorf("%s after a killed run differs from the uninterrupted run", n)
+				}
+			}
+			hidden, _ := filepath.Glob(filepath.Join(dir, "out", ".almanac-tmp-*"))
+			if len(hidden) != 0 {
+				t.Errorf("staging folders left after a clean run: %v", hidden)
+			}
+		})
+	}
+}
