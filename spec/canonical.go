@@ -10,17 +10,40 @@ import (
 // filled, in a fixed order. Paths appear as written in the spec, so the hash
 // does not depend on where the checkout lives.
 type canonicalSpec struct {
-	Version       int               `json:"version"`
-	Name          string            `json:"name"`
-	Sources       []canonicalSource `json:"sources"`
-	Columns       canonicalColumns  `json:"columns"`
-	Calendar      canonicalCalendar `json:"calendar"`
-	Shaping       canonicalShaping  `json:"shaping"`
-	Decomposition canonicalDecomp   `json:"decomposition"`
-	Methods       []canonicalMethod `json:"methods"`
-	Horizon       int               `json:"horizon"`
-	Output        string            `json:"output"`
-	Limits        canonicalLimits   `json:"limits"`
+	Version       int                 `json:"version"`
+	Name          string              `json:"name"`
+	Sources       []canonicalSource   `json:"sources"`
+	Columns       canonicalColumns    `json:"columns"`
+	Calendar      canonicalCalendar   `json:"calendar"`
+	Shaping       canonicalShaping    `json:"shaping"`
+	Decomposition canonicalDecomp     `json:"decomposition"`
+	Methods       []canonicalMethod   `json:"methods"`
+	Horizon       int                 `json:"horizon"`
+	Output        string              `json:"output"`
+	Limits        canonicalLimits     `json:"limits"`
+	Backtest      *canonicalBacktest  `json:"backtest,omitempty"`
+	Selection     *canonicalSelect    `json:"selection,omitempty"`
+	Intervals     *canonicalIntervals `json:"intervals,omitempty"`
+}
+
+type canonicalBacktest struct {
+	Folds        int    `json:"folds"`
+	Step         int    `json:"step"`
+	Horizon      int    `json:"horizon"`
+	Window       string `json:"window"`
+	MinTrain     int    `json:"min_train"`
+	WindowLength int    `json:"window_length"`
+}
+
+type canonicalSelect struct {
+	Metric  string       `json:"metric"`
+	Combine *Combination `json:"combine,omitempty"`
+}
+
+type canonicalIntervals struct {
+	Levels     []int  `json:"levels"`
+	Source     string `json:"source"`
+	AllMethods bool   `json:"all_methods"`
 }
 
 type canonicalLimits struct {
@@ -80,6 +103,13 @@ func (s *Spec) Canonical() []byte {
 		Horizon:       s.Horizon,
 		Output:        s.Output,
 		Limits:        canonicalLimits{MaxSeries: s.Limits.MaxSeries, MaxPeriods: s.Limits.MaxPeriods},
+	}
+	if b := s.Backtest; b.Folds > 0 {
+		c.Backtest = &canonicalBacktest{Folds: b.Folds, Step: b.Step, Horizon: b.Horizon, Window: string(b.Window), MinTrain: b.MinTrain, WindowLength: b.WindowLength}
+		c.Selection = &canonicalSelect{Metric: s.Selection.Metric, Combine: s.Selection.Combine}
+	}
+	if len(s.Intervals.Levels) > 0 {
+		c.Intervals = &canonicalIntervals{Levels: s.Intervals.Levels, Source: s.Intervals.Source, AllMethods: s.Intervals.AllMethods}
 	}
 	if c.Columns.Keys == nil {
 		c.Columns.Keys = []string{}

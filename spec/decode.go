@@ -320,11 +320,13 @@ func (d *decoder) spec(root *yaml.Node) *Spec {
 		Shaping:       DefaultShaping,
 		Decomposition: DefaultDecomposition,
 		Limits:        DefaultLimits,
+		Selection:     DefaultSelection,
 	}
 	var (
-		decompNode, seasonNode *yaml.Node
-		methodNodes            []*yaml.Node
-		haveDecomp             bool
+		backtestNode, selectionNode, intervalsNode *yaml.Node
+		decompNode, seasonNode                     *yaml.Node
+		methodNodes                                []*yaml.Node
+		haveDecomp                                 bool
 	)
 	d.mapping(root, "", "the spec", []field{
 		{"version", true, func(n *yaml.Node, p string) {
@@ -379,6 +381,18 @@ func (d *decoder) spec(root *yaml.Node) *Spec {
 		{"output", false, func(n *yaml.Node, p string) {
 			d.str(n, p, "the output folder", &s.Output)
 		}},
+		{"backtest", false, func(n *yaml.Node, p string) {
+			backtestNode = n
+			d.backtest(n, p, &s.Backtest)
+		}},
+		{"selection", false, func(n *yaml.Node, p string) {
+			selectionNode = n
+			d.selection(n, p, &s.Selection)
+		}},
+		{"intervals", false, func(n *yaml.Node, p string) {
+			intervalsNode = n
+			d.intervals(n, p, &s.Intervals)
+		}},
 		{"limits", false, func(n *yaml.Node, p string) {
 			d.mapping(n, p, "limits", []field{
 				{"max_series", false, func(n *yaml.Node, p string) {
@@ -402,6 +416,40 @@ func (d *decoder) spec(root *yaml.Node) *Spec {
 	if s.Output == "" && s.Name != "" {
 		s.Output = DefaultOutputRoot + "/" + s.Name
 	}
+	if b := &s.Backtest; b.Folds > 0 {
+		if b.Horizon == 0 {
+			b.Horizon = s.Horizon
+		}
+		if b.Step == 0 {
+			b.Step = b.Horizon
+		}
+		if b.MinTrain == 0 {
+			b.MinTrain = max(2*s.Calendar.SeasonLength, 3)
+		}
+	}
+	if selectionNode != nil && backtestNode == nil {
+		d.errAt(selectionNode, "selection", "selection ranks methods by their backtest; add a backtest section")
+	}
+	if c := s.Selection.Combine; c != nil && c.Top > len(s.Methods) && len(s.Methods) > 0 {
+		d.errAt(selectionNode, "selection.combine.top", "top is %d but the spec names only %d method(s)", c.Top, len(s.Methods))
+	}
+	seen := map[string]int{}
+	for i, m := range s.Methods {
+		if j, dup := seen[m.Label]; dup {
+			d.errAt(methodNodes[i], fmt.Sprintf("methods[%d]", i),
+				"label %q is already used by methods[%d]; give one of them a different label", m.Label, j)
+			continue
+		}
+		seen[m.Label] = i
+	}
+	if c := s.Selection.Combine; c != nil {
+		if _, dup := seen[c.Label]; dup {
+			d.errAt(selectionNode, "selection.combine.label", "label %q is already used by a method; give the combination another label", c.Label)
+		}
+	}
+	if intervalsNode != nil && s.Intervals.Source == "empirical" && backtestNode == nil {
+		d.errAt(intervalsNode, "intervals", "empirical intervals come from backtest errors; add a backtest section or use source: model")
+	}
 
 	// Cross-field checks.
 	if s.Calendar.SeasonLength == 1 {
@@ -418,15 +466,7 @@ func (d *decoder) spec(root *yaml.Node) *Spec {
 				s.Calendar.SeasonLength, defaultNote(seasonNode, s.Calendar.Frequency))
 		}
 	}
-	seen := map[string]int{}
-	for i, m := range s.Methods {
-		if j, dup := seen[m.Label]; dup {
-			d.errAt(methodNodes[i], fmt.Sprintf("methods[%d]", i),
-				"label %q is already used by methods[%d]; give one of them a different label", m.Label, j)
-			continue
-		}
-		seen[m.Label] = i
-	}
+
 	return s
 }
 

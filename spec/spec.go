@@ -24,6 +24,9 @@ type Spec struct {
 	Horizon       int
 	Output        string // as written; relative paths are relative to Dir
 	Limits        Limits
+	Backtest      Backtest  // Folds == 0: no backtest
+	Selection     Selection // used when there is a backtest
+	Intervals     Intervals // no Levels: no intervals
 
 	// File is the path the spec was loaded from, Dir its folder. Neither is
 	// part of the canonical form.

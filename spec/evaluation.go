@@ -1,0 +1,176 @@
+package spec
+
+import (
+	"fmt"
+
+	"gopkg.in/yaml.v3"
+)
+
+// Window is how a backtest's training window moves.
+type Window string
+
+// Training windows.
+const (
+	// Expanding: every fold trains on all history before its origin.
+	Expanding Window = "expanding"
+	// Sliding: every fold trains on the same number of periods just
+	// before its origin.
+	Sliding Window = "sliding"
+)
+
+// Windows lists the allowed values of Window.
+var Windows = []string{string(Expanding), string(Sliding)}
+
+// Backtest configures rolling-origin evaluation. Folds == 0 means no
+// backtest (and no selection).
+type Backtest struct {
+	Folds        int    // number of forecast origins, counted back from the end
+	Step         int    // periods between consecutive origins; default the backtest horizon
+	Horizon      int    // periods forecast at each origin; default the spec's horizon
+	Window       Window // expanding (default) or sliding
+	MinTrain     int    // fewest training periods a fold may have; default 2 seasons (at least 3 periods)
+	WindowLength int    // sliding only: training periods per fold; default the first fold's training length
+}
+
+// Metrics a selection may rank by.
+var Metrics = []string{"mase", "rmsse", "mae", "rmse", "mape", "smape", "wape"}
+
+// Selection chooses a method per series from the backtest.
+type Selection struct {
+	Metric  string       // default mase
+	Combine *Combination // optional combination entry, backtested like a method
+}
+
+// DefaultSelection ranks by MASE.
+var DefaultSelection = Selection{Metric: "mase"}
+
+// Combination averages the k best methods of each series.
+type Combination struct {
+	Kind  string `json:"kind"`  // mean or median
+	Top   int    `json:"top"`   // how many of the series' best methods to combine; default 3
+	Label string `json:"label"` // the entry's method label; default "combination"
+}
+
+// IntervalSources lists where prediction intervals may come from.
+var IntervalSources = []string{"empirical", "model"}
+
+// Intervals configures prediction intervals around the forecasts.
+type Intervals struct {
+	Levels []int // coverage levels in percent, e.g. 80 and 95; empty means none
+	// Source: empirical — quantiles of the backtest errors at each step
+	// ahead, scaled to the series (needs a backtest); model — the method's
+	// own forecast variance where it has one, empirical otherwise.
+	Source     string
+	AllMethods bool // intervals for every method, not only the chosen one
+}
+
+func (d *decoder) backtest(n *yaml.Node, path string, b *Backtest) {
+	var lengthNode *yaml.Node
+	d.mapping(n, path, "backtest", []field{
+		{"folds", true, func(n *yaml.Node, p string) {
+			if d.integer(n, p, "the number of folds", &b.Folds) && (b.Folds < 1 || b.Folds > 100) {
+				d.errAt(n, p, "folds must be between 1 and 100, found %d", b.Folds)
+			}
+		}},
+		{"step", false, func(n *yaml.Node, p string) {
+			if d.integer(n, p, "the periods between origins", &b.Step) && b.Step < 1 {
+				d.errAt(n, p, "step must be at least 1, found %d", b.Step)
+			}
+		}},
+		{"horizon", false, func(n *yaml.Node, p string) {
+			if d.integer(n, p, "the backtest horizon", &b.Horizon) && b.Horizon < 1 {
+				d.errAt(n, p, "horizon must be at least 1, found %d", b.Horizon)
+			}
+		}},
+		{"window", false, func(n *yaml.Node, p string) {
+			d.enum(n, p, "window", Windows, (*string)(&b.Window))
+		}},
+		{"min_train", false, func(n *yaml.Node, p string) {
+			if d.integer(n, p, "the minimum training length", &b.MinTrain) && b.MinTrain < 2 {
+				d.errAt(n, p, "min_train must be at least 2, found %d", b.MinTrain)
+			}
+		}},
+		{"window_length", false, func(n *yaml.Node, p string) {
+			lengthNode = n
+			if d.integer(n, p, "the sliding window length", &b.WindowLength) && b.WindowLength < 2 {
+				d.errAt(n, p, "window_length must be at least 2, found %d", b.WindowLength)
+			}
+		}},
+	})
+	if lengthNode != nil && b.Window != Sliding {
+		d.errAt(lengthNode, path+".window_length", "window_length applies only to window: sliding")
+	}
+	if b.Window == "" {
+		b.Window = Expanding
+	}
+}
+
+func (d *decoder) selection(n *yaml.Node, path string, s *Selection) {
+	d.mapping(n, path, "selection", []field{
+		{"metric", false, func(n *yaml.Node, p string) { d.enum(n, p, "metric", Metrics, &s.Metric) }},
+		{"combine", false, func(n *yaml.Node, p string) {
+			c := &Combination{Top: 3, Label: "combination"}
+			d.mapping(n, p, "combine", []field{
+				{"kind", true, func(n *yaml.Node, p string) { d.enum(n, p, "combination kind", []string{"mean", "median"}, &c.Kind) }},
+				{"top", false, func(n *yaml.Node, p string) {
+					if d.integer(n, p, "how many methods to combine", &c.Top) && c.Top < 2 {
+						d.errAt(n, p, "top must be at least 2, found %d", c.Top)
+					}
+				}},
+				{"label", false, func(n *yaml.Node, p string) {
+					d.str(n, p, "a label", &c.Label)
+					if c.Label != "" && !nameRE.MatchString(c.Label) {
+						d.errAt(n, p, "label %q may hold only letters, digits, '.', '_' and '-', starting with a letter or digit", c.Label)
+					}
+				}},
+			})
+			s.Combine = c
+		}},
+	})
+}
+
+func (d *decoder) intervals(n *yaml.Node, path string, iv *Intervals) {
+	iv.Source = "empirical"
+	d.mapping(n, path, "intervals", []field{
+		{"levels", true, func(n *yaml.Node, p string) {
+			n = d.resolve(n)
+			if n == nil {
+				return
+			}
+			if n.Kind != yaml.SequenceNode || len(n.Content) == 0 {
+				d.errAt(n, p, "expected a list of coverage levels in percent, such as [80, 95]")
+				return
+			}
+			seen := map[int]bool{}
+			for i, item := range n.Content {
+				var v int
+				ip := fmt.Sprintf("%s[%d]", p, i)
+				if !d.integer(item, ip, "a coverage level in percent (an integer, 50 to 99)", &v) {
+					continue
+				}
+				if v < 50 || v > 99 {
+					d.errAt(item, ip, "coverage levels are percentages from 50 to 99, found %d", v)
+					continue
+				}
+				if seen[v] {
+					d.errAt(item, ip, "level %d is listed twice", v)
+					continue
+				}
+				seen[v] = true
+				iv.Levels = append(iv.Levels, v)
+			}
+		}},
+		{"source", false, func(n *yaml.Node, p string) { d.enum(n, p, "interval source", IntervalSources, &iv.Source) }},
+		{"all_methods", false, func(n *yaml.Node, p string) {
+			sn, ok := d.scalar(n, p, "true or false")
+			if !ok {
+				return
+			}
+			if sn.Tag != "!!bool" {
+				d.errAt(sn, p, "expected true or false, found %s", kindName(sn))
+				return
+			}
+			iv.AllMethods = sn.Value == "true"
+		}},
+	})
+}
