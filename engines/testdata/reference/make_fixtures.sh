@@ -14,13 +14,14 @@ Rscript data/dump_data.R          # data/*.json: the datasets, as R has them
 Rscript hw/make_hw.R              # hw/fixed_*.json, hw/optim_*.json
 Rscript stl/make_stl.R            # stl/*.json
 Rscript holdout/make_holdout.R    # holdout/*.json
+Rscript metrics/make_metrics.R    # metrics/*.json (accuracy metrics, interval and pinball scores)
 Rscript bench/time_r.R            # bench/*.json (timings vary run to run)
 $PY ets/make_ets.py               # ets/*.json   (reads data/*.json)
 $PY theta/make_theta.py           # theta/*.json (reads data/*.json)
 
 # every fixture must be valid JSON
 n=0
-for f in data/*.json hw/*.json ets/*.json stl/*.json theta/*.json holdout/*.json bench/*.json; do
+for f in data/*.json hw/*.json ets/*.json stl/*.json theta/*.json holdout/*.json metrics/*.json bench/*.json; do
   $PY -m json.tool "$f" >/dev/null || { echo "invalid JSON: $f" >&2; exit 1; }
   n=$((n + 1))
 done
