@@ -470,9 +470,16 @@ func forEach(t *testing.T, f func(t *testing.T, ex *example)) {
 }
 
 // rows runs q and renders every row as a string.
-func rows(t *testing.T, q string, args ...any) [][]string {
+func rows(t *testing.T, q string) [][]string {
 	t.Helper()
-	r, err := db.Query(q, args...)
+	_, out := table(t, q)
+	return out
+}
+
+// table runs q and returns its column names and rows, rendered as strings.
+func table(t *testing.T, q string) ([]string, [][]string) {
+	t.Helper()
+	r, err := db.Query(q)
 	if err != nil {
 		t.Fatalf("query failed: %v\n%s", err, q)
 	}
@@ -509,17 +516,18 @@ func rows(t *testing.T, q string, args ...any) [][]string {
 	if err := r.Err(); err != nil {
 		t.Fatalf("query failed: %v\n%s", err, q)
 	}
-	return out
+	return cols, out
 }
 
 // none fails when q, a query for rows that break a rule, returns any.
 func none(t *testing.T, rule, q string) {
 	t.Helper()
-	got := rows(t, q)
+	cols, got := table(t, q)
 	if len(got) == 0 {
 		return
 	}
 	var b strings.Builder
+	fmt.Fprintf(&b, "  %s\n", strings.Join(cols, " | "))
 	for i, r := range got {
 		if i == 10 {
 			fmt.Fprintf(&b, "  … %d rows in all\n", len(got))

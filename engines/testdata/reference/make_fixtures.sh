@@ -1,5 +1,5 @@
 #!/bin/sh
-# Regenerates the reference fixtures for exponential smoothing, Holt-Winters,
+# Regenerates the reference fixtures for classical decomposition, exponential smoothing, Holt-Winters,
 # STL, Theta, hold-out evaluation and the R timings (see REFERENCE-METHODS.md).
 # Needs R (Debian: r-base-core) and statsmodels for the system Python
 # (Debian: python3-statsmodels). CI does not run this: the JSON is committed.
@@ -11,6 +11,8 @@ Rscript --version
 $PY -c 'import statsmodels; print("statsmodels", statsmodels.__version__)'
 
 Rscript data/dump_data.R          # data/*.json: the datasets, as R has them
+Rscript decompose.R               # decompose/*.json (stats::decompose)
+$PY seasonal_decompose.py         # statsmodels_decompose/*.json (reads decompose/*.json)
 Rscript hw/make_hw.R              # hw/fixed_*.json, hw/optim_*.json
 Rscript stl/make_stl.R            # stl/*.json
 Rscript holdout/make_holdout.R    # holdout/*.json
@@ -21,7 +23,7 @@ $PY theta/make_theta.py           # theta/*.json (reads data/*.json)
 
 # every fixture must be valid JSON
 n=0
-for f in data/*.json hw/*.json ets/*.json stl/*.json theta/*.json holdout/*.json metrics/*.json bench/*.json; do
+for f in data/*.json decompose/*.json statsmodels_decompose/*.json hw/*.json ets/*.json stl/*.json theta/*.json holdout/*.json metrics/*.json bench/*.json; do
   $PY -m json.tool "$f" >/dev/null || { echo "invalid JSON: $f" >&2; exit 1; }
   n=$((n + 1))
 done
