@@ -4,7 +4,8 @@
 //
 // It is a nested module so that the main module does not depend on DuckDB.
 // It never imports almanac's packages: it builds the almanac binary from the
-// repository root and runs it as a separate process.
+// repository root and runs it as a separate process. Run it with
+// go test -count=1: a cached result does not see changes to almanac.
 package duckcheck
 
 import (
@@ -251,9 +252,8 @@ func setup() error {
 // run runs almanac on the example and reads its manifest.
 func (ex *example) run(ctx context.Context, wd string) error {
 	ex.dir = filepath.Join(workDir, ex.name)
-	// Flags go before SPEC: almanac's CLI (urfave/cli v2) stops reading
-	// flags at the first argument (see README.md).
-	cmd := exec.CommandContext(ctx, binPath, "run", "--out", ex.dir, "--workers", "2", "--quiet", ex.spec)
+	// SPEC first and the flags after it, as README.md gives the command.
+	cmd := exec.CommandContext(ctx, binPath, "run", ex.spec, "--out", ex.dir, "--workers", "2", "--quiet")
 	cmd.Dir = wd
 	var stdout, stderr bytes.Buffer
 	cmd.Stdout, cmd.Stderr = &stdout, &stderr
