@@ -78,9 +78,15 @@ type seriesResult struct {
 }
 
 type methodForecast struct {
-	label  string
-	model  string
-	values []float64
+	label    string
+	model    string
+	values   []float64
+	variance []float64
+	// filled by the evaluation: whether this is the series' chosen entry,
+	// and its interval bounds per level (nil when none)
+	chosen         bool
+	lower, upper   [][]float64
+	intervalSource string
 }
 
 // OutputDir is where a run of s with opts writes.
@@ -195,7 +201,7 @@ func Run(ctx context.Context, s *spec.Spec, opts Options) (*Summary, error) {
 		"almanac.version":     Version,
 		"almanac.spec_name":   s.Name,
 	}
-	w, err := openTables(staging, s.Columns.Keys, meta, mem)
+	w, err := openTables(staging, s, meta, mem)
 	if err != nil {
 		return nil, err
 	}
@@ -214,12 +220,40 @@ func Run(ctx context.Context, s *spec.Spec, opts Options) (*Summary, error) {
 			message: fmt.Sprintf("%d rows have an empty or NaN value; they count as missing", missing)})
 	}
 
+	work := &seriesWork{spec: s, cal: cal, methods: methods, decomposer: decomposer, wrap: opts.wrapMethod,
+		wantVariance: s.Intervals.Source == "model" && len(s.Intervals.Levels) > 0,
+		eval:         newEvaluation(s, len(series))}
+	if e := work.eval; e != nil {
+		// Pass 1: backtest every series; write accuracy and choices.
+		if opts.Progress != nil {
+			opts.Progress.Start(len(series))
+		}
+		err = forEachOrdered(ctx, len(series), workers, func(i int) *backtestResult {
+			return work.backtest(series[i])
+		}, func(i int, r *backtestResult) error {
+			if opts.Progress != nil {
+				opts.Progress.Add(1)
+			}
+			e.record(i, r)
+			e.choices[i].problems = r.problems
+			return w.writeBacktest(r, cal, e)
+		})
+		if opts.Progress != nil {
+			opts.Progress.Finish()
+		}
+		if err != nil {
+			return nil, err
+		}
+		e.finishPass1()
+		clock.lap("backtest")
+		logf("backtested %d series", len(series))
+	}
+
 	if opts.Progress != nil {
 		opts.Progress.Start(len(series))
 	}
-	work := &seriesWork{spec: s, cal: cal, methods: methods, decomposer: decomposer, wrap: opts.wrapMethod}
 	err = forEachOrdered(ctx, len(series), workers, func(i int) *seriesResult {
-		return work.process(series[i])
+		return work.process(i, series[i])
 	}, func(i int, r *seriesResult) error {
 		series[i] = nil // written; let it go
 		if opts.Progress != nil {
@@ -256,6 +290,9 @@ func Run(ctx context.Context, s *spec.Spec, opts Options) (*Summary, error) {
 		Workers:       workers,
 		Problems:      ProblemCounts{Errors: w.errors, Warnings: w.warnings},
 		StartedAt:     started.UTC().Format(time.RFC3339Nano),
+	}
+	if work.eval != nil {
+		man.Leaderboard = work.eval.leaderboard(w.series)
 	}
 	for _, m := range methods {
 		man.Methods = append(man.Methods, ManifestMethod{Label: m.spec.Label, Method: m.spec.Method, Options: m.spec.Options,
@@ -386,6 +423,9 @@ type seriesWork struct {
 	methods    []methodRun
 	decomposer engines.Decomposer
 	wrap       func(engines.Method) engines.Method
+
+	wantVariance bool        // model-based intervals asked for
+	eval         *evaluation // nil without a backtest
 }
 
 func allMissing(y []float64) bool {
@@ -397,11 +437,12 @@ func allMissing(y []float64) bool {
 	return true
 }
 
-func (w *seriesWork) process(s *Series) *seriesResult {
+func (w *seriesWork) process(i int, s *Series) *seriesResult {
 	r := &seriesResult{series: s}
 	add := func(stage, severity, method, msg string) {
 		r.problems = append(r.problems, problem{key: s.Key, stage: stage, severity: severity, method: method, message: msg})
 	}
+	defer w.finish(i, r)
 	if s.Skip != "" {
 		add("shape", "error", "", s.Skip)
 		return r
@@ -429,17 +470,62 @@ func (w *seriesWork) process(s *Series) *seriesResult {
 			method = w.wrap(method)
 		}
 		label := mr.spec.Label
-		fc, model, warnings, err := safeForecast(method, s.Values, m, h)
+		res, err := safeForecast(method, s.Values, m, h, w.wantVariance)
 		if err != nil {
 			add("forecast", "error", label, trimName(err.Error(), mr.spec.Method))
 			continue
 		}
-		for _, msg := range warnings {
+		for _, msg := range res.warnings {
 			add("forecast", "warning", label, trimName(msg, mr.spec.Method))
 		}
-		r.forecasts = append(r.forecasts, methodForecast{label: label, model: model, values: fc})
+		r.forecasts = append(r.forecasts, methodForecast{label: label, model: res.model, values: res.fc, variance: res.variance})
 	}
 	return r
+}
+
+// finish adds what the evaluation decided to one series' final forecasts:
+// the combination entry, the chosen flag, and prediction intervals.
+func (w *seriesWork) finish(i int, r *seriesResult) {
+	e := w.eval
+	levels := w.spec.Intervals.Levels
+	var choice seriesChoice
+	if e != nil {
+		choice = e.choices[i]
+		r.problems = append(choice.problems, r.problems...)
+		if e.combo != nil && len(choice.members) > 0 {
+			var fcs [][]float64
+			for _, m := range choice.members {
+				for _, f := range r.forecasts {
+					if f.label == m {
+						fcs = append(fcs, f.values)
+					}
+				}
+			}
+			if len(fcs) == len(choice.members) {
+				r.forecasts = append(r.forecasts, methodForecast{label: e.combo.Label,
+					model:  fmt.Sprintf("combination(%s of %s)", e.combo.Kind, strings.Join(choice.members, ", ")),
+					values: combineForecasts(e.combo.Kind, fcs)})
+			} else {
+				r.problems = append(r.problems, problem{key: r.series.Key, stage: "forecast", severity: "error", method: e.combo.Label,
+					message: "a member of the combination failed on the full history; no combination forecast"})
+			}
+		}
+	}
+	if len(levels) == 0 && e == nil {
+		return
+	}
+	scale := math.NaN()
+	if len(levels) > 0 && r.series.Skip == "" {
+		sc, _ := engines.PointScores(nil, nil, r.series.Values, w.spec.Calendar.SeasonLength)
+		scale = sc.MASEScale
+	}
+	for k := range r.forecasts {
+		f := &r.forecasts[k]
+		f.chosen = e != nil && f.label == choice.chosen
+		if len(levels) > 0 && (e == nil || f.chosen || w.spec.Intervals.AllMethods) {
+			e.intervals(f, scale, levels, w.spec.Intervals.Source)
+		}
+	}
 }
 
 // trimName drops a leading "name: " from an engine's message: the method
@@ -457,30 +543,49 @@ func safeDecompose(d engines.Decomposer, y []float64, m int) (out *engines.Decom
 	return d.Decompose(y, m)
 }
 
+// fitResult is one method fitted on one stretch of history.
+type fitResult struct {
+	fc       []float64
+	model    string
+	warnings []string
+	variance []float64 // h-step forecast variance, when the method has one
+}
+
+// forecastVariancer is implemented by fitted models with a model-based
+// forecast variance (see engines' optional interfaces).
+type forecastVariancer interface {
+	ForecastVariance(h int) []float64
+}
+
 // safeForecast fits and forecasts one method on one series. A panic inside
 // the method is caught and becomes an error for this series and method only.
-func safeForecast(m engines.Method, y []float64, season, h int) (fc []float64, model string, warnings []string, err error) {
+func safeForecast(m engines.Method, y []float64, season, h int, wantVariance bool) (res fitResult, err error) {
 	defer func() {
 		if p := recover(); p != nil {
-			fc, err = nil, panicError(p)
+			res, err = fitResult{}, panicError(p)
 		}
 	}()
 	fitted, err := m.Fit(y, season)
 	if err != nil {
-		return nil, "", nil, err
+		return fitResult{}, err
 	}
-	fc = fitted.Forecast(h)
-	if len(fc) != h {
-		return nil, "", nil, fmt.Errorf("internal error: %s returned %d forecasts for a horizon of %d", m.Name(), len(fc), h)
+	res.fc = fitted.Forecast(h)
+	if len(res.fc) != h {
+		return fitResult{}, fmt.Errorf("internal error: %s returned %d forecasts for a horizon of %d", m.Name(), len(res.fc), h)
 	}
-	model = m.Name()
+	res.model = m.Name()
 	if d, ok := fitted.(engines.Described); ok {
-		model = d.Describe()
+		res.model = d.Describe()
 	}
 	if wr, ok := fitted.(engines.Warner); ok {
-		warnings = wr.Warnings()
+		res.warnings = wr.Warnings()
 	}
-	return fc, model, warnings, nil
+	if fv, ok := fitted.(forecastVariancer); ok && wantVariance {
+		if v := fv.ForecastVariance(h); len(v) == h {
+			res.variance = v
+		}
+	}
+	return res, nil
 }
 
 func panicError(p any) error {
@@ -509,13 +614,17 @@ func panicError(p any) error {
 // runTables holds the open table writers of a run.
 type runTables struct {
 	forecasts, components, factors, problems *tableWriter
+	accuracy, choices                        *tableWriter // nil without a backtest
 	series                                   int
 	errors, warnings                         int
 	methodSeries                             map[string]int
+	withChosen                               bool
+	levels                                   int
 }
 
-func openTables(dir string, keys []string, meta map[string]string, mem memory.Allocator) (*runTables, error) {
-	rt := &runTables{methodSeries: map[string]int{}}
+func openTables(dir string, s *spec.Spec, meta map[string]string, mem memory.Allocator) (*runTables, error) {
+	keys := s.Columns.Keys
+	rt := &runTables{methodSeries: map[string]int{}, withChosen: s.Backtest.Folds > 0, levels: len(s.Intervals.Levels)}
 	var err error
 	open := func(name string, cols []column) *tableWriter {
 		if err != nil {
@@ -525,7 +634,11 @@ func openTables(dir string, keys []string, meta map[string]string, mem memory.Al
 		t, err = newTableWriter(dir, name, keys, cols, meta, mem)
 		return t
 	}
-	rt.forecasts = open(TableForecasts, forecastCols)
+	rt.forecasts = open(TableForecasts, forecastColumns(s))
+	if s.Backtest.Folds > 0 {
+		rt.accuracy = open(TableAccuracy, accuracyCols)
+		rt.choices = open(TableChoices, choiceCols)
+	}
 	rt.components = open(TableComponents, componentCols)
 	rt.factors = open(TableSeasonalFactors, factorCols)
 	rt.problems = open(TableProblems, problemCols)
@@ -537,7 +650,11 @@ func openTables(dir string, keys []string, meta map[string]string, mem memory.Al
 }
 
 func (rt *runTables) tables() []*tableWriter {
-	return []*tableWriter{rt.forecasts, rt.components, rt.factors, rt.problems}
+	out := []*tableWriter{rt.forecasts, rt.components, rt.factors, rt.problems}
+	if rt.accuracy != nil {
+		out = append(out, rt.accuracy, rt.choices)
+	}
+	return out
 }
 
 func (rt *runTables) abort() {
@@ -586,6 +703,24 @@ func (rt *runTables) write(r *seriesResult, cal calendar) error {
 			t.date(2, cal.startDays(last+int64(k)+1))
 			t.int32(3, k+1)
 			t.float(4, v)
+			col := 5
+			if rt.withChosen {
+				t.boolean(col, f.chosen)
+				col++
+			}
+			if rt.levels > 0 {
+				t.strOrNull(col, f.intervalSource)
+				col++
+				for l := 0; l < rt.levels; l++ {
+					lo, hi := math.NaN(), math.NaN()
+					if f.lower != nil {
+						lo, hi = f.lower[l][k], f.upper[l][k]
+					}
+					t.float(col, lo)
+					t.float(col+1, hi)
+					col += 2
+				}
+			}
 			if err := t.endRow(); err != nil {
 				return err
 			}
@@ -652,6 +787,7 @@ type Manifest struct {
 	Methods       []ManifestMethod `json:"methods"`
 	Tables        []TableInfo      `json:"tables"`
 	Problems      ProblemCounts    `json:"problems"`
+	Leaderboard   *Leaderboard     `json:"leaderboard,omitempty"`
 	Workers       int              `json:"workers"`
 	Stages        []StageTiming    `json:"stages"`
 	StartedAt     string           `json:"started_at"`

@@ -11,6 +11,8 @@ import (
 	"github.com/apache/arrow-go/v18/parquet"
 	"github.com/apache/arrow-go/v18/parquet/compress"
 	"github.com/apache/arrow-go/v18/parquet/pqarrow"
+
+	"almanac/spec"
 )
 
 // Table names, as files in the run folder (with .parquet).
@@ -19,6 +21,8 @@ const (
 	TableComponents      = "components"
 	TableSeasonalFactors = "seasonal_factors"
 	TableProblems        = "problems"
+	TableAccuracy        = "accuracy"
+	TableChoices         = "choices"
 )
 
 // flushRows is how many rows a table buffers before handing them to the
@@ -36,6 +40,7 @@ const (
 	colDate
 	colInt
 	colFloat
+	colBool
 )
 
 type column struct {
@@ -73,6 +78,8 @@ func tableSchema(keyNames []string, cols []column) *arrow.Schema {
 			t = arrow.PrimitiveTypes.Int32
 		case colFloat:
 			t = arrow.PrimitiveTypes.Float64
+		case colBool:
+			t = arrow.FixedWidthTypes.Boolean
 		}
 		fields = append(fields, arrow.Field{Name: c.name, Type: t, Nullable: c.nullable})
 	}
@@ -150,6 +157,10 @@ func (t *tableWriter) int32(col int, v int) {
 	t.rb.Field(t.nkeys + col).(*array.Int32Builder).Append(int32(v))
 }
 
+func (t *tableWriter) boolean(col int, v bool) {
+	t.rb.Field(t.nkeys + col).(*array.BooleanBuilder).Append(v)
+}
+
 // float appends v, or NULL when v is NaN or infinite.
 func (t *tableWriter) float(col int, v float64) {
 	b := t.rb.Field(t.nkeys + col).(*array.Float64Builder)
@@ -225,6 +236,55 @@ var forecastCols = []column{
 	{"period", colDate, false},
 	{"step", colInt, false},
 	{"value", colFloat, true},
+}
+
+// forecastColumns is the forecasts table's layout for a spec: with a
+// backtest it says which entry was chosen; with intervals it has a lower and
+// upper bound per level and where the bounds came from.
+func forecastColumns(s *spec.Spec) []column {
+	cols := append([]column(nil), forecastCols...)
+	if s.Backtest.Folds > 0 {
+		cols = append(cols, column{"chosen", colBool, false})
+	}
+	if len(s.Intervals.Levels) > 0 {
+		cols = append(cols, column{"interval_source", colString, true})
+		for _, l := range s.Intervals.Levels {
+			cols = append(cols, column{fmt.Sprintf("lower_%d", l), colFloat, true}, column{fmt.Sprintf("upper_%d", l), colFloat, true})
+		}
+	}
+	return cols
+}
+
+var accuracyCols = []column{
+	{"method", colString, false},
+	{"fold", colInt, false},
+	{"origin", colDate, false},
+	{"train_start", colDate, false},
+	{"train_periods", colInt, false},
+	{"test_periods", colInt, false},
+	{"mae", colFloat, true},
+	{"rmse", colFloat, true},
+	{"mape", colFloat, true},
+	{"mape_zeros", colInt, false},
+	{"smape", colFloat, true},
+	{"mase", colFloat, true},
+	{"rmsse", colFloat, true},
+	{"wape", colFloat, true},
+	{"bias", colFloat, true},
+	{"status", colString, false},
+}
+
+var choiceCols = []column{
+	{"chosen", colString, true},
+	{"metric", colString, false},
+	{"score", colFloat, true},
+	{"runner_up", colString, true},
+	{"runner_up_score", colFloat, true},
+	{"folds", colInt, false},
+	{"demand_class", colString, true},
+	{"adi", colFloat, true},
+	{"cv2", colFloat, true},
+	{"reason", colString, false},
 }
 
 var componentCols = []column{

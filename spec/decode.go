@@ -442,6 +442,22 @@ func (d *decoder) spec(root *yaml.Node) *Spec {
 		}
 		seen[m.Label] = i
 	}
+	if s.Backtest.Folds > 0 {
+		if fb := s.Selection.Fallback; fb != "" {
+			if _, ok := seen[fb]; !ok {
+				labels := make([]string, len(s.Methods))
+				for i, m := range s.Methods {
+					labels[i] = m.Label
+				}
+				d.errAt(selectionNode, "selection.fallback", "fallback %q is not the label of a method; labels: %s", fb, quoteList(labels))
+			}
+		} else if len(s.Methods) > 0 {
+			s.Selection.Fallback = s.Methods[0].Label
+			if _, ok := seen["seasonal_naive"]; ok {
+				s.Selection.Fallback = "seasonal_naive"
+			}
+		}
+	}
 	if c := s.Selection.Combine; c != nil {
 		if _, dup := seen[c.Label]; dup {
 			d.errAt(selectionNode, "selection.combine.label", "label %q is already used by a method; give the combination another label", c.Label)

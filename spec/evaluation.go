@@ -39,6 +39,10 @@ var Metrics = []string{"mase", "rmsse", "mae", "rmse", "mape", "smape", "wape"}
 type Selection struct {
 	Metric  string       // default mase
 	Combine *Combination // optional combination entry, backtested like a method
+	// Fallback is the label chosen for a series that no backtest fold fits
+	// (or on which no entry could be scored); default seasonal_naive when
+	// the spec has it, else the first method.
+	Fallback string
 }
 
 // DefaultSelection ranks by MASE.
@@ -108,6 +112,7 @@ func (d *decoder) backtest(n *yaml.Node, path string, b *Backtest) {
 func (d *decoder) selection(n *yaml.Node, path string, s *Selection) {
 	d.mapping(n, path, "selection", []field{
 		{"metric", false, func(n *yaml.Node, p string) { d.enum(n, p, "metric", Metrics, &s.Metric) }},
+		{"fallback", false, func(n *yaml.Node, p string) { d.str(n, p, "the label of a method", &s.Fallback) }},
 		{"combine", false, func(n *yaml.Node, p string) {
 			c := &Combination{Top: 3, Label: "combination"}
 			d.mapping(n, p, "combine", []field{

@@ -11,6 +11,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"os/signal"
 	"runtime"
@@ -250,11 +251,29 @@ func printSummary(w io.Writer, sum *pipeline.Summary) {
 	for _, mm := range m.Methods {
 		fmt.Fprintf(w, "  %-28s forecast %d of %d series\n", mm.Label, mm.Series, m.Series)
 	}
+	if lb := m.Leaderboard; lb != nil {
+		fmt.Fprintf(w, "\nbacktest leaderboard (mean MASE per series over the folds; chosen by %s):\n", lb.Metric)
+		fmt.Fprintf(w, "  %-28s %8s %10s %12s %8s\n", "method", "series", "mean MASE", "median MASE", "won")
+		for _, r := range lb.Entries {
+			fmt.Fprintf(w, "  %-28s %8d %10s %12s %7.1f%%\n", r.Method, r.Series, num(r.MeanMASE), num(r.MedianMASE), 100*r.WinShare)
+		}
+		if lb.NoScore > 0 {
+			fmt.Fprintf(w, "  %d series could not be backtested and fell back to %s (see choices.parquet)\n", lb.NoScore, lb.Fallback)
+		}
+		fmt.Fprintln(w)
+	}
 	fmt.Fprintf(w, "problems: %d error(s), %d warning(s)", m.Problems.Errors, m.Problems.Warnings)
 	if m.Problems.Errors+m.Problems.Warnings > 0 {
 		fmt.Fprintf(w, " — see problems.parquet")
 	}
 	fmt.Fprintf(w, "\ntables:   %s\n", sum.Dir)
+}
+
+func num(v float64) string {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return "—"
+	}
+	return fmt.Sprintf("%.3f", v)
 }
 
 // barProgress draws a progress bar on a terminal.
