@@ -87,23 +87,27 @@ func (p *Plan) Print(w io.Writer) {
 	}
 	fmt.Fprintln(w)
 	if s.Calendar.SeasonLength >= 2 {
-		fmt.Fprintf(w, "4. decompose classical, %s, factors averaged by %s  → components, seasonal_factors\n", s.Decomposition.Form, s.Decomposition.Average)
+		fmt.Fprintf(w, "4. decompose %s %s  → components, seasonal_factors\n", s.Decomposition.Method, optionList(s.Decomposition.Options))
 	} else {
 		fmt.Fprintf(w, "4. decompose skipped (season length 1)\n")
 	}
 	fmt.Fprintf(w, "5. forecast  %d step(s) ahead with %d method(s)  → forecasts\n", s.Horizon, len(s.Methods))
 	for _, m := range s.Methods {
-		opts := make([]string, 0, len(m.Options))
-		for _, k := range sortedKeysAny(m.Options) {
-			opts = append(opts, fmt.Sprintf("%s=%v", k, m.Options[k]))
-		}
 		label := m.Label
 		if label != m.Method {
 			label += " (" + m.Method + ")"
 		}
-		fmt.Fprintf(w, "               %-28s %s\n", label, strings.Join(opts, " "))
+		fmt.Fprintf(w, "               %-28s %s\n", label, optionList(m.Options))
 	}
 	fmt.Fprintf(w, "6. write     forecasts, components, seasonal_factors, problems (.parquet), manifest.json\n")
+}
+
+func optionList(o map[string]any) string {
+	opts := make([]string, 0, len(o))
+	for _, k := range sortedKeysAny(o) {
+		opts = append(opts, fmt.Sprintf("%s=%v", k, o[k]))
+	}
+	return strings.Join(opts, " ")
 }
 
 func sortedKeysAny(m map[string]any) []string {

@@ -6,7 +6,6 @@ package pipeline
 import (
 	"context"
 	"encoding/json"
-	"errors"
 	"fmt"
 	"io"
 	"math"
@@ -112,13 +111,13 @@ func compileMethods(s *spec.Spec) ([]methodRun, engines.Decomposer, error) {
 	if s.Calendar.SeasonLength < 2 {
 		return runs, nil, nil
 	}
-	dm, err := engines.New("classical", engines.Options{"form": string(s.Decomposition.Form), "average": s.Decomposition.Average})
+	dm, err := engines.New(s.Decomposition.Method, engines.Options(s.Decomposition.Options))
 	if err != nil {
 		return nil, nil, err
 	}
 	dec, ok := dm.(engines.Decomposer)
 	if !ok {
-		return nil, nil, errors.New("pipeline: the classical method does not decompose")
+		return nil, nil, fmt.Errorf("pipeline: %s does not decompose", s.Decomposition.Method)
 	}
 	return runs, dec, nil
 }
@@ -620,11 +619,12 @@ type runTables struct {
 	methodSeries                             map[string]int
 	withChosen                               bool
 	levels                                   int
+	decomposition                            string // the decomposition's method name
 }
 
 func openTables(dir string, s *spec.Spec, meta map[string]string, mem memory.Allocator) (*runTables, error) {
 	keys := s.Columns.Keys
-	rt := &runTables{methodSeries: map[string]int{}, withChosen: s.Backtest.Folds > 0, levels: len(s.Intervals.Levels)}
+	rt := &runTables{methodSeries: map[string]int{}, withChosen: s.Backtest.Folds > 0, levels: len(s.Intervals.Levels), decomposition: s.Decomposition.Method}
 	var err error
 	open := func(name string, cols []column) *tableWriter {
 		if err != nil {
@@ -730,7 +730,7 @@ func (rt *runTables) write(r *seriesResult, cal calendar) error {
 		for i, obs := range s.Values {
 			t := rt.components
 			t.key(s.Key)
-			t.str(0, "classical")
+			t.str(0, rt.decomposition)
 			t.str(1, d.Form)
 			t.date(2, cal.startDays(s.Start+int64(i)))
 			t.float(3, obs)
@@ -750,7 +750,7 @@ func (rt *runTables) write(r *seriesResult, cal calendar) error {
 		for pos, j := range byPos {
 			t := rt.factors
 			t.key(s.Key)
-			t.str(0, "classical")
+			t.str(0, rt.decomposition)
 			t.str(1, d.Form)
 			t.int32(2, pos+1)
 			t.float(3, d.Factors[j])

@@ -16,7 +16,7 @@ type canonicalSpec struct {
 	Columns       canonicalColumns    `json:"columns"`
 	Calendar      canonicalCalendar   `json:"calendar"`
 	Shaping       canonicalShaping    `json:"shaping"`
-	Decomposition canonicalDecomp     `json:"decomposition"`
+	Decomposition map[string]any      `json:"decomposition"`
 	Methods       []canonicalMethod   `json:"methods"`
 	Horizon       int                 `json:"horizon"`
 	Output        string              `json:"output"`
@@ -75,9 +75,14 @@ type canonicalShaping struct {
 	End     string `json:"end"`
 }
 
-type canonicalDecomp struct {
-	Form    string `json:"form"`
-	Average string `json:"average"`
+// canonicalDecomposition is {"method": …, <options>…}; encoding/json sorts
+// the keys.
+func canonicalDecomposition(d Decomposition) map[string]any {
+	out := map[string]any{"method": d.Method}
+	for k, v := range d.Options {
+		out[k] = v
+	}
+	return out
 }
 
 type canonicalMethod struct {
@@ -100,7 +105,7 @@ func (s *Spec) Canonical() []byte {
 			SeasonLength: s.Calendar.SeasonLength,
 		},
 		Shaping:       canonicalShaping{Combine: string(s.Shaping.Combine), Gaps: string(s.Shaping.Gaps), End: string(s.Shaping.End)},
-		Decomposition: canonicalDecomp{Form: string(s.Decomposition.Form), Average: s.Decomposition.Average},
+		Decomposition: canonicalDecomposition(s.Decomposition),
 		Horizon:       s.Horizon,
 		Output:        s.Output,
 		Limits:        canonicalLimits{MaxSeries: s.Limits.MaxSeries, MaxPeriods: s.Limits.MaxPeriods},

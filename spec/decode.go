@@ -360,14 +360,7 @@ func (d *decoder) spec(root *yaml.Node) *Spec {
 		}},
 		{"decomposition", false, func(n *yaml.Node, p string) {
 			decompNode, haveDecomp = n, true
-			d.mapping(n, p, "decomposition", []field{
-				{"form", false, func(n *yaml.Node, p string) {
-					d.enum(n, p, "form", Forms, (*string)(&s.Decomposition.Form))
-				}},
-				{"average", false, func(n *yaml.Node, p string) {
-					d.enum(n, p, "average", []string{"mean", "median"}, &s.Decomposition.Average)
-				}},
-			})
+			d.decomposition(n, p, &s.Decomposition)
 		}},
 		{"methods", true, func(n *yaml.Node, p string) {
 			s.Methods, methodNodes = d.methods(n, p)
@@ -491,6 +484,68 @@ func defaultNote(seasonNode *yaml.Node, f Frequency) string {
 		return ""
 	}
 	return fmt.Sprintf(" (the default for frequency %s); set calendar.season_length", f)
+}
+
+// decomposition decodes the decomposition section: a method that
+// decomposes (classical by default) and that method's options, less the
+// ones that only matter for forecasting.
+func (d *decoder) decomposition(n *yaml.Node, path string, dc *Decomposition) {
+	n = d.resolve(n)
+	if n == nil {
+		return
+	}
+	method := "classical"
+	if n.Kind == yaml.MappingNode {
+		for i := 0; i+1 < len(n.Content); i += 2 {
+			if n.Content[i].Value == "method" {
+				var m string
+				d.enum(d.resolve(n.Content[i+1]), path+".method", "decomposition method", DecompositionMethods(), &m)
+				if m == "" {
+					return
+				}
+				method = m
+			}
+		}
+	}
+	def := catalog[method]
+	dc.Method = method
+	dc.Options = map[string]any{}
+	fields := []field{{"method", false, func(*yaml.Node, string) {}}}
+	for _, name := range MethodOptionNames(method) {
+		opt := def.Options[name]
+		if opt.ForecastOnly {
+			continue
+		}
+		if opt.Default != nil {
+			dc.Options[name] = opt.Default
+		}
+		fields = append(fields, field{name, false, func(n *yaml.Node, p string) {
+			if v, ok := d.option(n, p, method, name, opt); ok {
+				dc.Options[name] = v
+			}
+		}})
+	}
+	d.mapping(n, path, "decomposition ("+method+")", fields)
+	if def.Check != nil {
+		if msg := def.Check(dc.Options); msg != "" {
+			d.errAt(n, path, "%s: %s", method, msg)
+		}
+	}
+	if method == "classical" {
+		dc.Form = Form(dc.Options["form"].(string))
+		dc.Average = dc.Options["average"].(string)
+	}
+}
+
+// DecompositionMethods lists the methods that can serve as the decomposition.
+func DecompositionMethods() []string {
+	var out []string
+	for _, n := range MethodNames() {
+		if catalog[n].Decomposes {
+			out = append(out, n)
+		}
+	}
+	return out
 }
 
 func (d *decoder) sources(n *yaml.Node, path string) []Source {
@@ -776,13 +831,20 @@ func (d *decoder) method(n *yaml.Node, path string) (MethodSpec, bool) {
 		what = fmt.Sprintf("method %s (which takes no options besides label)", name)
 	}
 	d.mapping(n, path, what, fields)
+	if def.Check != nil {
+		if msg := def.Check(m.Options); msg != "" {
+			d.errAt(n, path, "%s: %s", name, msg)
+		}
+	}
 	return m, true
 }
 
 func defaults(def methodDef) map[string]any {
 	out := map[string]any{}
 	for k, o := range def.Options {
-		out[k] = o.Default
+		if o.Default != nil {
+			out[k] = o.Default
+		}
 	}
 	return out
 }
@@ -793,6 +855,13 @@ func (d *decoder) option(n *yaml.Node, path, method, name string, o optionDef) (
 		var v string
 		d.enum(n, path, fmt.Sprintf("%s %s", method, name), o.Allowed, &v)
 		return v, v != ""
+	case kindIntOrWord:
+		if sn, ok := d.scalar(n, path, fmt.Sprintf("%s %s", method, name)); ok && sn.Tag != "!!int" {
+			var v string
+			d.enum(sn, path, fmt.Sprintf("%s %s (an integer or %s)", method, name, quoteList(o.Allowed)), o.Allowed, &v)
+			return v, v != ""
+		}
+		fallthrough
 	case kindInt:
 		var v int
 		if !d.integer(n, path, fmt.Sprintf("%s %s (an integer)", method, name), &v) {
@@ -800,6 +869,10 @@ func (d *decoder) option(n *yaml.Node, path, method, name string, o optionDef) (
 		}
 		if float64(v) < o.Min || float64(v) > o.Max {
 			d.errAt(n, path, "%s %s must be between %g and %g, found %d", method, name, o.Min, o.Max, v)
+			return nil, false
+		}
+		if o.Odd && v%2 == 0 {
+			d.errAt(n, path, "%s %s must be odd, found %d", method, name, v)
 			return nil, false
 		}
 		return v, true

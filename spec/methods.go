@@ -10,27 +10,41 @@ const (
 	kindInt
 	kindFloat
 	kindBool
+	kindIntOrWord // an integer, or one of Allowed
 )
 
 // optionDef describes one option of a method: its type, allowed values or
 // range, and default.
 type optionDef struct {
 	Kind    optionKind
-	Allowed []string // kindEnum
-	Min     float64  // kindInt, kindFloat (inclusive)
+	Allowed []string // kindEnum, kindIntOrWord
+	Min     float64  // kindInt, kindFloat, kindIntOrWord (inclusive)
 	Max     float64
+	Odd     bool // integers must be odd
+	// Default is filled into the spec when the option is absent; nil means
+	// the method works the default out from the series (documented in Doc).
 	Default any
 	Doc     string
+	// DecompositionOnly / ForecastOnly: the option applies only where the
+	// method serves as the decomposition, or only as a forecaster.
+	ForecastOnly bool
 }
 
 // methodDef describes a method the spec may name.
 type methodDef struct {
 	Doc      string
 	Seasonal bool // needs season_length ≥ 2
-	Options  map[string]optionDef
+	// Decomposes: the method can serve as the spec's decomposition.
+	Decomposes bool
+	Options    map[string]optionDef
+	// Check, when set, reports a rule across options ("" when they agree).
+	Check func(opts map[string]any) string
 }
 
 var trendOptions = []string{"adjusted_line", "trend_line", "trend_step", "trend_flat"}
+
+var smoothingAlpha = optionDef{Kind: kindFloat, Min: 0.01, Max: 1, Default: 0.1,
+	Doc: "smoothing constant, fixed (common practice for intermittent demand)"}
 
 // Catalog is every method a spec may name, with its options. The engines
 // package registers an implementation under each name; a test keeps the two
@@ -50,15 +64,69 @@ var catalog = map[string]methodDef{
 		Doc: "mean of the history",
 	},
 	"classical": {
-		Doc:      "classical seasonal decomposition; projected trend combined with the seasonal factor",
-		Seasonal: true,
+		Doc:        "classical seasonal decomposition; projected trend combined with the seasonal factor",
+		Seasonal:   true,
+		Decomposes: true,
 		Options: map[string]optionDef{
 			"form": {Kind: kindEnum, Allowed: Forms, Default: string(Multiplicative),
 				Doc: "multiplicative: actual = trend × factor; additive: actual = trend + component"},
-			"trend": {Kind: kindEnum, Allowed: trendOptions, Default: "adjusted_line",
+			"trend": {Kind: kindEnum, Allowed: trendOptions, Default: "adjusted_line", ForecastOnly: true,
 				Doc: "how the trend is projected: least-squares line through the seasonally adjusted series (adjusted_line), least-squares line through the moving-average trend (trend_line), average change per period of the moving-average trend stepped from its last value (trend_step), or the last moving-average value held flat (trend_flat)"},
 			"average": {Kind: kindEnum, Allowed: []string{"mean", "median"}, Default: "mean",
 				Doc: "how detrended values are averaged per season position"},
+		},
+	},
+	"stl": {
+		Doc:        "STL decomposition (loess); the seasonally adjusted series forecast by SES or drift, plus the last seasonal cycle",
+		Seasonal:   true,
+		Decomposes: true,
+		Options: map[string]optionDef{
+			"seasonal_window": {Kind: kindIntOrWord, Allowed: []string{"periodic"}, Min: 7, Max: 1e6, Odd: true, Default: "periodic",
+				Doc: "loess window of the cycle-subseries, an odd integer ≥ 7, or periodic: the seasonal pattern is the same every cycle"},
+			"seasonal_degree": {Kind: kindInt, Min: 0, Max: 1, Default: 0, Doc: "degree of the cycle-subseries loess (0 with periodic)"},
+			"trend_window": {Kind: kindInt, Min: 3, Max: 1e6, Odd: true,
+				Doc: "loess window of the trend, odd; default the smallest odd integer ≥ 1.5·m / (1 − 1.5/seasonal window)"},
+			"trend_degree":   {Kind: kindInt, Min: 0, Max: 1, Default: 1, Doc: "degree of the trend (and low-pass) loess"},
+			"lowpass_window": {Kind: kindInt, Min: 3, Max: 1e6, Odd: true, Doc: "loess window of the low-pass filter, odd; default the smallest odd integer ≥ m"},
+			"robust":         {Kind: kindBool, Default: false, Doc: "robustness passes that down-weight outliers (bisquare weights)"},
+			"inner":          {Kind: kindInt, Min: 1, Max: 100, Doc: "inner-loop passes; default 2, or 1 when robust"},
+			"outer":          {Kind: kindInt, Min: 0, Max: 100, Doc: "robustness passes; default 0, or 15 when robust (must be 0 when not robust)"},
+			"adjusted_method": {Kind: kindEnum, Allowed: []string{"ses", "drift"}, Default: "ses", ForecastOnly: true,
+				Doc: "how the seasonally adjusted series is forecast: simple exponential smoothing or drift"},
+		},
+		Check: func(o map[string]any) string {
+			if w, ok := o["seasonal_window"].(string); ok && w == "periodic" && o["seasonal_degree"] == 1 {
+				return "seasonal_degree 1 needs a numeric seasonal_window; periodic uses degree 0"
+			}
+			if out, ok := o["outer"].(int); ok && out > 0 && o["robust"] != true {
+				return "outer robustness passes need robust: true"
+			}
+			if out, ok := o["outer"].(int); ok && out == 0 && o["robust"] == true {
+				return "robust: true needs at least one outer pass"
+			}
+			return ""
+		},
+	},
+	"theta": {
+		Doc: "Theta method (simple exponential smoothing with drift of half the fitted slope), deseasonalised when the series tests seasonal",
+		Options: map[string]optionDef{
+			"deseasonalize": {Kind: kindEnum, Allowed: []string{"auto", "always", "never"}, Default: "auto",
+				Doc: "auto: classical multiplicative deseasonalising when the lag-m autocorrelation test (90%) says seasonal; always; never"},
+		},
+	},
+	"croston": {
+		Doc:     "Croston's method for intermittent demand: smoothed size ÷ smoothed interval",
+		Options: map[string]optionDef{"alpha": smoothingAlpha},
+	},
+	"sba": {
+		Doc:     "Syntetos–Boylan approximation: Croston's forecast × (1 − α/2)",
+		Options: map[string]optionDef{"alpha": smoothingAlpha},
+	},
+	"tsb": {
+		Doc: "Teunter–Syntetos–Babai: smoothed demand probability × smoothed size",
+		Options: map[string]optionDef{
+			"alpha": {Kind: kindFloat, Min: 0.01, Max: 1, Default: 0.1, Doc: "smoothing constant of the demand size"},
+			"beta":  {Kind: kindFloat, Min: 0.01, Max: 1, Default: 0.1, Doc: "smoothing constant of the demand probability"},
 		},
 	},
 }

@@ -155,13 +155,17 @@ var Forms = []string{string(Additive), string(Multiplicative)}
 // Decomposition configures the decompose stage, which writes the components
 // and seasonal_factors tables.
 type Decomposition struct {
+	Method  string         // a method that decomposes: classical (default) or stl
+	Options map[string]any // that method's options, defaults filled
+	// Form and Average mirror the classical options (empty for others).
 	Form    Form
-	Average string // mean or median
+	Average string
 }
 
 // DefaultDecomposition is a multiplicative classical decomposition with
 // factors averaged by the mean.
-var DefaultDecomposition = Decomposition{Form: Multiplicative, Average: "mean"}
+var DefaultDecomposition = Decomposition{Method: "classical", Form: Multiplicative, Average: "mean",
+	Options: map[string]any{"form": string(Multiplicative), "average": "mean"}}
 
 // MethodSpec is one method to run, with its validated and defaulted options.
 type MethodSpec struct {

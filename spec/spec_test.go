@@ -55,7 +55,7 @@ func TestDefaults(t *testing.T) {
 	if s.Shaping != DefaultShaping {
 		t.Errorf("shaping = %+v, want defaults %+v", s.Shaping, DefaultShaping)
 	}
-	if s.Calendar.SeasonLength != 12 || s.Output != "runs/t" || s.Decomposition != DefaultDecomposition {
+	if s.Calendar.SeasonLength != 12 || s.Output != "runs/t" || s.Decomposition.Method != "classical" || s.Decomposition.Form != Multiplicative || s.Decomposition.Average != "mean" {
 		t.Errorf("defaults: season %d output %q decomposition %+v", s.Calendar.SeasonLength, s.Output, s.Decomposition)
 	}
 	if len(s.Columns.Keys) != 0 {

@@ -1,0 +1,543 @@
+package engines
+
+import (
+	"fmt"
+	"math"
+	"strings"
+)
+
+// Theta is the Theta method of Assimakopoulos and Nikolopoulos (2000), in
+// the form Hyndman and Billah (2003) showed it to be: simple exponential
+// smoothing with a drift of half the slope of the least-squares line, on
+// data that are deseasonalised first when they are seasonal.
+//
+// With season length m and the series y_t, t = 1…n (y[0] is t = 1):
+//
+//  1. Seasonality test (deseasonalize=auto, m ≥ 2). With the sample
+//     autocorrelations r_k = Σ_t (y_t − ȳ)(y_{t+k} − ȳ) / Σ_t (y_t − ȳ)²,
+//     the series is seasonal when
+//
+//     |r_m| > 1.6448536… · sqrt((1 + 2·Σ_{k=1}^{m−1} r_k²) / n)
+//
+//     that is, when r_m lies outside the two-sided 90% band built from
+//     Bartlett's variance (1.6448536… is the 95% quantile of the standard
+//     normal).
+//
+//  2. Deseasonalising. A seasonal series is divided by the factors F_j of
+//     the classical multiplicative decomposition (Classical with
+//     form=multiplicative, average=mean): x_t = y_t / F_{(t−1) mod m}.
+//     Otherwise x_t = y_t.
+//
+//  3. Drift. b0 is the slope of the ordinary least-squares line through
+//     the (t, x_t); the drift is b0/2.
+//
+//  4. Smoothing. Simple exponential smoothing of x with the initial level
+//     ℓ_0 = x_1 and ℓ_t = ℓ_{t−1} + α·(x_t − ℓ_{t−1}). The smoothing
+//     constant α ∈ [0.0001, 1] minimises the one-step sum of squared
+//     errors Σ_{t=1}^{n} (x_t − ℓ_{t−1})² (see below).
+//
+//  5. Forecast, for h = 1, 2, …:
+//
+//     ŷ_{n+h} = [ℓ_n + (b0/2)·(h − 1 + 1/α − (1−α)^n/α)] · F_{(n+h−1) mod m}
+//
+//     (without the factor when the series was not deseasonalised). The
+//     bracket is the Hyndman–Billah expression; as α → 1 it tends to
+//     ℓ_n + h·b0/2, the line through the last value with half the slope.
+//
+// With deseasonalize=auto this is the computation of statsmodels 0.13.5
+// ThetaModel(period=m, deseasonalize=True, use_test=True, method="auto")
+// followed by fit() and forecast(h, theta=2), apart from the seasonality
+// test: statsmodels compares n·r_m² / Σ_{k=0}^{m−1} r_k² with 1.645², a
+// denominator without Bartlett's factor 2. (statsmodels 0.13.5 also adds
+// 1 to every forecast when its test finds no season; Theta does not.) Like
+// statsmodels, Theta fixes ℓ_0 at x_1 rather than estimating it.
+//
+// Missing values (NaN) are left out of the autocorrelations (a product
+// enters r_k only when both of its values are observed), of the line and
+// of the sum of squared errors; the smoothing carries the level unchanged
+// through them. Leading missing values are dropped: t = 1 is then the first
+// observed value, and n counts the periods from there to the end of y.
+//
+// The fitted model implements Described and Warner, and, when it
+// deseasonalised, Decomposed (the classical decomposition it divided by).
+//
+// Options (registered name "theta"; for NewTheta an empty string means the
+// default):
+//
+//	deseasonalize  auto (default): test for seasonality as in step 1 and
+//	               deseasonalise when the test says seasonal; always:
+//	               deseasonalise without testing; never: do not.
+//
+// Deseasonalising needs m ≥ 2, at least two full seasons of observed
+// values (which the test needs too) and every observed value > 0. Theta
+// forecasts the series as it is, with a warning saying why, when
+// deseasonalizing is called for (always, or auto with a positive test) but
+// one of these fails, and when under auto the series is too short to be
+// tested. Under auto, m < 2 simply means no season: no test, no warning.
+// The series needs at least two observed values.
+//
+// The smoothing constant is found by a scan of α = 0.0001, 0.05, 0.10, …,
+// 0.95, 1, then Brent's minimiser on the two grid steps around the best
+// point of the scan (to about 1.5e-8·α), then a comparison with the bounds
+// 0.0001 and 1 when that bracket reaches them. The scan guards against a
+// local minimum of the sum of squares away from the global one. If the
+// search stops without converging (100 iterations), Theta keeps the best α
+// it evaluated and adds a warning.
+//
+// References:
+//   - V. Assimakopoulos and K. Nikolopoulos (2000), The theta model: a
+//     decomposition approach to forecasting, International Journal of
+//     Forecasting 16(4), 521–530.
+//   - R. J. Hyndman and B. Billah (2003), Unmasking the Theta method,
+//     International Journal of Forecasting 19(2), 287–290.
+//   - M. S. Bartlett (1946), On the theoretical specification and sampling
+//     properties of autocorrelated time-series, Supplement to the Journal
+//     of the Royal Statistical Society 8(1), 27–41 (the variance of r_k).
+//   - R. P. Brent (1973), Algorithms for Minimization without Derivatives,
+//     Prentice-Hall, chapter 5 (the search for α).
+//   - statsmodels 0.13.5 documentation of
+//     statsmodels.tsa.forecasting.theta.ThetaModel, the reference
+//     implementation checked in theta_test.go.
+type Theta struct {
+	deseason  thetaDeseason
+	classical *Classical
+}
+
+var (
+	_ Method     = (*Theta)(nil)
+	_ Fitted     = (*thetaFit)(nil)
+	_ Described  = (*thetaFit)(nil)
+	_ Warner     = (*thetaFit)(nil)
+	_ Fitted     = (*thetaSeasonalFit)(nil)
+	_ Decomposed = (*thetaSeasonalFit)(nil)
+)
+
+type thetaDeseason uint8
+
+const (
+	thetaAuto thetaDeseason = iota
+	thetaAlways
+	thetaNever
+)
+
+var thetaDeseasonNames = []string{"auto", "always", "never"}
+
+// thetaZ90 is the 95% quantile of the standard normal: the two-sided 90%
+// critical value of the seasonality test.
+const thetaZ90 = 1.6448536269514722
+
+func init() {
+	Register("theta", func(o Options) (Method, error) {
+		var des string
+		for k, v := range o {
+			if k != "deseasonalize" {
+				return nil, fmt.Errorf("theta: unknown option %q (want deseasonalize)", k)
+			}
+			s, ok := v.(string)
+			if !ok {
+				return nil, fmt.Errorf("theta: option deseasonalize must be a string, got %T", v)
+			}
+			des = s
+		}
+		return NewTheta(des)
+	})
+}
+
+// NewTheta returns the Theta method with the given deseasonalize option
+// (auto, always or never; see Theta). An empty string selects auto.
+func NewTheta(deseasonalize string) (*Theta, error) {
+	th := &Theta{deseason: thetaAuto}
+	if deseasonalize != "" {
+		found := false
+		for i, n := range thetaDeseasonNames {
+			if deseasonalize == n {
+				th.deseason, found = thetaDeseason(i), true
+				break
+			}
+		}
+		if !found {
+			return nil, fmt.Errorf("theta: unknown deseasonalize %q (want %s)", deseasonalize, strings.Join(thetaDeseasonNames, ", "))
+		}
+	}
+	c, err := NewClassical(FormMultiplicative, "", "mean")
+	if err != nil {
+		panic("engines: theta: " + err.Error())
+	}
+	th.classical = c
+	return th, nil
+}
+
+// Name returns "theta".
+func (th *Theta) Name() string { return "theta" }
+
+// Fit deseasonalises y if called for, fits the drift and the smoothing
+// constant, and returns the model (see Theta).
+func (th *Theta) Fit(y []float64, season int) (Fitted, error) {
+	return th.fit(y, season, math.NaN())
+}
+
+// fit is Fit with the smoothing constant fixed at alpha, or estimated when
+// alpha is NaN.
+func (th *Theta) fit(y []float64, season int, alpha float64) (Fitted, error) {
+	n := len(y)
+	first, observed, nonPositive := -1, 0, 0
+	for i, v := range y {
+		if v == v {
+			if first < 0 {
+				first = i
+			}
+			observed++
+			if v <= 0 {
+				nonPositive++
+			}
+		}
+	}
+	switch {
+	case n == 0:
+		return nil, fmt.Errorf("theta: empty series; needs at least 2 values: %w", ErrTooShort)
+	case observed == 0:
+		return nil, fmt.Errorf("theta: %w", ErrAllMissing)
+	case observed < 2:
+		return nil, fmt.Errorf("theta: 1 observed value; needs at least 2: %w", ErrTooShort)
+	}
+
+	f := &thetaFit{n: n, describe: "theta(deseasonalized=none)"}
+	d := th.deseasonalize(f, y, season, observed, nonPositive)
+	x := y
+	if d != nil {
+		x = d.Adjusted
+		f.factors = d.Factors
+		f.describe = "theta(deseasonalized=multiplicative)"
+	}
+
+	_, _, b0 := classicalLine(x)
+	x = x[first:]
+	var level float64
+	if alpha != alpha {
+		var warn string
+		alpha, level, warn = thetaSESFit(x)
+		if warn != "" {
+			f.warnings = append(f.warnings, warn)
+		}
+	} else {
+		_, level = thetaSES(x, alpha)
+	}
+	f.alpha, f.level, f.b0 = alpha, level, b0
+	// 1/α − (1−α)^n/α − 1, with the first two terms written as
+	// −expm1(n·log1p(−α))/α so that small α loses no digits.
+	f.offset = -math.Expm1(float64(len(x))*math.Log1p(-alpha))/alpha - 1
+	if d != nil {
+		return &thetaSeasonalFit{thetaFit: f, d: d}, nil
+	}
+	return f, nil
+}
+
+// deseasonalize decides whether to deseasonalise y and returns the
+// decomposition to divide by, or nil. It records the reason for skipping in
+// f's warnings where one is due.
+func (th *Theta) deseasonalize(f *thetaFit, y []float64, m, observed, nonPositive int) *Decomposition {
+	if th.deseason == thetaNever {
+		return nil
+	}
+	if m < 2 {
+		if th.deseason == thetaAlways {
+			f.warnings = append(f.warnings, fmt.Sprintf("theta: season length %d; nothing to deseasonalize", m))
+		}
+		return nil
+	}
+	if observed < 2*m {
+		f.warnings = append(f.warnings, fmt.Sprintf("theta: %d observed values; deseasonalizing needs at least %d (2 seasons of %d); not deseasonalized", observed, 2*m, m))
+		return nil
+	}
+	if th.deseason == thetaAuto {
+		if _, seasonal := thetaSeasonalityTest(y, m); !seasonal {
+			return nil
+		}
+	}
+	if nonPositive > 0 {
+		f.warnings = append(f.warnings, fmt.Sprintf("theta: multiplicative deseasonalizing needs strictly positive values; found %d values ≤ 0; not deseasonalized", nonPositive))
+		return nil
+	}
+	d, err := th.classical.Decompose(y, m)
+	if err != nil {
+		f.warnings = append(f.warnings, "theta: not deseasonalized: "+err.Error())
+		return nil
+	}
+	return d
+}
+
+// thetaSeasonalityTest returns the statistic |r_m| / sqrt((1 + 2·Σ_{k<m}
+// r_k²)/n) of the seasonality test of Theta (n = number of observed values)
+// and whether it exceeds the 90% critical value. It returns 0, false when
+// the observed values do not vary.
+func thetaSeasonalityTest(y []float64, m int) (stat float64, seasonal bool) {
+	var s float64
+	k := 0
+	for _, v := range y {
+		if v == v {
+			s += v
+			k++
+		}
+	}
+	mean := s / float64(k)
+	var c0 float64
+	for _, v := range y {
+		if v == v {
+			c0 += (v - mean) * (v - mean)
+		}
+	}
+	if !(c0 > 0) {
+		return 0, false
+	}
+	var sum2, rm float64
+	for lag := 1; lag <= m; lag++ {
+		var c float64
+		for i := lag; i < len(y); i++ {
+			// NaN products drop out: NaN == NaN is false.
+			if p := (y[i] - mean) * (y[i-lag] - mean); p == p {
+				c += p
+			}
+		}
+		r := c / c0
+		if lag < m {
+			sum2 += r * r
+		} else {
+			rm = r
+		}
+	}
+	stat = math.Abs(rm) / math.Sqrt((1+2*sum2)/float64(k))
+	return stat, stat > thetaZ90
+}
+
+// Bounds of the smoothing constant of thetaSES.
+const (
+	thetaAlphaLo = 0.0001
+	thetaAlphaHi = 1.0
+)
+
+// thetaSearchIterations caps the iterations of the smoothing-constant
+// search. It is a variable only so that a test can make the search stop
+// early.
+var thetaSearchIterations = 100
+
+// thetaSES runs simple exponential smoothing of x from ℓ_0 = x[0] with
+// constant alpha. It returns the sum of squared one-step errors and the
+// final level. NaN values of x leave the level unchanged and add nothing to
+// the sum. x[0] must not be NaN.
+//
+// This is a private smoothing routine of the Theta method; it can later
+// share code with the exponential smoothing engines.
+func thetaSES(x []float64, alpha float64) (sse, level float64) {
+	level = x[0]
+	for _, v := range x[1:] {
+		e := v - level
+		if e != e {
+			continue
+		}
+		sse += e * e
+		level += alpha * e
+	}
+	return sse, level
+}
+
+// thetaSESFit returns the smoothing constant in [thetaAlphaLo, thetaAlphaHi]
+// that minimises the sum of squared one-step errors of thetaSES on x, the
+// final level at that constant, and a warning if the search did not
+// converge.
+//
+// It scans α = thetaAlphaLo, 0.05, 0.10, …, 0.95, thetaAlphaHi, then runs
+// Brent's minimiser on the two grid steps around the best grid point, and
+// finally compares the result with the bounds when the bracket touches
+// them (Brent's method never evaluates the ends of its interval).
+func thetaSESFit(x []float64) (alpha, level float64, warn string) {
+	const steps = 20 // grid spacing 1/steps
+	grid := func(k int) float64 {
+		switch k {
+		case 0:
+			return thetaAlphaLo
+		case steps:
+			return thetaAlphaHi
+		}
+		return float64(k) / steps
+	}
+	// All grid points in one pass: independent recursions side by side
+	// run several times faster than one after another.
+	var alphas, levels, sses [steps + 1]float64
+	for k := range alphas {
+		alphas[k], levels[k] = grid(k), x[0]
+	}
+	for _, v := range x[1:] {
+		if v != v {
+			continue
+		}
+		for k := range levels {
+			e := v - levels[k]
+			sses[k] += e * e
+			levels[k] += alphas[k] * e
+		}
+	}
+	best, bestSSE := 0, math.Inf(1)
+	for k, sse := range sses {
+		if sse < bestSSE {
+			best, bestSSE = k, sse
+		}
+	}
+	alpha = grid(best)
+	if bestSSE > 0 && !math.IsInf(bestSSE, 0) {
+		lo, hi := grid(max(best-1, 0)), grid(min(best+1, steps))
+		a, fa, ok := thetaBrent(func(a float64) float64 { s, _ := thetaSES(x, a); return s }, lo, hi, thetaSearchIterations)
+		if fa <= bestSSE {
+			alpha, bestSSE = a, fa
+		}
+		for _, end := range [2]float64{lo, hi} {
+			if end == thetaAlphaLo || end == thetaAlphaHi {
+				if s, _ := thetaSES(x, end); s <= bestSSE {
+					alpha, bestSSE = end, s
+				}
+			}
+		}
+		if !ok {
+			warn = fmt.Sprintf("theta: smoothing-constant search stopped after %d iterations without converging; used the best alpha found, %.6g", thetaSearchIterations, alpha)
+		}
+	}
+	_, level = thetaSES(x, alpha)
+	return alpha, level, warn
+}
+
+// thetaBrent minimises f on the open interval (a, b) by Brent's method:
+// golden-section steps combined with parabolic interpolation through the
+// three best points, stopping when the minimiser is known to within
+// tol = √ε·|x| + 1e-10 (ε the float64 machine epsilon). It returns the best
+// point found, its value, and false if maxIter iterations passed first.
+//
+// Reference: R. P. Brent (1973), Algorithms for Minimization without
+// Derivatives, Prentice-Hall, chapter 5.
+func thetaBrent(f func(float64) float64, a, b float64, maxIter int) (x, fx float64, converged bool) {
+	const (
+		golden = 0.3819660112501051 // (3 − √5)/2
+		sqeps  = 1.4901161193847656e-08
+		abstol = 1e-10
+	)
+	x = a + golden*(b-a)
+	w, v := x, x
+	fx = f(x)
+	fw, fv := fx, fx
+	var d, e float64 // the step just taken and the one before it
+	for range maxIter {
+		mid := (a + b) / 2
+		tol := sqeps*math.Abs(x) + abstol
+		if math.Abs(x-mid) <= 2*tol-(b-a)/2 {
+			return x, fx, true
+		}
+		useGolden := true
+		if math.Abs(e) > tol {
+			// Parabola through (v, fv), (w, fw), (x, fx): its vertex is
+			// x + p/q.
+			r := (x - w) * (fx - fv)
+			q := (x - v) * (fx - fw)
+			p := (x-v)*q - (x-w)*r
+			q = 2 * (q - r)
+			if q > 0 {
+				p = -p
+			} else {
+				q = -q
+			}
+			// Accept it if it falls inside (a, b) and moves less than half
+			// the step before last.
+			if math.Abs(p) < math.Abs(q*e/2) && p > q*(a-x) && p < q*(b-x) {
+				e, d = d, p/q
+				u := x + d
+				if u-a < 2*tol || b-u < 2*tol {
+					d = math.Copysign(tol, mid-x)
+				}
+				useGolden = false
+			}
+		}
+		if useGolden {
+			if x < mid {
+				e = b - x
+			} else {
+				e = a - x
+			}
+			d = golden * e
+		}
+		u := x + d
+		if math.Abs(d) < tol {
+			u = x + math.Copysign(tol, d)
+		}
+		fu := f(u)
+		if fu <= fx {
+			if u < x {
+				b = x
+			} else {
+				a = x
+			}
+			v, fv, w, fw, x, fx = w, fw, x, fx, u, fu
+			continue
+		}
+		if u < x {
+			a = u
+		} else {
+			b = u
+		}
+		switch {
+		case fu <= fw || w == x:
+			v, fv, w, fw = w, fw, u, fu
+		case fu <= fv || v == x || v == w:
+			v, fv = u, fu
+		}
+	}
+	return x, fx, false
+}
+
+// thetaFit is a fitted Theta model.
+type thetaFit struct {
+	n        int       // len(y), counting leading missing values
+	factors  []float64 // seasonal factors, nil when not deseasonalised
+	alpha    float64
+	b0       float64 // slope of the least-squares line
+	level    float64 // ℓ_n
+	offset   float64 // 1/α − (1−α)^n/α − 1
+	describe string
+	warnings []string
+}
+
+// thetaSeasonalFit is a Theta model fitted to deseasonalised data.
+type thetaSeasonalFit struct {
+	*thetaFit
+	d *Decomposition
+}
+
+// Forecast returns the forecasts for the h periods after the training data.
+// It panics if h < 0.
+func (f *thetaFit) Forecast(h int) []float64 {
+	if h < 0 {
+		panic(fmt.Sprintf("engines: theta: negative horizon %d", h))
+	}
+	out := make([]float64, h)
+	drift := f.b0 / 2
+	for s := range out {
+		out[s] = f.level + drift*(float64(s+1)+f.offset)
+	}
+	if m := len(f.factors); m > 0 {
+		j := f.n % m // season position of t = n+1
+		for s := range out {
+			out[s] *= f.factors[j]
+			if j++; j == m {
+				j = 0
+			}
+		}
+	}
+	return out
+}
+
+// Describe names the fitted form: "theta(deseasonalized=multiplicative)"
+// or "theta(deseasonalized=none)".
+func (f *thetaFit) Describe() string { return f.describe }
+
+// Warnings returns the caveats met while fitting, if any.
+func (f *thetaFit) Warnings() []string { return f.warnings }
+
+// Components returns the classical multiplicative decomposition the model
+// divided by. The caller must not modify it.
+func (f *thetaSeasonalFit) Components() *Decomposition { return f.d }
