@@ -44,6 +44,7 @@ type evaluation struct {
 	wins      map[string]int
 	fallback  string
 	fallbacks int
+	route     map[string][]string
 }
 
 // seriesChoice is what pass 1 decided for one series.
@@ -61,7 +62,7 @@ func newEvaluation(s *spec.Spec, n int) *evaluation {
 	e := &evaluation{bt: s.Backtest, metric: s.Selection.Metric, combo: s.Selection.Combine,
 		levels: s.Intervals.Levels, source: s.Intervals.Source, allMeth: s.Intervals.AllMethods,
 		choices: make([]seriesChoice, n), errs: map[string][]*errorHistogram{},
-		mase: map[string][]float64{}, wins: map[string]int{}, fallback: s.Selection.Fallback}
+		mase: map[string][]float64{}, wins: map[string]int{}, fallback: s.Selection.Fallback, route: s.Selection.Route}
 	for _, m := range s.Methods {
 		e.labels = append(e.labels, m.Label)
 	}
@@ -178,8 +179,24 @@ func (w *seriesWork) backtest(s *Series) *backtestResult {
 	for i := range r.entries {
 		e.scoreEntry(&r.entries[i])
 	}
+	routed := ""
+	if r.demand != nil {
+		if allowed, ok := e.route[r.demand.Class]; ok {
+			routed = r.demand.Class
+			for i := range r.entries {
+				if !slices.Contains(allowed, r.entries[i].label) && r.entries[i].reason == "" {
+					r.entries[i].reason = "not routed to " + routed + " demand"
+					r.entries[i].score = math.NaN()
+				}
+			}
+		}
+	}
 	if e.combo != nil {
-		r.entries = append(r.entries, e.combination(r.entries, y, m, folds))
+		cb := e.combination(r.entries, y, m, folds)
+		if routed != "" && !slices.Contains(e.route[routed], cb.label) {
+			cb.reason, cb.score = "not routed to "+routed+" demand", math.NaN()
+		}
+		r.entries = append(r.entries, cb)
 	}
 	// Choose: the lowest score; ties go to the earlier entry (spec order,
 	// the combination last).
@@ -205,6 +222,9 @@ func (w *seriesWork) backtest(s *Series) *backtestResult {
 	}
 	r.chosen = order[0]
 	r.reason = fmt.Sprintf("lowest mean %s over %d fold(s)", e.metric, len(folds))
+	if routed != "" {
+		r.reason += " among the methods routed to " + routed + " demand"
+	}
 	if len(order) > 1 {
 		r.runnerUp = order[1]
 	} else {

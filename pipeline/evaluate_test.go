@@ -275,3 +275,45 @@ func TestBacktestSameBytesAtAnyWorkerCount(t *testing.T) {
 		}
 	}
 }
+
+// Routing: intermittent series may only get the methods the spec routes to
+// them; the demand class is written to choices.
+func TestRouteIntermittentSeries(t *testing.T) {
+	dir := t.TempDir()
+	writeFixture(t, dir)
+	f, _ := os.OpenFile(filepath.Join(dir, "data", "sales.csv"), os.O_APPEND|os.O_WRONLY, 0)
+	sizes := []int{4, 6, 5, 7, 4, 5, 6, 4, 7, 5, 6, 5}
+	for i := 0; i < 36; i += 3 { // demand every third month, sizes 4 to 7: ADI 3, CV² small
+		fmt.Fprintf(f, "%04d-%02d-10,S3,Z,%d\n", 2021+i/12, i%12+1, sizes[i/3])
+	}
+	f.Close()
+	text := strings.Replace(fixtureSpec, "  - mean\n", "  - mean\n  - croston\n  - sba\n", 1) +
+		"backtest: {folds: 2}\nselection: {route: {intermittent: [croston, sba]}}\n"
+	s := loadFixture(t, dir, text)
+	if _, err := Run(context.Background(), s, Options{}); err != nil {
+		t.Fatal(err)
+	}
+	ch := readTable(t, filepath.Join(dir, "out", "run", "choices.parquet"))
+	found := false
+	for i := 0; i < ch.rows; i++ {
+		if ch.str("store", i) != "S3" {
+			if ch.str("store", i) == "S1" && ch.str("item", i) == "A" && ch.str("demand_class", i) != "smooth" {
+				t.Errorf("S1/A classed %s, want smooth", ch.str("demand_class", i))
+			}
+			continue
+		}
+		found = true
+		if ch.str("demand_class", i) != "intermittent" || math.Abs(ch.f64("adi", i)-3) > 1e-12 {
+			t.Errorf("S3/Z: class %s, ADI %g", ch.str("demand_class", i), ch.f64("adi", i))
+		}
+		if c := ch.str("chosen", i); c != "croston" && c != "sba" {
+			t.Errorf("S3/Z chose %s, want croston or sba", c)
+		}
+		if !strings.Contains(ch.str("reason", i), "routed to intermittent demand") {
+			t.Errorf("reason %q", ch.str("reason", i))
+		}
+	}
+	if !found {
+		t.Fatal("no choices row for S3/Z")
+	}
+}

@@ -36,9 +36,10 @@ type canonicalBacktest struct {
 }
 
 type canonicalSelect struct {
-	Fallback string       `json:"fallback"`
-	Metric   string       `json:"metric"`
-	Combine  *Combination `json:"combine,omitempty"`
+	Fallback string              `json:"fallback"`
+	Route    map[string][]string `json:"route,omitempty"`
+	Metric   string              `json:"metric"`
+	Combine  *Combination        `json:"combine,omitempty"`
 }
 
 type canonicalIntervals struct {
@@ -112,7 +113,7 @@ func (s *Spec) Canonical() []byte {
 	}
 	if b := s.Backtest; b.Folds > 0 {
 		c.Backtest = &canonicalBacktest{Folds: b.Folds, Step: b.Step, Horizon: b.Horizon, Window: string(b.Window), MinTrain: b.MinTrain, WindowLength: b.WindowLength}
-		c.Selection = &canonicalSelect{Metric: s.Selection.Metric, Combine: s.Selection.Combine, Fallback: s.Selection.Fallback}
+		c.Selection = &canonicalSelect{Metric: s.Selection.Metric, Combine: s.Selection.Combine, Fallback: s.Selection.Fallback, Route: s.Selection.Route}
 	}
 	if len(s.Intervals.Levels) > 0 {
 		c.Intervals = &canonicalIntervals{Levels: s.Intervals.Levels, Source: s.Intervals.Source, AllMethods: s.Intervals.AllMethods}

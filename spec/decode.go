@@ -105,10 +105,11 @@ func (d *decoder) yamlError(err error) *Error {
 }
 
 type decoder struct {
-	file    string
-	src     []byte
-	errs    ErrorList
-	aliases int
+	routeNodes []labelRef
+	file       string
+	src        []byte
+	errs       ErrorList
+	aliases    int
 }
 
 func (d *decoder) errAt(n *yaml.Node, path, format string, args ...any) {
@@ -449,6 +450,19 @@ func (d *decoder) spec(root *yaml.Node) *Spec {
 			if _, ok := seen["seasonal_naive"]; ok {
 				s.Selection.Fallback = "seasonal_naive"
 			}
+		}
+	}
+	for _, ref := range d.routeNodes {
+		if _, ok := seen[ref.label]; !ok {
+			msg := fmt.Sprintf("%q is not the label of a method", ref.label)
+			labels := make([]string, 0, len(s.Methods))
+			for _, m := range s.Methods {
+				labels = append(labels, m.Label)
+			}
+			if sg := suggest(ref.label, labels); sg != "" {
+				msg += fmt.Sprintf(" (did you mean %q?)", sg)
+			}
+			d.errAt(ref.node, ref.path, "%s; labels: %s", msg, quoteList(labels))
 		}
 	}
 	if c := s.Selection.Combine; c != nil {

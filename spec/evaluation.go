@@ -32,6 +32,19 @@ type Backtest struct {
 	WindowLength int    // sliding only: training periods per fold; default the first fold's training length
 }
 
+// DemandClasses are the demand patterns of Syntetos, Boylan & Croston
+// (2005), by average inter-demand interval (cut-off 1.32) and squared
+// coefficient of variation of demand sizes (cut-off 0.49).
+var DemandClasses = []string{"smooth", "erratic", "intermittent", "lumpy"}
+
+// labelRef is a label named somewhere in the spec, checked once all
+// methods are known.
+type labelRef struct {
+	node  *yaml.Node
+	path  string
+	label string
+}
+
 // Metrics a selection may rank by.
 var Metrics = []string{"mase", "rmsse", "mae", "rmse", "mape", "smape", "wape"}
 
@@ -39,6 +52,10 @@ var Metrics = []string{"mase", "rmsse", "mae", "rmse", "mape", "smape", "wape"}
 type Selection struct {
 	Metric  string       // default mase
 	Combine *Combination // optional combination entry, backtested like a method
+	// Route maps a demand class (smooth, erratic, intermittent, lumpy) to
+	// the labels that may be chosen for series of that class; classes not
+	// listed let every method compete.
+	Route map[string][]string
 	// Fallback is the label chosen for a series that no backtest fold fits
 	// (or on which no entry could be scored); default seasonal_naive when
 	// the spec has it, else the first method.
@@ -113,6 +130,31 @@ func (d *decoder) selection(n *yaml.Node, path string, s *Selection) {
 	d.mapping(n, path, "selection", []field{
 		{"metric", false, func(n *yaml.Node, p string) { d.enum(n, p, "metric", Metrics, &s.Metric) }},
 		{"fallback", false, func(n *yaml.Node, p string) { d.str(n, p, "the label of a method", &s.Fallback) }},
+		{"route", false, func(n *yaml.Node, p string) {
+			s.Route = map[string][]string{}
+			var fields []field
+			for _, class := range DemandClasses {
+				fields = append(fields, field{class, false, func(n *yaml.Node, p string) {
+					n = d.resolve(n)
+					if n == nil {
+						return
+					}
+					if n.Kind != yaml.SequenceNode || len(n.Content) == 0 {
+						d.errAt(n, p, "expected a list of method labels")
+						return
+					}
+					for i, item := range n.Content {
+						var l string
+						d.str(item, fmt.Sprintf("%s[%d]", p, i), "a method label", &l)
+						if l != "" {
+							s.Route[class] = append(s.Route[class], l)
+							d.routeNodes = append(d.routeNodes, labelRef{item, fmt.Sprintf("%s[%d]", p, i), l})
+						}
+					}
+				}})
+			}
+			d.mapping(n, p, "route (demand class → method labels)", fields)
+		}},
 		{"combine", false, func(n *yaml.Node, p string) {
 			c := &Combination{Top: 3, Label: "combination"}
 			d.mapping(n, p, "combine", []field{

@@ -107,6 +107,34 @@ var catalog = map[string]methodDef{
 			return ""
 		},
 	},
+	"ses": {
+		Doc: "simple exponential smoothing (level only); smoothing weight and initial level fitted by least squares",
+	},
+	"holt": {
+		Doc: "Holt's linear trend (level + trend), optionally damped; weights fitted by least squares",
+		Options: map[string]optionDef{
+			"damped": {Kind: kindBool, Default: false, Doc: "damped trend (Gardner & McKenzie), damping fitted in [0.8, 0.98]"},
+		},
+	},
+	"holt_winters": {
+		Doc:      "Holt-Winters (level + trend + season), additive or multiplicative season, optionally damped; weights fitted by least squares",
+		Seasonal: true,
+		Options: map[string]optionDef{
+			"seasonal": {Kind: kindEnum, Allowed: Forms, Default: string(Additive),
+				Doc: "additive or multiplicative season (multiplicative needs strictly positive values, else additive with a warning)"},
+			"damped": {Kind: kindBool, Default: false, Doc: "damped trend, damping fitted in [0.8, 0.98]"},
+			"trend":  {Kind: kindBool, Default: true, Doc: "false drops the trend (level + season)"},
+		},
+		Check: func(o map[string]any) string {
+			if o["damped"] == true && o["trend"] == false {
+				return "damped needs trend: true"
+			}
+			return ""
+		},
+	},
+	"smoothing_auto": {
+		Doc: "exponential smoothing, form chosen per series by AICc among the admissible trend × season forms (named in the model column)",
+	},
 	"theta": {
 		Doc: "Theta method (simple exponential smoothing with drift of half the fitted slope), deseasonalised when the series tests seasonal",
 		Options: map[string]optionDef{

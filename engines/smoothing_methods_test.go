@@ -1,0 +1,555 @@
+package engines
+
+import (
+	"errors"
+	"math"
+	"path/filepath"
+	"slices"
+	"strings"
+	"testing"
+)
+
+// esDataset reads testdata/reference/data/<name>.json (R's datasets, as
+// written by data/dump_data.R).
+func esDataset(t *testing.T, name string) ([]float64, int) {
+	t.Helper()
+	var fx struct {
+		Frequency int      `json:"frequency"`
+		X         esFloats `json:"x"`
+	}
+	esReadJSON(t, filepath.Join("testdata", "reference", "data", name+".json"), &fx)
+	if len(fx.X) == 0 {
+		t.Fatalf("data/%s.json: empty", name)
+	}
+	return fx.X, fx.Frequency
+}
+
+func esNew(t *testing.T, name string, o Options) Method {
+	t.Helper()
+	m, err := New(name, o)
+	if err != nil {
+		t.Fatalf("New(%q, %v): %v", name, o, err)
+	}
+	return m
+}
+
+// TestSmoothingOptions checks the registered names and that the factories
+// validate their options with messages that list what is allowed (common
+// practice).
+func TestSmoothingOptions(t *testing.T) {
+	for _, name := range []string{"ses", "holt", "holt_winters", "smoothing_auto"} {
+		if m := esNew(t, name, nil); m.Name() != name {
+			t.Errorf("New(%q).Name() = %q", name, m.Name())
+		}
+	}
+	bad := []struct {
+		name string
+		o    Options
+		want string
+	}{
+		{"ses", Options{"alpha": 0.3}, `takes no options`},
+		{"smoothing_auto", Options{"damped": true}, `takes no options`},
+		{"holt", Options{"dampd": true}, `unknown option "dampd" (want damped)`},
+		{"holt", Options{"damped": "yes"}, `damped must be a bool`},
+		{"holt_winters", Options{"seasonal": "mult"}, `unknown seasonal "mult" (want additive or multiplicative)`},
+		{"holt_winters", Options{"seasonal": 1}, `seasonal must be a string`},
+		{"holt_winters", Options{"trend": 1}, `trend must be a bool`},
+		{"holt_winters", Options{"damped": true, "trend": false}, `damped = true needs trend = true`},
+		{"holt_winters", Options{"season": "additive"}, `unknown option "season" (want seasonal, damped or trend)`},
+	}
+	for _, c := range bad {
+		_, err := New(c.name, c.o)
+		if err == nil || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("New(%q, %v) error %v, want one containing %q", c.name, c.o, err, c.want)
+		}
+	}
+	good := []struct {
+		o    Options
+		form esForm
+	}{
+		{nil, esForm{esTrendAdditive, esSeasonAdditive}},
+		{Options{"seasonal": "multiplicative"}, esForm{esTrendAdditive, esSeasonMultiplicative}},
+		{Options{"damped": true}, esForm{esTrendDamped, esSeasonAdditive}},
+		{Options{"trend": false}, esForm{esTrendNone, esSeasonAdditive}},
+		{Options{"trend": true, "damped": false, "seasonal": "additive"}, esForm{esTrendAdditive, esSeasonAdditive}},
+	}
+	for _, c := range good {
+		h := esNew(t, "holt_winters", c.o).(*HoltWinters)
+		if h.form != c.form {
+			t.Errorf("holt_winters %v: form %s, want %s", c.o, h.form.describe(), c.form.describe())
+		}
+	}
+	if h := esNew(t, "holt", Options{"damped": true}).(Holt); !h.Damped {
+		t.Error("holt damped=true: not damped")
+	}
+}
+
+// TestSmoothingFittedModels fits each method to AirPassengers and checks
+// the fitted model's contract: Describe, the optional interfaces, the
+// forecast from the final states, the number of parameters k, and that y is
+// not modified (common practice; the numbers themselves are checked against
+// R and statsmodels in smoothing_test.go).
+func TestSmoothingFittedModels(t *testing.T) {
+	y, m := esDataset(t, "AirPassengers")
+	orig := slices.Clone(y)
+	cases := []struct {
+		name     string
+		o        Options
+		describe string
+		params   []string
+		k        int
+		variance bool
+	}{
+		{"ses", nil, "ses", []string{"alpha", "initial_level"}, 2, true},
+		{"holt", nil, "holt", []string{"alpha", "beta", "initial_level", "initial_trend"}, 4, true},
+		{"holt", Options{"damped": true}, "holt(damped)", []string{"alpha", "beta", "phi", "initial_level", "initial_trend"}, 5, true},
+		{"holt_winters", nil, "holt_winters(seasonal=additive)", []string{"alpha", "beta", "gamma", "initial_level", "initial_trend"}, 3 + 2 + 11, true},
+		{"holt_winters", Options{"seasonal": "multiplicative", "damped": true}, "holt_winters(seasonal=multiplicative, damped)", []string{"alpha", "beta", "gamma", "phi", "initial_level", "initial_trend"}, 4 + 2 + 11, false},
+		{"holt_winters", Options{"trend": false}, "holt_winters(seasonal=additive, no trend)", []string{"alpha", "gamma", "initial_level"}, 2 + 1 + 11, true},
+	}
+	for _, c := range cases {
+		t.Run(c.describe, func(t *testing.T) {
+			fit, err := esNew(t, c.name, c.o).Fit(y, m)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if !slices.Equal(y, orig) {
+				t.Fatal("Fit modified y")
+			}
+			mod := fit.(*esModel)
+			if got := fit.(Described).Describe(); got != c.describe {
+				t.Errorf("Describe = %q, want %q", got, c.describe)
+			}
+			if w := fit.(Warner).Warnings(); len(w) != 0 {
+				t.Errorf("warnings %q", w)
+			}
+			var names []string
+			for _, p := range fit.(Parameterized).Params() {
+				names = append(names, p.Name)
+				if math.IsNaN(p.Value) {
+					t.Errorf("param %s is NaN", p.Name)
+				}
+			}
+			if !slices.Equal(names, c.params) {
+				t.Errorf("Params names %q, want %q", names, c.params)
+			}
+			if mod.k != c.k {
+				t.Errorf("k = %d, want %d", mod.k, c.k)
+			}
+			in := fit.(InSampler).InSample()
+			if len(in) != len(y) {
+				t.Fatalf("InSample has %d values, want %d", len(in), len(y))
+			}
+			var sse float64
+			for i, v := range y {
+				sse += (v - in[i]) * (v - in[i])
+			}
+			if math.Abs(sse-mod.SSE()) > 1e-9*sse {
+				t.Errorf("SSE %v, but the in-sample errors sum to %v", mod.SSE(), sse)
+			}
+			fv := fit.(ForecastVariancer)
+			if want := sse / float64(len(y)-c.k); math.Abs(fv.ResidualVariance()-want) > 1e-12*want {
+				t.Errorf("ResidualVariance %v, want SSE/(n−k) = %v", fv.ResidualVariance(), want)
+			}
+			v := fv.ForecastVariance(24)
+			if c.variance != (v != nil) {
+				t.Errorf("ForecastVariance nil = %v, want %v", v == nil, !c.variance)
+			}
+			for i := 1; i < len(v); i++ {
+				if !(v[i] >= v[i-1]) || v[0] != fv.ResidualVariance() {
+					t.Errorf("ForecastVariance %v: not increasing from σ²", v)
+					break
+				}
+			}
+			nf, kf := float64(len(y)), float64(c.k)
+			if want := nf*math.Log(sse/nf) + 2*kf + 2*kf*(kf+1)/(nf-kf-1); math.Abs(mod.AICc()-want) > 1e-9*math.Abs(want) {
+				t.Errorf("AICc %v, want %v", mod.AICc(), want)
+			}
+			// The forecast continues the recursions: running esFilter over
+			// y followed by the forecasts as data leaves the forecasts as
+			// the one-step fitted values.
+			fc := fit.Forecast(30)
+			st := esState{level: mod.l0, slope: mod.b0, season: slices.Clone(mod.s0)}
+			ext := append(slices.Clone(y), fc[0])
+			fitted := make([]float64, len(ext))
+			esFilter(ext, 0, mod.form, mod.p, &st, fitted)
+			if d := math.Abs(fitted[len(y)] - fc[0]); d > 1e-9*math.Abs(fc[0]) {
+				t.Errorf("forecast[0] %v, one-step fitted %v", fc[0], fitted[len(y)])
+			}
+			if len(fit.Forecast(0)) != 0 {
+				t.Error("Forecast(0) not empty")
+			}
+		})
+	}
+}
+
+// TestSmoothingMissingValues checks the missing-value rule: at a NaN the
+// forecast is made and the states move on as if the value had equalled
+// it, and the value is left out of the SSE. Replacing each NaN by its
+// one-step forecast must therefore give identical fitted values and SSE
+// (common practice: the rule stated as an identity).
+func TestSmoothingMissingValues(t *testing.T) {
+	y, m := esDataset(t, "AirPassengers")
+	gaps := slices.Clone(y)
+	for _, i := range []int{0, 4, 29, 30, 99, 143} {
+		gaps[i] = math.NaN()
+	}
+	for _, form := range esAutoForms {
+		p := esParams{alpha: 0.3, beta: 0.1, gamma: 0.2, phi: 0.9}
+		s0 := make([]float64, m)
+		for j := range s0 {
+			s0[j] = 1 + 0.1*math.Sin(float64(j))
+			if form.season == esSeasonAdditive {
+				s0[j] = 10 * math.Sin(float64(j))
+			}
+		}
+		run := func(v []float64) ([]float64, float64, int) {
+			st := esState{level: 110, slope: 1, season: slices.Clone(s0)}
+			fitted := make([]float64, len(v))
+			sse, nobs := esFilter(v, 0, form, p, &st, fitted)
+			return fitted, sse, nobs
+		}
+		f1, sse1, n1 := run(gaps)
+		filled := slices.Clone(gaps)
+		for i, v := range filled {
+			if math.IsNaN(v) {
+				filled[i] = f1[i]
+			}
+		}
+		f2, sse2, n2 := run(filled)
+		esClose(t, form.describe()+" fitted", f1, f2, 1e-12)
+		if math.Abs(sse1-sse2) > 1e-9*sse2 || n1 != len(y)-6 || n2 != len(y) {
+			t.Errorf("%s: SSE %v (n %d) with gaps, %v (n %d) filled", form.describe(), sse1, n1, sse2, n2)
+		}
+	}
+	// The methods fit through the gaps.
+	for _, name := range []string{"ses", "holt", "holt_winters", "smoothing_auto"} {
+		fit, err := esNew(t, name, nil).Fit(gaps, m)
+		if err != nil {
+			t.Fatalf("%s: %v", name, err)
+		}
+		for i, v := range fit.(InSampler).InSample() {
+			if math.IsNaN(v) {
+				t.Fatalf("%s: in-sample value %d is NaN", name, i)
+			}
+		}
+		for _, v := range fit.Forecast(12) {
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				t.Fatalf("%s: forecast %v", name, v)
+			}
+		}
+	}
+}
+
+// TestSmoothingConcentratedInitialStates checks that the closed-form
+// initial level and trend of ses and holt are the least-squares ones: the
+// SSE at them is below the SSE at nearby starting states (common practice:
+// the minimum of a quadratic), and that esConcentrated's SSE equals the SSE
+// of a plain pass from the corrected states.
+func TestSmoothingConcentratedInitialStates(t *testing.T) {
+	y, _ := esDataset(t, "Nile")
+	y = slices.Clone(y)
+	y[10] = math.NaN()
+	for _, trend := range []esTrend{esTrendNone, esTrendAdditive, esTrendDamped} {
+		form := esForm{trend: trend}
+		p := esParams{alpha: 0.4, beta: 0.2, phi: 0.9}
+		sse, dl, db := esConcentrated(y, 0, trend, p, 1000, -5)
+		plain := func(l0, b0 float64) float64 {
+			st := esState{level: l0, slope: b0}
+			s, _ := esFilter(y, 0, form, p, &st, make([]float64, len(y)))
+			return s
+		}
+		l0, b0 := 1000+dl, -5+db
+		if got := plain(l0, b0); math.Abs(got-sse) > 1e-9*sse {
+			t.Errorf("%s: concentrated SSE %v, plain pass %v", form.describe(), sse, got)
+		}
+		for _, d := range [][2]float64{{1, 0}, {-1, 0}, {0, 0.1}, {0, -0.1}} {
+			if trend == esTrendNone && d[1] != 0 {
+				continue
+			}
+			if got := plain(l0+d[0], b0+d[1]); !(got > sse) {
+				t.Errorf("%s: SSE %v at a perturbed start, not above the minimum %v", form.describe(), got, sse)
+			}
+		}
+	}
+}
+
+// TestSmoothingAutoChoice checks the automatic choice: a multiplicative
+// seasonal form for AirPassengers (the textbook case of a season growing
+// with the level; from memory of the literature, e.g. Hyndman et al. 2008
+// ch. 2, and R's optimised HoltWinters SSE here, 16571 multiplicative vs
+// 21860 additive, hw/optim_AirPassengers.json), a non-seasonal form for
+// Nile (annual, season 1), and no multiplicative form for a series with a
+// zero.
+func TestSmoothingAutoChoice(t *testing.T) {
+	auto := esNew(t, "smoothing_auto", nil)
+	y, m := esDataset(t, "AirPassengers")
+	fit, err := auto.Fit(y, m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	mod := fit.(*esModel)
+	t.Logf("AirPassengers: %s, AICc %.2f", mod.Describe(), mod.AICc())
+	if mod.form.season != esSeasonMultiplicative || !strings.HasPrefix(mod.Describe(), "holt_winters(seasonal=multiplicative") {
+		t.Errorf("AirPassengers: chose %s, want a multiplicative seasonal form", mod.Describe())
+	}
+	if fit.(ForecastVariancer).ForecastVariance(3) != nil {
+		t.Error("multiplicative choice: ForecastVariance not nil")
+	}
+	// The chosen AICc is the lowest of the admissible forms.
+	for _, form := range esAutoForms {
+		var f esFitter
+		f.reset(y, m)
+		if f.initStates(form) != nil {
+			t.Fatalf("%s: no start-up values", form.describe())
+		}
+		sol := f.optimise()
+		a := esAICc(sol.sse, sol.nobs, form.nSmoothing()+form.nStates(m), esScale(y))
+		if a < mod.AICc()-1e-9 {
+			t.Errorf("%s has AICc %.3f below the chosen %.3f", form.describe(), a, mod.AICc())
+		}
+	}
+
+	nile, mn := esDataset(t, "Nile")
+	fit, err = auto.Fit(nile, mn)
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Logf("Nile: %s", fit.(Described).Describe())
+	if fit.(*esModel).form.season != esSeasonNone {
+		t.Errorf("Nile: chose %s, want a non-seasonal form", fit.(Described).Describe())
+	}
+	// Nile with a season of 4 imposed: seasonal forms compete but need not win.
+	if _, err := auto.Fit(nile, 4); err != nil {
+		t.Errorf("Nile, season 4: %v", err)
+	}
+
+	zero := slices.Clone(y)
+	zero[50] = 0
+	fit, err = auto.Fit(zero, m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Logf("AirPassengers with a zero: %s", fit.(Described).Describe())
+	if fit.(*esModel).form.season == esSeasonMultiplicative {
+		t.Errorf("series with a zero: chose %s", fit.(Described).Describe())
+	}
+}
+
+// TestHoltWintersMultiplicativeFallsBack checks that the multiplicative
+// form given a value ≤ 0 uses the additive one, with a warning and a note
+// in Describe (common practice, as Classical does).
+func TestHoltWintersMultiplicativeFallsBack(t *testing.T) {
+	y, m := esDataset(t, "AirPassengers")
+	y = slices.Clone(y)
+	y[7] = -1
+	fit, err := esNew(t, "holt_winters", Options{"seasonal": "multiplicative"}).Fit(y, m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got, want := fit.(Described).Describe(), "holt_winters(seasonal=additive; fell back from multiplicative)"; got != want {
+		t.Errorf("Describe = %q, want %q", got, want)
+	}
+	w := fit.(Warner).Warnings()
+	if len(w) != 1 || !strings.Contains(w[0], "found 1 values ≤ 0") {
+		t.Errorf("warnings %q", w)
+	}
+	if fit.(ForecastVariancer).ForecastVariance(2) == nil {
+		t.Error("additive fallback: ForecastVariance nil")
+	}
+}
+
+// TestSmoothingEdgeCases runs every method on awkward series: each call
+// must return a model with finite forecasts or an error (the right kind of
+// error where one is expected), never panic (common practice).
+func TestSmoothingEdgeCases(t *testing.T) {
+	nan := math.NaN()
+	rep := func(v float64, n int) []float64 {
+		out := make([]float64, n)
+		for i := range out {
+			out[i] = v
+		}
+		return out
+	}
+	ramp := func(n int) []float64 {
+		out := make([]float64, n)
+		for i := range out {
+			out[i] = float64(i)
+		}
+		return out
+	}
+	cases := []struct {
+		name   string
+		y      []float64
+		m      int
+		errIs  error // expected for every method, if not nil
+		anyErr bool  // some methods may refuse
+	}{
+		{"empty", nil, 12, ErrTooShort, false},
+		{"all missing", rep(nan, 30), 12, ErrAllMissing, false},
+		{"one value", []float64{5}, 12, ErrTooShort, false},
+		{"two values", []float64{5, 6}, 1, nil, true},
+		{"three values", []float64{5, 6, 8}, 1, nil, true},
+		{"constant", rep(7, 48), 12, nil, false},
+		{"all zero", rep(0, 48), 12, nil, false},
+		{"all zero weekly", rep(0, 156), 52, nil, false},
+		{"constant short", rep(3, 5), 4, nil, true},
+		{"one season", ramp(12), 12, nil, true},
+		{"two seasons", ramp(24), 12, nil, false},
+		{"two seasons quarterly", []float64{1, 2, 3, 4, 2, 3, 4, 5}, 4, nil, false},
+		{"season 2", []float64{1, 3, 1, 3, 1, 3, 1, 3}, 2, nil, false},
+		{"negative", []float64{-5, -3, -6, -2, -5, -3, -6, -2, -5, -3, -6, -2}, 4, nil, false},
+		{"zeros and spikes", []float64{0, 0, 9, 0, 0, 0, 7, 0, 0, 0, 8, 0, 0, 0, 6, 0}, 4, nil, false},
+		{"mostly missing", []float64{nan, 4, nan, nan, 5, nan, nan, nan, 6, nan, nan, 7, nan, nan, 8, nan}, 4, nil, true},
+		{"leading gap", append(rep(nan, 12), ramp(36)...), 12, nil, false},
+		{"huge", []float64{1e300, -1e300, 1e300, -1e300, 1e300, -1e300, 1e300, -1e300}, 2, nil, true},
+		{"tiny", []float64{1e-300, 2e-300, 1e-300, 3e-300, 1e-300, 2e-300, 1e-300, 3e-300}, 2, nil, false},
+		{"season 0", ramp(20), 0, nil, true},
+		{"season -3", ramp(20), -3, nil, true},
+	}
+	methods := []Method{SES{}, Holt{}, Holt{Damped: true}, SmoothingAuto{}}
+	for _, o := range []Options{nil, {"seasonal": "multiplicative"}, {"damped": true}, {"trend": false}} {
+		methods = append(methods, esNew(t, "holt_winters", o))
+	}
+	for _, c := range cases {
+		for _, meth := range methods {
+			y := slices.Clone(c.y)
+			fit, err := func() (f Fitted, err error) {
+				defer func() {
+					if r := recover(); r != nil {
+						t.Errorf("%s, %s: panic: %v", c.name, meth.Name(), r)
+					}
+				}()
+				return meth.Fit(y, c.m)
+			}()
+			if !slices.EqualFunc(y, c.y, func(a, b float64) bool { return a == b || a != a && b != b }) {
+				t.Errorf("%s, %s: Fit modified y", c.name, meth.Name())
+			}
+			if c.errIs != nil {
+				if !errors.Is(err, c.errIs) {
+					t.Errorf("%s, %s: error %v, want %v", c.name, meth.Name(), err, c.errIs)
+				}
+				continue
+			}
+			_, isHW := meth.(*HoltWinters)
+			if err != nil {
+				if !c.anyErr && !(isHW && c.m < 2) {
+					t.Errorf("%s, %s: %v", c.name, meth.Name(), err)
+				}
+				continue
+			}
+			for _, v := range fit.Forecast(8) {
+				if math.IsNaN(v) || math.IsInf(v, 0) {
+					t.Errorf("%s, %s (%s): forecast %v", c.name, meth.Name(), fit.(Described).Describe(), v)
+					break
+				}
+			}
+			fit.(ForecastVariancer).ForecastVariance(8)
+			fit.(Parameterized).Params()
+		}
+	}
+	// The constant series is fitted exactly and ties go to the simplest form.
+	fit, err := SmoothingAuto{}.Fit(rep(7, 48), 12)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if d := fit.(Described).Describe(); d != "ses" {
+		t.Errorf("constant series: chose %s, want ses", d)
+	}
+	for _, v := range fit.Forecast(5) {
+		if math.Abs(v-7) > 1e-9 {
+			t.Errorf("constant series: forecast %v, want 7", v)
+		}
+	}
+}
+
+// TestSmoothingForecastPanics checks that a negative horizon is treated as
+// programmer misuse: a panic with the "engines: " prefix (common practice).
+func TestSmoothingForecastPanics(t *testing.T) {
+	y, m := esDataset(t, "AirPassengers")
+	fit, err := SES{}.Fit(y, m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for name, f := range map[string]func(){
+		"Forecast":         func() { fit.Forecast(-1) },
+		"ForecastVariance": func() { fit.(ForecastVariancer).ForecastVariance(-1) },
+	} {
+		func() {
+			defer func() {
+				r := recover()
+				if s, ok := r.(string); !ok || !strings.HasPrefix(s, "engines: ses: negative horizon") {
+					t.Errorf("%s(-1): panic %v, want an \"engines: \" panic", name, r)
+				}
+			}()
+			f()
+		}()
+	}
+}
+
+// TestSmoothingSimplex checks the Nelder–Mead minimiser on the Rosenbrock
+// function (minimum 0 at (1, 1), a standard test; common practice) and that
+// it reports a stop at its evaluation budget.
+func TestSmoothingSimplex(t *testing.T) {
+	var s esSimplex
+	x := []float64{-1.2, 1}
+	res := s.minimize(esRosenbrock{}, x, 0.5, 1e-10, 1e-7, 5000)
+	if !res.Converged || math.Abs(x[0]-1) > 1e-4 || math.Abs(x[1]-1) > 1e-4 || res.F > 1e-8 {
+		t.Errorf("Rosenbrock: x %v, f %g, converged %v after %d evaluations", x, res.F, res.Converged, res.Evals)
+	}
+	x = []float64{-1.2, 1}
+	res = s.minimize(esRosenbrock{}, x, 0.5, 1e-14, 1e-9, 20)
+	if res.Converged || res.Evals < 20 || res.Evals > 23 {
+		t.Errorf("budget 20: converged %v after %d evaluations", res.Converged, res.Evals)
+	}
+	if f := (esRosenbrock{}).eval(x); f != res.F {
+		t.Errorf("reported f %v, f at the returned point %v", res.F, f)
+	}
+}
+
+type esRosenbrock struct{}
+
+func (esRosenbrock) eval(u []float64) float64 {
+	a, b := 1-u[0], u[1]-u[0]*u[0]
+	return a*a + 100*b*b
+}
+
+// TestSmoothingNonConvergenceWarns checks that a fit that stopped at its
+// evaluation budget says so in a warning and still gives a model (common
+// practice).
+func TestSmoothingNonConvergenceWarns(t *testing.T) {
+	y, m := esDataset(t, "AirPassengers")
+	var f esFitter
+	f.reset(y, m)
+	form := esForm{esTrendAdditive, esSeasonMultiplicative}
+	if err := f.initStates(form); err != nil {
+		t.Fatal(err)
+	}
+	sol := f.optimise()
+	sol.res.Converged = false
+	mod := f.model("holt_winters", sol, esScale(y))
+	if len(mod.warnings) != 1 || !strings.Contains(mod.warnings[0], "without converging") {
+		t.Errorf("warnings %q", mod.warnings)
+	}
+	if fc := mod.Forecast(3); len(fc) != 3 || math.IsNaN(fc[0]) {
+		t.Errorf("forecast %v", fc)
+	}
+}
+
+// TestSmoothingEvalAllocates checks that evaluating the SSE, the inner loop
+// of the fit, allocates nothing (common practice).
+func TestSmoothingEvalAllocates(t *testing.T) {
+	y, m := esDataset(t, "AirPassengers")
+	for _, form := range esAutoForms {
+		var f esFitter
+		f.reset(y, m)
+		if err := f.initStates(form); err != nil {
+			t.Fatal(err)
+		}
+		f.setSlots(form)
+		u := []float64{-1, -2, -2, 0}[:f.d]
+		if a := testing.AllocsPerRun(50, func() { f.eval(u) }); a != 0 {
+			t.Errorf("%s: %v allocations per evaluation", form.describe(), a)
+		}
+	}
+}
