@@ -285,17 +285,37 @@ func (c *Classical) decompose(d *Decomposition, y []float64, m int) error {
 		}
 	}
 
+	// remainder still holds the detrended values: remainder = detrended ÷
+	// factor (or − factor). Multiplying by the factor's reciprocal keeps
+	// divisions to one per position.
+	if mult {
+		var invBuf [64]float64
+		invs := invBuf[:0]
+		if m > len(invBuf) {
+			invs = make([]float64, m)
+		} else {
+			invs = invBuf[:m]
+		}
+		for j, f := range factors {
+			invs[j] = 1 / f
+		}
+		j := 0
+		for i, v := range y {
+			seasonal[i] = factors[j]
+			remainder[i] *= invs[j]
+			adjusted[i] = v * invs[j]
+			if j++; j == m {
+				j = 0
+			}
+		}
+		return nil
+	}
 	j := 0
 	for i, v := range y {
 		s := factors[j]
 		seasonal[i] = s
-		if mult {
-			remainder[i] = v / s / trend[i]
-			adjusted[i] = v / s
-		} else {
-			remainder[i] = v - s - trend[i]
-			adjusted[i] = v - s
-		}
+		remainder[i] -= s
+		adjusted[i] = v - s
 		if j++; j == m {
 			j = 0
 		}
@@ -306,35 +326,70 @@ func (c *Classical) decompose(d *Decomposition, y []float64, m int) error {
 // classicalMovingAverage writes the centred moving average of order m of y
 // into out (len(y)): the 2×m average for even m, the plain m average for odd
 // m; NaN where the window runs off the series or holds a NaN.
+//
+// The sum over the window's inner part is carried from one period to the
+// next (one value in, one out) and summed afresh every m periods, so the
+// cost is O(n) and rounding cannot build up; NaNs are counted rather than
+// summed.
 func classicalMovingAverage(y []float64, m int, out []float64) {
 	n := len(y)
 	k := m / 2
 	nan := math.NaN()
 	div := float64(m)
-	for i := 0; i < n; i++ {
-		if i < k || i >= n-k {
+	even := m%2 == 0
+	// The inner window of period i is y[i-k+lo : i+k+1-lo]: lo = 1 for
+	// even m (the two ends enter with weight ½ separately), 0 for odd m.
+	lo := 0
+	if even {
+		lo = 1
+	}
+	for i := 0; i < min(k, n); i++ {
+		out[i] = nan
+	}
+	for i := max(n-k, k); i < n; i++ {
+		out[i] = nan
+	}
+	var sum float64
+	var nans int
+	fresh := func(i int) {
+		sum, nans = 0, 0
+		for _, v := range y[i-k+lo : i+k+1-lo] {
+			if v != v {
+				nans++
+			} else {
+				sum += v
+			}
+		}
+	}
+	for i := k; i < n-k; i++ {
+		if (i-k)%m == 0 {
+			fresh(i)
+		} else {
+			if v := y[i-k+lo-1]; v != v {
+				nans--
+			} else {
+				sum -= v
+			}
+			if v := y[i+k-lo]; v != v {
+				nans++
+			} else {
+				sum += v
+			}
+		}
+		s := sum
+		if even {
+			a, b := y[i-k], y[i+k]
+			if a != a || b != b {
+				out[i] = nan
+				continue
+			}
+			s += 0.5*a + 0.5*b
+		}
+		if nans > 0 {
 			out[i] = nan
 			continue
 		}
-		w := y[i-k : i+k+1]
-		var s float64
-		if m%2 == 0 {
-			s = 0.5*w[0] + 0.5*w[2*k]
-			w = w[1 : 2*k]
-		}
-		// Four partial sums: shorter dependency chains, same NaN propagation.
-		var s0, s1, s2, s3 float64
-		for len(w) >= 4 {
-			s0 += w[0]
-			s1 += w[1]
-			s2 += w[2]
-			s3 += w[3]
-			w = w[4:]
-		}
-		for _, v := range w {
-			s0 += v
-		}
-		out[i] = (s + ((s0 + s1) + (s2 + s3))) / div
+		out[i] = s / div
 	}
 }
 

@@ -738,3 +738,16 @@ func BenchmarkClassicalWeekly156(b *testing.B) { benchmarkClassical(b, "weekly15
 
 // BenchmarkClassicalMonthly60: fit and 12-step forecast, 5 years of months.
 func BenchmarkClassicalMonthly60(b *testing.B) { benchmarkClassical(b, "monthly60", 60, 12, 12) }
+
+// BenchmarkClassicalDecomposeWeekly156 is the decomposition alone (no
+// forecast), the figure to set beside R's decompose() on the same series.
+func BenchmarkClassicalDecomposeWeekly156(b *testing.B) {
+	y, _ := classicalBenchSeries(b, "weekly156")
+	c := mustClassical(b, "", "", "")
+	b.ReportAllocs()
+	for b.Loop() {
+		if _, err := c.Decompose(y, 52); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
