@@ -195,10 +195,12 @@ func Run(ctx context.Context, s *spec.Spec, opts Options) (*Summary, error) {
 			os.RemoveAll(staging)
 		}
 	}()
+	runID := RunID(s, files)
 	meta := map[string]string{
 		"almanac.spec_sha256": s.Hash(),
 		"almanac.version":     Version,
 		"almanac.spec_name":   s.Name,
+		"almanac.run_id":      runID,
 	}
 	w, err := openTables(staging, s, meta, mem)
 	if err != nil {
@@ -279,8 +281,9 @@ func Run(ctx context.Context, s *spec.Spec, opts Options) (*Summary, error) {
 	man := &Manifest{
 		Almanac:   Version,
 		GoVersion: runtime.Version(),
+		RunID:     runID,
 		Spec: ManifestSpec{
-			Name: s.Name, File: s.File, SHA256: s.Hash(), Canonical: json.RawMessage(s.Canonical()),
+			Name: s.Name, File: s.File, Dir: s.Dir, SHA256: s.Hash(), Canonical: json.RawMessage(s.Canonical()),
 		},
 		Inputs:        files,
 		RowsRead:      rowsRead,
@@ -315,6 +318,9 @@ func Run(ctx context.Context, s *spec.Spec, opts Options) (*Summary, error) {
 	man.FinishedAt = time.Now().UTC().Format(time.RFC3339Nano)
 	man.Seconds = math.Round(time.Since(started).Seconds()*1e6) / 1e6
 	if err := writeManifest(filepath.Join(staging, "manifest.json"), man); err != nil {
+		return nil, err
+	}
+	if err := writeLineage(filepath.Join(staging, LineageFile), man, target); err != nil {
 		return nil, err
 	}
 	stallPoint("commit")
@@ -778,6 +784,7 @@ type ProblemCounts struct {
 // Unlike the tables it holds wall-clock times, so it differs between reruns.
 type Manifest struct {
 	Almanac       string           `json:"almanac_version"`
+	RunID         string           `json:"run_id"`
 	GoVersion     string           `json:"go_version"`
 	Spec          ManifestSpec     `json:"spec"`
 	Inputs        []InputFile      `json:"inputs"`
@@ -799,6 +806,7 @@ type Manifest struct {
 type ManifestSpec struct {
 	Name      string          `json:"name"`
 	File      string          `json:"file"`
+	Dir       string          `json:"dir"` // absolute folder of the spec: input paths are relative to it
 	SHA256    string          `json:"sha256"`
 	Canonical json.RawMessage `json:"canonical"`
 }

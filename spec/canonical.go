@@ -143,3 +143,48 @@ func (s *Spec) Hash() string {
 	sum := sha256.Sum256(s.Canonical())
 	return hex.EncodeToString(sum[:])
 }
+
+// FromCanonical decodes a spec from its canonical form (as recorded in a
+// run's manifest), so that a run can be reproduced from its manifest alone.
+// The canonical form nests each method's options under "options" and writes
+// every default; it is turned back into spec syntax and decoded by Parse,
+// so the result has passed the same checks as any spec.
+func FromCanonical(canonical []byte, file string) (*Spec, error) {
+	var c map[string]any
+	if err := json.Unmarshal(canonical, &c); err != nil {
+		return nil, ErrorList{{File: file, Msg: "canonical spec: " + err.Error()}}
+	}
+	if ms, ok := c["methods"].([]any); ok {
+		for i, m := range ms {
+			mm, ok := m.(map[string]any)
+			if !ok {
+				continue
+			}
+			flat := map[string]any{}
+			for k, v := range mm {
+				if k != "options" {
+					flat[k] = v
+				}
+			}
+			if opts, ok := mm["options"].(map[string]any); ok {
+				for k, v := range opts {
+					flat[k] = v
+				}
+			}
+			ms[i] = flat
+		}
+	}
+	if b, ok := c["backtest"].(map[string]any); ok {
+		if wl, ok := b["window_length"].(float64); ok && wl == 0 {
+			delete(b, "window_length")
+		}
+	}
+	if sel, ok := c["selection"].(map[string]any); ok && sel["combine"] == nil {
+		delete(sel, "combine")
+	}
+	src, err := json.Marshal(c)
+	if err != nil {
+		return nil, err
+	}
+	return Parse(src, file)
+}

@@ -125,6 +125,15 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 				Action:    planCmd,
 			},
 			{
+				Name:      "verify",
+				Usage:     "rerun a stored run from its manifest and compare every table byte for byte (exit 0 identical, 1 differs, 2 inputs changed or missing)",
+				ArgsUsage: "RUN_DIR",
+				Flags: []cli.Flag{
+					&cli.IntFlag{Name: "workers", Aliases: []string{"w"}, Value: runtime.NumCPU(), Usage: "series processed in parallel"},
+				},
+				Action: verifyCmd,
+			},
+			{
 				Name:      "run",
 				Usage:     "run a spec and write its run folder",
 				ArgsUsage: "SPEC",
@@ -236,6 +245,20 @@ func runCmd(c *cli.Context) error {
 		return &exitError{exitRun, fmt.Errorf("almanac run %s: %v", path, err)}
 	}
 	printSummary(c.App.Writer, sum)
+	return nil
+}
+
+func verifyCmd(c *cli.Context) error {
+	if c.NArg() != 1 {
+		return &exitError{exitSpec, fmt.Errorf("almanac verify: expected one RUN_DIR argument, got %d", c.NArg())}
+	}
+	code, err := pipeline.Verify(c.Context, c.Args().First(), c.App.Writer, max(1, c.Int("workers")))
+	if err != nil {
+		return &exitError{exitSpec, fmt.Errorf("almanac verify: %v", err)}
+	}
+	if code != 0 {
+		return &exitError{code, nil}
+	}
 	return nil
 }
 

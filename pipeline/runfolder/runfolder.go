@@ -1,0 +1,257 @@
+// Package runfolder reads an almanac run folder: its manifest and its
+// Parquet tables, for the commands that look at finished runs (diff,
+// explain, verify, the HTML report). It imports nothing else of almanac.
+package runfolder
+
+import (
+	"context"
+	"encoding/json"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"time"
+
+	"github.com/apache/arrow-go/v18/arrow"
+	"github.com/apache/arrow-go/v18/arrow/array"
+	"github.com/apache/arrow-go/v18/arrow/memory"
+	"github.com/apache/arrow-go/v18/parquet/file"
+	"github.com/apache/arrow-go/v18/parquet/pqarrow"
+)
+
+// Marker is the file that marks an almanac run folder.
+const Marker = ".almanac-run"
+
+// Run is an opened run folder.
+type Run struct {
+	Dir      string
+	Manifest Manifest
+	// Raw is manifest.json as it is on disk.
+	Raw []byte
+}
+
+// Manifest is the part of manifest.json that readers need. Unknown fields
+// are kept in Run.Raw.
+type Manifest struct {
+	Almanac string `json:"almanac_version"`
+	RunID   string `json:"run_id"`
+	Spec    struct {
+		Name      string          `json:"name"`
+		File      string          `json:"file"`
+		SHA256    string          `json:"sha256"`
+		Canonical json.RawMessage `json:"canonical"`
+	} `json:"spec"`
+	Inputs []struct {
+		Path   string `json:"path"`
+		Format string `json:"format"`
+		Size   int64  `json:"size"`
+		SHA256 string `json:"sha256"`
+		Rows   int64  `json:"rows"`
+	} `json:"inputs"`
+	Series  int `json:"series"`
+	Methods []struct {
+		Label   string         `json:"label"`
+		Method  string         `json:"method"`
+		Options map[string]any `json:"options"`
+	} `json:"methods"`
+	Tables []struct {
+		Name   string `json:"name"`
+		File   string `json:"file"`
+		Rows   int64  `json:"rows"`
+		Bytes  int64  `json:"bytes"`
+		SHA256 string `json:"sha256"`
+	} `json:"tables"`
+	Leaderboard *struct {
+		Metric  string `json:"selection_metric"`
+		Entries []struct {
+			Method     string  `json:"method"`
+			Series     int     `json:"series_scored"`
+			MeanMASE   float64 `json:"mean_mase"`
+			MedianMASE float64 `json:"median_mase"`
+			WinShare   float64 `json:"win_share"`
+		} `json:"entries"`
+		Chosen map[string]int `json:"series_per_chosen_method"`
+	} `json:"leaderboard"`
+}
+
+// CanonicalSpec is the subset of the canonical spec readers use.
+type CanonicalSpec struct {
+	Name    string `json:"name"`
+	Columns struct {
+		Time  string   `json:"time"`
+		Value string   `json:"value"`
+		Keys  []string `json:"keys"`
+	} `json:"columns"`
+	Calendar struct {
+		Frequency    string `json:"frequency"`
+		SeasonLength int    `json:"season_length"`
+	} `json:"calendar"`
+	Horizon   int `json:"horizon"`
+	Intervals *struct {
+		Levels []int `json:"levels"`
+	} `json:"intervals"`
+}
+
+// Open reads a run folder's manifest. It fails on a folder that is not an
+// almanac run folder.
+func Open(dir string) (*Run, error) {
+	if _, err := os.Stat(filepath.Join(dir, Marker)); err != nil {
+		return nil, fmt.Errorf("%s is not an almanac run folder (no %s)", dir, Marker)
+	}
+	raw, err := os.ReadFile(filepath.Join(dir, "manifest.json"))
+	if err != nil {
+		return nil, err
+	}
+	r := &Run{Dir: dir, Raw: raw}
+	if err := json.Unmarshal(raw, &r.Manifest); err != nil {
+		return nil, fmt.Errorf("%s: %v", filepath.Join(dir, "manifest.json"), err)
+	}
+	return r, nil
+}
+
+// Spec decodes the canonical spec recorded in the manifest.
+func (r *Run) Spec() (*CanonicalSpec, error) {
+	var s CanonicalSpec
+	if err := json.Unmarshal(r.Manifest.Spec.Canonical, &s); err != nil {
+		return nil, fmt.Errorf("%s: canonical spec: %v", r.Dir, err)
+	}
+	return &s, nil
+}
+
+// Keys are the run's key columns, in spec order.
+func (r *Run) Keys() []string {
+	s, err := r.Spec()
+	if err != nil {
+		return nil
+	}
+	return s.Columns.Keys
+}
+
+// HasTable reports whether the run wrote the named table.
+func (r *Run) HasTable(name string) bool {
+	_, err := os.Stat(filepath.Join(r.Dir, name+".parquet"))
+	return err == nil
+}
+
+// Table reads the named table (forecasts, accuracy, …) whole.
+func (r *Run) Table(name string) (*Table, error) {
+	return ReadTable(filepath.Join(r.Dir, name+".parquet"))
+}
+
+// Table is a Parquet table read into memory, column by column.
+type Table struct {
+	Path   string
+	Schema *arrow.Schema
+	Rows   int
+	Meta   map[string]string
+	cols   map[string]arrow.Array
+}
+
+// ReadTable reads a Parquet file.
+func ReadTable(path string) (*Table, error) {
+	pf, err := file.OpenParquetFile(path, false)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %v", path, err)
+	}
+	defer pf.Close()
+	fr, err := pqarrow.NewFileReader(pf, pqarrow.ArrowReadProperties{}, memory.DefaultAllocator)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %v", path, err)
+	}
+	tbl, err := fr.ReadTable(context.Background())
+	if err != nil {
+		return nil, fmt.Errorf("%s: %v", path, err)
+	}
+	defer tbl.Release()
+	t := &Table{Path: path, Schema: tbl.Schema(), Rows: int(tbl.NumRows()), Meta: map[string]string{}, cols: map[string]arrow.Array{}}
+	if kv := pf.MetaData().KeyValueMetadata(); kv != nil {
+		for i, k := range kv.Keys() {
+			t.Meta[k] = kv.Values()[i]
+		}
+	}
+	for i, f := range tbl.Schema().Fields() {
+		chunks := tbl.Column(i).Data().Chunks()
+		var arr arrow.Array
+		if len(chunks) == 0 {
+			arr = array.MakeArrayOfNull(memory.DefaultAllocator, f.Type, 0)
+		} else if arr, err = array.Concatenate(chunks, memory.DefaultAllocator); err != nil {
+			return nil, err
+		}
+		t.cols[f.Name] = arr
+	}
+	return t, nil
+}
+
+// Has reports whether the table has the column.
+func (t *Table) Has(col string) bool { _, ok := t.cols[col]; return ok }
+
+func (t *Table) col(name string) arrow.Array {
+	c, ok := t.cols[name]
+	if !ok {
+		panic(fmt.Sprintf("runfolder: %s has no column %q", filepath.Base(t.Path), name))
+	}
+	return c
+}
+
+// Str returns a string cell; ok is false for NULL.
+func (t *Table) Str(col string, i int) (string, bool) {
+	c := t.col(col).(*array.String)
+	if c.IsNull(i) {
+		return "", false
+	}
+	return c.Value(i), true
+}
+
+// Float returns a float64 cell, NaN for NULL.
+func (t *Table) Float(col string, i int) float64 {
+	c := t.col(col).(*array.Float64)
+	if c.IsNull(i) {
+		return math.NaN()
+	}
+	return c.Value(i)
+}
+
+// Int returns an int32 cell; ok is false for NULL.
+func (t *Table) Int(col string, i int) (int, bool) {
+	c := t.col(col).(*array.Int32)
+	if c.IsNull(i) {
+		return 0, false
+	}
+	return int(c.Value(i)), true
+}
+
+// Bool returns a boolean cell (false for NULL).
+func (t *Table) Bool(col string, i int) bool {
+	c := t.col(col).(*array.Boolean)
+	return !c.IsNull(i) && c.Value(i)
+}
+
+// Date returns a DATE cell as a UTC time; ok is false for NULL.
+func (t *Table) Date(col string, i int) (time.Time, bool) {
+	c := t.col(col).(*array.Date32)
+	if c.IsNull(i) {
+		return time.Time{}, false
+	}
+	return c.Value(i).ToTime(), true
+}
+
+// Key returns the key of row i as one string, the key columns joined by
+// " / " in spec order ("" when there are no keys).
+func (t *Table) Key(keys []string, i int) string {
+	parts := make([]string, len(keys))
+	for j, k := range keys {
+		v, _ := t.Str(k, i)
+		parts[j] = v
+	}
+	return strings.Join(parts, " / ")
+}
+
+// KeyParts returns the key of row i, column by column.
+func (t *Table) KeyParts(keys []string, i int) []string {
+	parts := make([]string, len(keys))
+	for j, k := range keys {
+		parts[j], _ = t.Str(k, i)
+	}
+	return parts
+}
