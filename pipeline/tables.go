@@ -51,6 +51,11 @@ type column struct {
 
 // tableWriter streams rows of one table into a Parquet file.
 type tableWriter struct {
+	strs   []*array.StringBuilder // by field index; nil where the field is not a string
+	floats []*array.Float64Builder
+	ints   []*array.Int32Builder
+	dates  []*array.Date32Builder
+	bools  []*array.BooleanBuilder
 	name   string
 	path   string
 	file   *os.File
@@ -89,16 +94,25 @@ func tableSchema(keyNames []string, cols []column) *arrow.Schema {
 // writerProps are the Parquet properties of every table: zstd, dictionary
 // encoding, statistics, a fixed created-by so files do not change with the
 // library's build.
-func writerProps() *parquet.WriterProperties {
-	return parquet.NewWriterProperties(
+func writerProps(sch *arrow.Schema) *parquet.WriterProperties {
+	opts := []parquet.WriterProperty{
 		parquet.WithCompression(compress.Codecs.Zstd),
 		parquet.WithCompressionLevel(3),
-		parquet.WithDictionaryDefault(true),
+		// Dictionary encoding for the string columns (keys, method, model,
+		// form …: few distinct values); numbers are mostly distinct, so a
+		// dictionary would cost time and save nothing.
+		parquet.WithDictionaryDefault(false),
 		parquet.WithStats(true),
 		parquet.WithMaxRowGroupLength(rowGroupRows),
 		parquet.WithCreatedBy("almanac "+Version),
 		parquet.WithVersion(parquet.V2_6),
-	)
+	}
+	for _, f := range sch.Fields() {
+		if f.Type.ID() == arrow.STRING {
+			opts = append(opts, parquet.WithDictionaryFor(f.Name, true))
+		}
+	}
+	return parquet.NewWriterProperties(opts...)
 }
 
 func newTableWriter(dir, name string, keyNames []string, cols []column, meta map[string]string, mem memory.Allocator) (*tableWriter, error) {
@@ -116,18 +130,36 @@ func newTableWriter(dir, name string, keyNames []string, cols []column, meta map
 	}
 	md := arrow.NewMetadata(keys, vals)
 	sch = arrow.NewSchema(sch.Fields(), &md)
-	fw, err := pqarrow.NewFileWriter(sch, f, writerProps(), pqarrow.NewArrowWriterProperties(pqarrow.WithStoreSchema(), pqarrow.WithAllocator(mem)))
+	fw, err := pqarrow.NewFileWriter(sch, f, writerProps(sch), pqarrow.NewArrowWriterProperties(pqarrow.WithStoreSchema(), pqarrow.WithAllocator(mem)))
 	if err != nil {
 		f.Close()
 		return nil, err
 	}
-	return &tableWriter{name: name, path: path, file: f, fw: fw, rb: array.NewRecordBuilder(mem, sch), nkeys: len(keyNames), cols: cols}, nil
+	t := &tableWriter{name: name, path: path, file: f, fw: fw, rb: array.NewRecordBuilder(mem, sch), nkeys: len(keyNames), cols: cols}
+	n := len(sch.Fields())
+	t.strs, t.floats, t.ints = make([]*array.StringBuilder, n), make([]*array.Float64Builder, n), make([]*array.Int32Builder, n)
+	t.dates, t.bools = make([]*array.Date32Builder, n), make([]*array.BooleanBuilder, n)
+	for i := 0; i < n; i++ {
+		switch b := t.rb.Field(i).(type) {
+		case *array.StringBuilder:
+			t.strs[i] = b
+		case *array.Float64Builder:
+			t.floats[i] = b
+		case *array.Int32Builder:
+			t.ints[i] = b
+		case *array.Date32Builder:
+			t.dates[i] = b
+		case *array.BooleanBuilder:
+			t.bools[i] = b
+		}
+	}
+	return t, nil
 }
 
 // key appends the key columns of a row; key nil writes NULLs.
 func (t *tableWriter) key(key []string) {
 	for i := 0; i < t.nkeys; i++ {
-		b := t.rb.Field(i).(*array.StringBuilder)
+		b := t.strs[i]
 		if key == nil {
 			b.AppendNull()
 		} else {
@@ -137,11 +169,11 @@ func (t *tableWriter) key(key []string) {
 }
 
 func (t *tableWriter) str(col int, v string) {
-	t.rb.Field(t.nkeys + col).(*array.StringBuilder).Append(v)
+	t.strs[t.nkeys+col].Append(v)
 }
 
 func (t *tableWriter) strOrNull(col int, v string) {
-	b := t.rb.Field(t.nkeys + col).(*array.StringBuilder)
+	b := t.strs[t.nkeys+col]
 	if v == "" {
 		b.AppendNull()
 	} else {
@@ -150,20 +182,20 @@ func (t *tableWriter) strOrNull(col int, v string) {
 }
 
 func (t *tableWriter) date(col int, days int64) {
-	t.rb.Field(t.nkeys + col).(*array.Date32Builder).Append(arrow.Date32(days))
+	t.dates[t.nkeys+col].Append(arrow.Date32(days))
 }
 
 func (t *tableWriter) int32(col int, v int) {
-	t.rb.Field(t.nkeys + col).(*array.Int32Builder).Append(int32(v))
+	t.ints[t.nkeys+col].Append(int32(v))
 }
 
 func (t *tableWriter) boolean(col int, v bool) {
-	t.rb.Field(t.nkeys + col).(*array.BooleanBuilder).Append(v)
+	t.bools[t.nkeys+col].Append(v)
 }
 
 // float appends v, or NULL when v is NaN or infinite.
 func (t *tableWriter) float(col int, v float64) {
-	b := t.rb.Field(t.nkeys + col).(*array.Float64Builder)
+	b := t.floats[t.nkeys+col]
 	if math.IsNaN(v) || math.IsInf(v, 0) {
 		b.AppendNull()
 	} else {

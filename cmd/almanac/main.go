@@ -15,6 +15,7 @@ import (
 	"os"
 	"os/signal"
 	"runtime"
+	"runtime/pprof"
 	"strings"
 	"syscall"
 	"time"
@@ -24,6 +25,7 @@ import (
 	"golang.org/x/term"
 
 	"almanac/pipeline"
+	"almanac/pipeline/synth"
 	"almanac/spec"
 )
 
@@ -70,8 +72,10 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	return exitSpec
 }
 
-// valueFlags are the flags that take a value, in every spelling.
-var valueFlags = map[string]bool{"--out": true, "-out": true, "-o": true, "--workers": true, "-workers": true, "-w": true}
+// boolFlags are the flags that take no value, in every spelling; every
+// other flag written without "=" takes the next argument as its value.
+var boolFlags = map[string]bool{"--quiet": true, "-quiet": true, "-q": true, "--help": true, "-help": true, "-h": true,
+	"--markdown": true, "-markdown": true, "--all": true, "-all": true}
 
 // flagsFirst moves a command's flags in front of its arguments, so that
 // "almanac run spec.yaml --workers 2" works as people type it (urfave/cli
@@ -90,7 +94,7 @@ func flagsFirst(args []string) []string {
 			i = len(args)
 		case strings.HasPrefix(a, "-") && len(a) > 1:
 			out = append(out, a)
-			if valueFlags[a] && i+1 < len(args) {
+			if !boolFlags[a] && !strings.Contains(a, "=") && i+1 < len(args) {
 				out = append(out, args[i+1])
 				i++
 			}
@@ -125,6 +129,23 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 				Action:    planCmd,
 			},
 			{
+				Name:      "panel",
+				Usage:     "write a synthetic panel (invented data) to size runs: series with trend, seasonality, noise and intermittent demand",
+				ArgsUsage: "FILE.parquet|FILE.csv",
+				Flags: []cli.Flag{
+					&cli.IntFlag{Name: "series", Value: 1000, Usage: "number of series"},
+					&cli.IntFlag{Name: "length", Value: 156, Usage: "periods per series"},
+					&cli.StringFlag{Name: "frequency", Value: "week", Usage: "day, week, month, quarter or year"},
+					&cli.IntFlag{Name: "season", Usage: "season length (default by frequency)"},
+					&cli.StringFlag{Name: "form", Value: "multiplicative", Usage: "seasonality: multiplicative, additive or none"},
+					&cli.Float64Flag{Name: "noise", Value: 0.1, Usage: "noise as a share of the level"},
+					&cli.Float64Flag{Name: "intermittent", Value: 0.1, Usage: "share of intermittent series"},
+					&cli.StringFlag{Name: "start", Value: "2023-01-02", Usage: "first period (ISO date)"},
+					&cli.Uint64Flag{Name: "rng", Value: 1, Usage: "random stream: the same options and stream give the same bytes"},
+				},
+				Action: panelCmd,
+			},
+			{
 				Name:      "verify",
 				Usage:     "rerun a stored run from its manifest and compare every table byte for byte (exit 0 identical, 1 differs, 2 inputs changed or missing)",
 				ArgsUsage: "RUN_DIR",
@@ -141,6 +162,7 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 					outFlag(),
 					&cli.IntFlag{Name: "workers", Aliases: []string{"w"}, Value: runtime.NumCPU(), Usage: "series processed in parallel"},
 					&cli.BoolFlag{Name: "quiet", Aliases: []string{"q"}, Usage: "no progress output"},
+					&cli.StringFlag{Name: "cpuprofile", Usage: "write a CPU profile (pprof) of the run to this file"},
 				},
 				Action: runCmd,
 			},
@@ -240,11 +262,35 @@ func runCmd(c *cli.Context) error {
 			opts.Log = c.App.ErrWriter
 		}
 	}
+	if p := c.String("cpuprofile"); p != "" {
+		f, err := os.Create(p)
+		if err != nil {
+			return &exitError{exitSpec, err}
+		}
+		defer f.Close()
+		if err := pprof.StartCPUProfile(f); err != nil {
+			return &exitError{exitSpec, err}
+		}
+		defer pprof.StopCPUProfile()
+	}
 	sum, err := pipeline.Run(c.Context, s, opts)
 	if err != nil {
 		return &exitError{exitRun, fmt.Errorf("almanac run %s: %v", path, err)}
 	}
 	printSummary(c.App.Writer, sum)
+	return nil
+}
+
+func panelCmd(c *cli.Context) error {
+	if c.NArg() != 1 {
+		return &exitError{exitSpec, fmt.Errorf("almanac panel: expected one FILE argument, got %d", c.NArg())}
+	}
+	o := synth.Options{Series: c.Int("series"), Length: c.Int("length"), Frequency: c.String("frequency"), Season: c.Int("season"),
+		Form: c.String("form"), Noise: c.Float64("noise"), Intermittent: c.Float64("intermittent"), Start: c.String("start"), RNG: c.Uint64("rng")}
+	if err := synth.Write(c.Args().First(), o); err != nil {
+		return &exitError{exitSpec, fmt.Errorf("almanac panel: %v", err)}
+	}
+	fmt.Fprintf(c.App.Writer, "wrote %d series × %d periods to %s (invented data)\n", o.Series, o.Length, c.Args().First())
 	return nil
 }
 

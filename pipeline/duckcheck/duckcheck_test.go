@@ -32,6 +32,36 @@ import (
 type method struct {
 	label, kind string
 	form, trend string // classical only
+	// opts are further options the spec file states, as the canonical
+	// spec must carry them (compared as fmt.Sprint strings).
+	opts map[string]any
+	// twoSeasons: the method needs two full seasons, so a shorter series
+	// gets an error for it.
+	twoSeasons bool
+}
+
+// exact reports whether the test recomputes the method's values in SQL;
+// the others are checked structurally.
+func (m method) exact() bool {
+	switch m.kind {
+	case "naive", "seasonal_naive", "drift", "mean", "classical":
+		return true
+	}
+	return false
+}
+
+// evaluation is what a spec file states about backtest, selection and
+// intervals (tables.md: accuracy.parquet, choices.parquet and the forecasts
+// columns chosen, interval_source, lower_<L>, upper_<L>).
+type evaluation struct {
+	folds      int
+	window     string
+	metric     string
+	combine    string // the combination's kind; "" without selection.combine
+	combineTop int
+	route      map[string][]string
+	levels     []int // interval levels; none without intervals
+	source     string
 }
 
 // example is one example spec and what the test knows about it from the
@@ -51,11 +81,14 @@ type example struct {
 	rawSQL string
 	// combine and gaps are the spec's shaping rules.
 	combine, gaps string
+	// eval is nil for a spec without a backtest.
+	eval *evaluation
 
 	// Filled in by setup.
-	dir string   // run folder
-	man manifest // its manifest.json
-	end string   // shaping.end from the manifest ("series" when absent)
+	dir   string    // run folder
+	man   manifest  // its manifest.json
+	canon canonical // its spec.canonical
+	end   string    // shaping.end from the manifest ("series" when absent)
 }
 
 var examples = []*example{
@@ -72,8 +105,11 @@ var examples = []*example{
 			{label: "seasonal_naive", kind: "seasonal_naive"},
 			{label: "drift", kind: "drift"},
 			{label: "mean", kind: "mean"},
-			{label: "classical_mult", kind: "classical", form: "multiplicative", trend: "adjusted_line"},
-			{label: "classical_add_step", kind: "classical", form: "additive", trend: "trend_step"},
+			{label: "classical_mult", kind: "classical", form: "multiplicative", trend: "adjusted_line", twoSeasons: true},
+			{label: "classical_add_step", kind: "classical", form: "additive", trend: "trend_step", twoSeasons: true},
+			{label: "holt_winters", kind: "holt_winters", opts: map[string]any{"seasonal": "multiplicative"}, twoSeasons: true},
+			{label: "stl", kind: "stl", opts: map[string]any{"seasonal_window": "periodic"}, twoSeasons: true},
+			{label: "sba", kind: "sba"},
 		},
 		// ISO weeks: date_trunc('week', …) is the Monday of the date's week.
 		rawSQL: `SELECT depot, sku, CAST(date_trunc('week', order_date) AS DATE) AS period, CAST(units AS DOUBLE) AS value
@@ -81,6 +117,14 @@ var examples = []*example{
 				columns = {'order_date': 'DATE', 'depot': 'VARCHAR', 'sku': 'VARCHAR', 'units': 'BIGINT'})`,
 		combine: "sum",
 		gaps:    "zero",
+		eval: &evaluation{
+			folds: 3, window: "expanding", metric: "mase", combine: "mean", combineTop: 3,
+			route: map[string][]string{
+				"intermittent": {"sba", "seasonal_naive", "mean"},
+				"lumpy":        {"sba", "seasonal_naive", "mean"},
+			},
+			levels: []int{80, 95}, source: "empirical",
+		},
 	},
 	{
 		name:    "ferries",
@@ -91,7 +135,7 @@ var examples = []*example{
 		season:  4,
 		horizon: 8,
 		methods: []method{
-			{label: "classical_mult", kind: "classical", form: "multiplicative", trend: "trend_line"},
+			{label: "classical_mult", kind: "classical", form: "multiplicative", trend: "trend_line", twoSeasons: true},
 			{label: "seasonal_naive", kind: "seasonal_naive"},
 			{label: "drift", kind: "drift"},
 			{label: "naive", kind: "naive"},
@@ -141,6 +185,20 @@ type manifest struct {
 		Errors   int64 `json:"errors"`
 		Warnings int64 `json:"warnings"`
 	} `json:"problems"`
+	// Leaderboard is present with a backtest.
+	Leaderboard *struct {
+		Metric  string `json:"selection_metric"`
+		Entries []struct {
+			Method     string  `json:"method"`
+			Series     int64   `json:"series_scored"`
+			MeanMASE   float64 `json:"mean_mase"`
+			MedianMASE float64 `json:"median_mase"`
+			WinShare   float64 `json:"win_share"`
+		} `json:"entries"`
+		Chosen   map[string]int64 `json:"series_per_chosen_method"`
+		Fallback int64            `json:"series_on_fallback"`
+		Label    string           `json:"fallback"`
+	} `json:"leaderboard"`
 }
 
 // canonical is the part of the manifest's canonical spec the checks read.
@@ -161,15 +219,68 @@ type canonical struct {
 		Form    string `json:"form"`
 		Average string `json:"average"`
 	} `json:"decomposition"`
+	// Options may be strings, booleans or numbers.
 	Methods []struct {
-		Method  string            `json:"method"`
-		Label   string            `json:"label"`
-		Options map[string]string `json:"options"`
+		Method  string         `json:"method"`
+		Label   string         `json:"label"`
+		Options map[string]any `json:"options"`
 	} `json:"methods"`
 	Horizon int `json:"horizon"`
+	// The evaluation sections, absent from a spec without them.
+	Backtest *struct {
+		Folds        int    `json:"folds"`
+		Step         int    `json:"step"`
+		Horizon      int    `json:"horizon"`
+		Window       string `json:"window"`
+		MinTrain     int    `json:"min_train"`
+		WindowLength int    `json:"window_length"`
+	} `json:"backtest"`
+	Selection *struct {
+		Fallback string              `json:"fallback"`
+		Route    map[string][]string `json:"route"`
+		Metric   string              `json:"metric"`
+		Combine  *struct {
+			Kind  string `json:"kind"`
+			Top   int    `json:"top"`
+			Label string `json:"label"`
+		} `json:"combine"`
+	} `json:"selection"`
+	Intervals *struct {
+		Levels     []int  `json:"levels"`
+		Source     string `json:"source"`
+		AllMethods bool   `json:"all_methods"`
+	} `json:"intervals"`
 }
 
-var tableNames = []string{"forecasts", "components", "seasonal_factors", "problems"}
+// combination is the combination entry's label, "" without one.
+func (ex *example) combination() string {
+	if s := ex.canon.Selection; s != nil && s.Combine != nil {
+		return s.Combine.Label
+	}
+	return ""
+}
+
+// entries are the labels of the backtest's entries: the methods in spec
+// order, then the combination.
+func (ex *example) entries() []string {
+	var out []string
+	for _, m := range ex.methods {
+		out = append(out, m.label)
+	}
+	if c := ex.combination(); c != "" {
+		out = append(out, c)
+	}
+	return out
+}
+
+// tableNames are the Parquet tables the run writes, in manifest order.
+func (ex *example) tableNames() []string {
+	names := []string{"forecasts", "components", "seasonal_factors", "problems"}
+	if ex.eval != nil {
+		names = append(names, "accuracy", "choices")
+	}
+	return names
+}
 
 var (
 	db       *sql.DB
@@ -270,13 +381,12 @@ func (ex *example) run(ctx context.Context, wd string) error {
 	if err := json.Unmarshal(b, &ex.man); err != nil {
 		return fmt.Errorf("manifest.json: %w", err)
 	}
-	var c canonical
-	if err := json.Unmarshal(ex.man.Spec.Canonical, &c); err != nil {
+	if err := json.Unmarshal(ex.man.Spec.Canonical, &ex.canon); err != nil {
 		return fmt.Errorf("manifest.json spec.canonical: %w", err)
 	}
 	// shaping.end appeared after shaping.gaps; without it every series
 	// ended at its own last row.
-	ex.end = c.Shaping.End
+	ex.end = ex.canon.Shaping.End
 	if ex.end == "" {
 		ex.end = "series"
 	}
@@ -300,9 +410,12 @@ func (ex *example) on(a, b string) string {
 // sql expands the placeholders of a query template: {K} the key columns,
 // {KO} their byte order, {M} the season length, {H} the horizon, {fc},
 // {comp}, {sf}, {prob}, {raw}, {shaped}, {dec}, {deca} the example's
-// views, {next} and {pos} its period macros, {fK} the key columns of
-// alias f, {labels} the method labels
-// as a SQL list in spec order.
+// views, {acc} and {ch} its accuracy and choices views (with a
+// backtest), {bt} the backtest folds the test expects, {next} and {pos}
+// its period macros, {fK} the key columns of
+// alias f, {labels} the method labels as a SQL list in spec order,
+// {entries} the same with the combination's label last, {comb} the
+// combination's label as a SQL string.
 func (ex *example) sql(q string) string {
 	enc := make([]string, len(ex.keys))
 	for i, k := range ex.keys {
@@ -311,6 +424,10 @@ func (ex *example) sql(q string) string {
 	labels := make([]string, len(ex.methods))
 	for i, m := range ex.methods {
 		labels[i] = sqlStr(m.label)
+	}
+	entries := make([]string, 0, len(labels)+1)
+	for _, e := range ex.entries() {
+		entries = append(entries, sqlStr(e))
 	}
 	p := ex.name
 	return strings.NewReplacer(
@@ -329,15 +446,30 @@ func (ex *example) sql(q string) string {
 		"{dec}", p+"_dec",
 		"{next}", p+"_next",
 		"{pos}", p+"_pos",
+		"{acc}", p+"_acc",
+		"{ch}", p+"_ch",
+		"{bt}", p+"_bt",
 		"{labels}", "["+strings.Join(labels, ", ")+"]",
+		"{entries}", "["+strings.Join(entries, ", ")+"]",
+		"{comb}", sqlStr(ex.combination()),
 	).Replace(q)
 }
 
 func defineMacros() error {
-	_, err := db.Exec(`CREATE OR REPLACE MACRO near(a, b) AS
+	for _, m := range []string{
+		`CREATE OR REPLACE MACRO near(a, b) AS
 		(a IS NULL AND b IS NULL) OR
-		(a IS NOT NULL AND b IS NOT NULL AND abs(a - b) <= 1e-9 * greatest(1.0, abs(b)))`)
-	return err
+		(a IS NOT NULL AND b IS NOT NULL AND abs(a - b) <= 1e-9 * greatest(1.0, abs(b)))`,
+		// The same within 1e-12, for means of the same few numbers.
+		`CREATE OR REPLACE MACRO near12(a, b) AS
+		(a IS NULL AND b IS NULL) OR
+		(a IS NOT NULL AND b IS NOT NULL AND abs(a - b) <= 1e-12 * greatest(1.0, abs(b)))`,
+	} {
+		if _, err := db.Exec(m); err != nil {
+			return err
+		}
+	}
+	return nil
 }
 
 // defineViews names the example's tables and the independent
@@ -441,6 +573,25 @@ func (ex *example) defineViews() error {
 			CASE WHEN form = 'multiplicative' THEN y / fac.factor / trend ELSE y - fac.factor - trend END AS remainder,
 			CASE WHEN form = 'multiplicative' THEN y / fac.factor ELSE y - fac.factor END AS adjusted
 		FROM ma JOIN fac USING ({K}, j)`)
+	}
+	if ex.eval != nil {
+		if ex.canon.Backtest == nil || ex.canon.Selection == nil {
+			return fmt.Errorf("the spec file has a backtest and a selection, the canonical spec in manifest.json does not")
+		}
+		stmts = append(stmts,
+			fmt.Sprintf("CREATE OR REPLACE VIEW {acc} AS SELECT * FROM read_parquet(%s, file_row_number = true)", sqlStr(ex.table("accuracy"))),
+			fmt.Sprintf("CREATE OR REPLACE VIEW {ch} AS SELECT * FROM read_parquet(%s, file_row_number = true)", sqlStr(ex.table("choices"))),
+			// The folds each series should have: counting back from the
+			// latest origin (the last backtest-horizon periods), step
+			// periods apart, those whose training part has at least
+			// min_train periods; numbered 1… oldest first. o is the
+			// origin's index (= the training length, windows expanding).
+			fmt.Sprintf(`CREATE OR REPLACE VIEW {bt} AS
+			WITH s AS (SELECT {K}, any_value(n) AS n, min(period) AS p0 FROM {shaped} GROUP BY {K}),
+				fit AS (SELECT s.*, r.k FROM s CROSS JOIN range(%[1]d) r(k) WHERE s.n - %[2]d - %[3]d * r.k >= %[4]d)
+			SELECT {K}, n, p0, count(*) OVER (PARTITION BY {K}) AS folds,
+				CAST(count(*) OVER (PARTITION BY {K}) - k AS INTEGER) AS fold, n - %[2]d - %[3]d * k AS o, %[2]d AS h
+			FROM fit`, ex.canon.Backtest.Folds, ex.canon.Backtest.Horizon, ex.canon.Backtest.Step, ex.canon.Backtest.MinTrain))
 	}
 	for _, s := range stmts {
 		if _, err := db.Exec(ex.sql(s)); err != nil {
@@ -573,16 +724,46 @@ var columns = map[string][][2]string{
 	"problems": {
 		{"stage", "VARCHAR"}, {"severity", "VARCHAR"}, {"method", "VARCHAR"}, {"message", "VARCHAR"},
 	},
+	// In the order tables.md lists them.
+	"accuracy": {
+		{"method", "VARCHAR"}, {"fold", "INTEGER"}, {"origin", "DATE"}, {"train_start", "DATE"},
+		{"train_periods", "INTEGER"}, {"test_periods", "INTEGER"},
+		{"mae", "DOUBLE"}, {"rmse", "DOUBLE"}, {"mape", "DOUBLE"}, {"smape", "DOUBLE"}, {"mase", "DOUBLE"},
+		{"rmsse", "DOUBLE"}, {"wape", "DOUBLE"}, {"bias", "DOUBLE"},
+		{"mape_zeros", "INTEGER"}, {"status", "VARCHAR"},
+	},
+	"choices": {
+		{"chosen", "VARCHAR"}, {"metric", "VARCHAR"}, {"score", "DOUBLE"}, {"runner_up", "VARCHAR"}, {"runner_up_score", "DOUBLE"},
+		{"folds", "INTEGER"}, {"demand_class", "VARCHAR"}, {"adi", "DOUBLE"}, {"cv2", "DOUBLE"}, {"reason", "VARCHAR"},
+	},
+}
+
+// columns is the expected schema of the example's table after the keys:
+// forecasts gains chosen with a backtest and the interval columns with
+// intervals.
+func (ex *example) columns(name string) [][2]string {
+	cols := columns[name]
+	if name != "forecasts" || ex.eval == nil {
+		return cols
+	}
+	cols = append(append([][2]string(nil), cols...), [2]string{"chosen", "BOOLEAN"})
+	if len(ex.eval.levels) > 0 {
+		cols = append(cols, [2]string{"interval_source", "VARCHAR"})
+		for _, l := range ex.eval.levels {
+			cols = append(cols, [2]string{fmt.Sprintf("lower_%d", l), "DOUBLE"}, [2]string{fmt.Sprintf("upper_%d", l), "DOUBLE"})
+		}
+	}
+	return cols
 }
 
 func TestSchema(t *testing.T) {
 	forEach(t, func(t *testing.T, ex *example) {
-		for _, name := range tableNames {
+		for _, name := range ex.tableNames() {
 			var want []string
 			for _, k := range ex.keys {
 				want = append(want, k+" VARCHAR")
 			}
-			for _, c := range columns[name] {
+			for _, c := range ex.columns(name) {
 				want = append(want, c[0]+" "+c[1])
 			}
 			var got []string
@@ -606,8 +787,19 @@ func TestRunFolderAndManifest(t *testing.T) {
 			t.Errorf("staging folders left behind: %v", left)
 		}
 		m := ex.man
+		tableNames := ex.tableNames()
 		if len(m.Tables) != len(tableNames) {
 			t.Fatalf("manifest lists %d tables, want %d", len(m.Tables), len(tableNames))
+		}
+		if ex.eval == nil {
+			for _, name := range []string{"accuracy", "choices"} {
+				if _, err := os.Stat(ex.table(name)); !os.IsNotExist(err) {
+					t.Errorf("no backtest in the spec, yet %s.parquet: %v", name, err)
+				}
+			}
+			if m.Leaderboard != nil {
+				t.Errorf("no backtest in the spec, yet a leaderboard in the manifest")
+			}
 		}
 		for i, tb := range m.Tables {
 			if tb.Name != tableNames[i] || tb.File != tableNames[i]+".parquet" {
@@ -644,10 +836,7 @@ func TestRunFolderAndManifest(t *testing.T) {
 			t.Errorf("almanac check printed %q; manifest spec.sha256 is %s", out, m.Spec.SHA256)
 		}
 		// The spec as the test knows it.
-		var c canonical
-		if err := json.Unmarshal(m.Spec.Canonical, &c); err != nil {
-			t.Fatal(err)
-		}
+		c := ex.canon
 		if strings.Join(c.Columns.Keys, ",") != strings.Join(ex.keys, ",") || c.Calendar.Frequency != ex.freq ||
 			c.Calendar.SeasonLength != ex.season || c.Horizon != ex.horizon ||
 			c.Shaping.Combine != ex.combine || c.Shaping.Gaps != ex.gaps ||
@@ -659,15 +848,59 @@ func TestRunFolderAndManifest(t *testing.T) {
 		}
 		for i, want := range ex.methods {
 			got := c.Methods[i]
-			if got.Label != want.label || got.Method != want.kind || got.Options["form"] != want.form || got.Options["trend"] != want.trend {
+			if got.Label != want.label || got.Method != want.kind {
 				t.Errorf("method %d: %+v, want %+v", i, got, want)
 			}
-			if want.kind == "classical" && got.Options["average"] != "mean" {
-				t.Errorf("method %s: average %q, the SQL recomputation assumes mean", want.label, got.Options["average"])
+			if want.kind == "classical" {
+				if got.Options["form"] != want.form || got.Options["trend"] != want.trend {
+					t.Errorf("method %s: form %v, trend %v; want %s, %s", want.label, got.Options["form"], got.Options["trend"], want.form, want.trend)
+				}
+				if got.Options["average"] != "mean" {
+					t.Errorf("method %s: average %v, the SQL recomputation assumes mean", want.label, got.Options["average"])
+				}
 			}
-			if m.Methods[i].Label != want.label {
-				t.Errorf("manifest method %d is %s, want %s", i, m.Methods[i].Label, want.label)
+			for k, v := range want.opts {
+				if g, ok := got.Options[k]; !ok || fmt.Sprint(g) != fmt.Sprint(v) {
+					t.Errorf("method %s: option %s = %v, the spec file says %v", want.label, k, g, v)
+				}
 			}
+			if m.Methods[i].Label != want.label || m.Methods[i].Method != want.kind {
+				t.Errorf("manifest method %d is %s (%s), want %s (%s)", i, m.Methods[i].Label, m.Methods[i].Method, want.label, want.kind)
+			}
+			if fmt.Sprint(m.Methods[i].Options) != fmt.Sprint(got.Options) {
+				t.Errorf("manifest method %s: options %v, canonical spec %v", want.label, m.Methods[i].Options, got.Options)
+			}
+		}
+		ev := ex.eval
+		if (ev == nil) != (c.Backtest == nil) || (ev == nil) != (c.Selection == nil) {
+			t.Fatalf("canonical spec: backtest %v, selection %v; the spec file has a backtest: %v", c.Backtest != nil, c.Selection != nil, ev != nil)
+		}
+		if ev != nil {
+			b, sel := c.Backtest, c.Selection
+			if b.Folds != ev.folds || b.Window != ev.window || b.Step < 1 || b.Horizon < 1 || b.MinTrain < 1 {
+				t.Errorf("canonical backtest %+v; the spec file says folds %d, window %s", *b, ev.folds, ev.window)
+			}
+			if b.Window != "expanding" {
+				t.Errorf("backtest window %s: the fold layout check handles expanding windows only", b.Window)
+			}
+			if sel.Metric != ev.metric || fmt.Sprint(sel.Route) != fmt.Sprint(ev.route) ||
+				labelPos(ex.methods, sel.Fallback) == 0 {
+				t.Errorf("canonical selection %+v; the spec file says metric %s, route %v (and the fallback must be a method)", *sel, ev.metric, ev.route)
+			}
+			if (sel.Combine == nil) != (ev.combine == "") ||
+				(sel.Combine != nil && (sel.Combine.Kind != ev.combine || sel.Combine.Top != ev.combineTop || sel.Combine.Label == "" || labelPos(ex.methods, sel.Combine.Label) != 0)) {
+				t.Errorf("canonical selection.combine %+v; the spec file says %s of the top %d", sel.Combine, ev.combine, ev.combineTop)
+			}
+			if sel.Combine != nil && sel.Combine.Kind != "mean" {
+				t.Errorf("combination %s: the SQL recomputation handles mean only", sel.Combine.Kind)
+			}
+			iv := c.Intervals
+			if (iv == nil) != (len(ev.levels) == 0) ||
+				(iv != nil && (fmt.Sprint(iv.Levels) != fmt.Sprint(ev.levels) || iv.Source != ev.source || iv.AllMethods)) {
+				t.Errorf("canonical intervals %+v; the spec file says levels %v, source %s, no all_methods", iv, ev.levels, ev.source)
+			}
+		} else if c.Intervals != nil {
+			t.Errorf("canonical spec has intervals without a backtest")
 		}
 	})
 }
@@ -677,7 +910,7 @@ func TestKeyValueMetadata(t *testing.T) {
 		if !regexp.MustCompile(`^[0-9a-f]{64}$`).MatchString(ex.man.Spec.SHA256) {
 			t.Fatalf("manifest spec.sha256 %q is not a sha256", ex.man.Spec.SHA256)
 		}
-		for _, name := range tableNames {
+		for _, name := range ex.tableNames() {
 			kv := map[string]string{}
 			for _, r := range rows(t, fmt.Sprintf(`SELECT decode(key), decode(value) FROM parquet_kv_metadata(%s)
 				WHERE starts_with(decode(key), 'almanac.')`, sqlStr(ex.table(name)))) {
@@ -695,11 +928,11 @@ func TestKeyValueMetadata(t *testing.T) {
 
 func TestParquetLayout(t *testing.T) {
 	forEach(t, func(t *testing.T, ex *example) {
-		for _, name := range tableNames {
+		for _, name := range ex.tableNames() {
 			f := sqlStr(ex.table(name))
 			chunks := count(t, "SELECT count(*) FROM parquet_metadata("+f+")")
 			nrows := count(t, "SELECT count(*) FROM read_parquet("+f+")")
-			ncols := int64(len(ex.keys) + len(columns[name]))
+			ncols := int64(len(ex.keys) + len(ex.columns(name)))
 			groups := count(t, "SELECT count(DISTINCT row_group_id) FROM parquet_metadata("+f+")")
 			if nrows == 0 {
 				// An empty table has no row groups and so no column chunks
@@ -721,7 +954,7 @@ func TestParquetLayout(t *testing.T) {
 				WHERE stats_null_count IS NULL OR (num_values > stats_null_count AND (stats_min_value IS NULL OR stats_max_value IS NULL))`)
 			// The statistics of numeric and date columns are the true
 			// minimum and maximum.
-			for _, c := range columns[name] {
+			for _, c := range ex.columns(name) {
 				if c[1] == "VARCHAR" {
 					continue
 				}
@@ -744,12 +977,18 @@ func TestSortOrder(t *testing.T) {
 		// the contract gives: keys by byte order (encode() makes the
 		// comparison one of bytes), then the listed columns. Ties keep
 		// file order, so only a real inversion counts.
-		for _, c := range []struct{ view, order, unique string }{
-			{"{fc}", "{KO}, list_position({labels}, method), step", "{K}, method, step"},
+		orders := []struct{ view, order, unique string }{
+			{"{fc}", "{KO}, list_position({entries}, method), step", "{K}, method, step"},
 			{"{comp}", "{KO}, period", "{K}, period"},
 			{"{sf}", "{KO}, position", "{K}, position"},
 			{"{prob}", strings.ReplaceAll(ex.sql("{KO}"), ")", ") NULLS FIRST"), ""},
-		} {
+		}
+		if ex.eval != nil {
+			orders = append(orders,
+				struct{ view, order, unique string }{"{acc}", "{KO}, list_position({entries}, method), fold", "{K}, method, fold"},
+				struct{ view, order, unique string }{"{ch}", "{KO}", "{K}"})
+		}
+		for _, c := range orders {
 			none(t, ex.sql(c.view)+" rows in contract order", ex.sql(`
 				SELECT file_row_number, rn FROM (
 					SELECT file_row_number, row_number() OVER (ORDER BY `+c.order+`, file_row_number) - 1 AS rn FROM `+c.view+`)
@@ -762,8 +1001,8 @@ func TestSortOrder(t *testing.T) {
 		none(t, "problems of a series in method order", ex.sql(`
 			SELECT * FROM (
 				SELECT {K}, method, file_row_number,
-					lag(list_position({labels}, method)) OVER (PARTITION BY {K} ORDER BY file_row_number) AS prev,
-					list_position({labels}, method) AS cur
+					lag(list_position({entries}, method)) OVER (PARTITION BY {K} ORDER BY file_row_number) AS prev,
+					list_position({entries}, method) AS cur
 				FROM {prob} WHERE method IS NOT NULL)
 			WHERE prev > cur`))
 	})
@@ -826,13 +1065,19 @@ func TestInput(t *testing.T) {
 
 func TestForecasts(t *testing.T) {
 	forEach(t, func(t *testing.T, ex *example) {
-		none(t, "method is a label of the spec", ex.sql("SELECT DISTINCT method FROM {fc} WHERE list_position({labels}, method) IS NULL"))
+		none(t, "method is a label of the spec", ex.sql("SELECT DISTINCT method FROM {fc} WHERE list_position({entries}, method) IS NULL"))
 		// A forecast for every series and method, except where problems
-		// holds an error for that series and method.
+		// holds an error for that series and method; the combination for
+		// every series that had backtest folds.
+		comb := ""
+		if ex.combination() != "" {
+			comb = "UNION ALL SELECT {K}, {comb} FROM {ch} WHERE folds > 0"
+		}
 		none(t, "forecast (series, method) pairs", ex.sql(`
 			WITH series AS (SELECT DISTINCT {K} FROM {raw}),
 				expected AS (SELECT s.*, m.method FROM series s CROSS JOIN (SELECT unnest({labels}) AS method) m
-					WHERE NOT EXISTS (SELECT 1 FROM {prob} p WHERE `+ex.on("p", "s")+` AND p.method = m.method AND p.severity = 'error')),
+					WHERE NOT EXISTS (SELECT 1 FROM {prob} p WHERE `+ex.on("p", "s")+` AND p.method = m.method AND p.severity = 'error')
+					`+comb+`),
 				got AS (SELECT DISTINCT {K}, method FROM {fc})
 			SELECT 'missing', * FROM (SELECT * FROM expected EXCEPT SELECT * FROM got)
 			UNION ALL
@@ -843,6 +1088,7 @@ func TestForecasts(t *testing.T) {
 				t.Errorf("method %s: %d series forecast, manifest series_forecast %d", mm.Label, n, mm.Series)
 			}
 		}
+		none(t, "one model per series and method", ex.sql("SELECT {K}, method FROM {fc} GROUP BY ALL HAVING count(DISTINCT model) <> 1 OR count(model) <> count(*)"))
 		none(t, "steps 1…horizon once each", ex.sql(`
 			SELECT {K}, method, count(*), min(step), max(step), count(DISTINCT step) FROM {fc} GROUP BY ALL
 			HAVING NOT (count(*) = {H} AND min(step) = 1 AND max(step) = {H} AND count(DISTINCT step) = {H})`))
@@ -869,8 +1115,14 @@ func TestForecasts(t *testing.T) {
 		}
 		none(t, "forecast values present", ex.sql("SELECT {K}, method, step FROM {fc} WHERE value IS NULL"))
 
-		// Every value, recomputed from the input by DuckDB.
+		// Every value of the methods with a closed form, recomputed from
+		// the input by DuckDB; the fitted methods are checked for their
+		// shape above and for their model here.
 		for _, m := range ex.methods {
+			if !m.exact() {
+				ex.fittedModel(t, m)
+				continue
+			}
 			var join, want string
 			switch m.kind {
 			case "naive":
@@ -938,6 +1190,40 @@ func TestForecasts(t *testing.T) {
 			none(t, m.label+": values recomputed by DuckDB", ex.sql(q))
 		}
 	})
+}
+
+// labelPos is the 1-based position of the method labelled label, 0 if none.
+func labelPos(ms []method, label string) int {
+	for i, m := range ms {
+		if m.label == label {
+			return i + 1
+		}
+	}
+	return 0
+}
+
+// fittedModel checks the model column of a method the test does not
+// recompute: it names the method with its settings in parentheses, and a
+// seasonal method that needs strictly positive values (holt_winters with a
+// multiplicative season) says where it fell back to additive, exactly for
+// the series with a value ≤ 0 and with a warning in problems.
+func (ex *example) fittedModel(t *testing.T, m method) {
+	t.Helper()
+	none(t, m.label+": model names the method", ex.sql(`
+		SELECT DISTINCT {K}, model FROM {fc} WHERE method = `+sqlStr(m.label)+` AND NOT starts_with(model, `+sqlStr(m.kind+"(")+`)`))
+	fallback := "FALSE"
+	if m.kind == "holt_winters" && m.opts["seasonal"] == "multiplicative" {
+		fallback = "s.min_y <= 0"
+		none(t, m.label+": model states the season used", ex.sql(`
+			SELECT DISTINCT {K}, model FROM {fc} WHERE method = `+sqlStr(m.label)+`
+			AND NOT (starts_with(model, 'holt_winters(seasonal=multiplicative') OR starts_with(model, 'holt_winters(seasonal=additive; fell back from multiplicative'))`))
+	}
+	none(t, m.label+": fallback from multiplicative exactly where a value is ≤ 0, with a warning", ex.sql(`
+		SELECT {fK}, f.model, s.min_y FROM (SELECT DISTINCT {K}, model FROM {fc} WHERE method = `+sqlStr(m.label)+`) f
+		JOIN (SELECT {K}, min(y) AS min_y FROM {shaped} GROUP BY {K}) s ON `+ex.on("f", "s")+`
+		WHERE contains(f.model, 'fell back from multiplicative') <> (`+fallback+`)
+			OR EXISTS (SELECT 1 FROM {prob} p WHERE `+ex.on("p", "f")+` AND p.method = `+sqlStr(m.label)+`
+				AND p.stage = 'forecast' AND p.severity = 'warning') <> (`+fallback+`)`))
 }
 
 func (ex *example) keyList(alias string) string {
@@ -1050,7 +1336,7 @@ func TestProblems(t *testing.T) {
 	forEach(t, func(t *testing.T, ex *example) {
 		none(t, "problem fields", ex.sql(`
 			SELECT * FROM {prob} WHERE severity NOT IN ('error', 'warning') OR stage IS NULL OR stage = ''
-				OR message IS NULL OR message = '' OR (method IS NOT NULL AND list_position({labels}, method) IS NULL)`))
+				OR message IS NULL OR message = '' OR (method IS NOT NULL AND list_position({entries}, method) IS NULL)`))
 		got := rows(t, ex.sql("SELECT severity, count(*) FROM {prob} GROUP BY ALL ORDER BY ALL"))
 		var errs, warns int64
 		for _, r := range got {
@@ -1066,30 +1352,43 @@ func TestProblems(t *testing.T) {
 			t.Errorf("problems.parquet: %d errors, %d warnings; manifest says %d, %d", errs, warns, ex.man.Problems.Errors, ex.man.Problems.Warnings)
 		}
 		// Series too short for two seasons: a decompose error and an error
-		// for every classical method, and nothing else fails.
+		// for every method that needs two seasons (classical, a seasonal
+		// holt_winters, stl), and nothing else fails.
 		none(t, "decompose errors exactly for series shorter than two seasons", ex.sql(`
 			WITH short AS (SELECT {K} FROM {shaped} GROUP BY {K} HAVING count(y) < 2 * {M}),
 				errs AS (SELECT DISTINCT {K} FROM {prob} WHERE stage = 'decompose' AND severity = 'error')
 			SELECT 'missing', * FROM (SELECT * FROM short EXCEPT SELECT * FROM errs)
 			UNION ALL SELECT 'unexpected', * FROM (SELECT * FROM errs EXCEPT SELECT * FROM short)`))
-		var classical []string
+		var seasonal []string
 		for _, m := range ex.methods {
-			if m.kind == "classical" {
-				classical = append(classical, sqlStr(m.label))
+			if m.twoSeasons {
+				seasonal = append(seasonal, sqlStr(m.label))
 			}
 		}
-		none(t, "forecast errors exactly for classical methods of short series", ex.sql(`
+		none(t, "forecast errors exactly for the two-season methods of short series", ex.sql(`
 			WITH short AS (SELECT {K} FROM {shaped} GROUP BY {K} HAVING count(y) < 2 * {M}),
-				want AS (SELECT s.*, m.method FROM short s CROSS JOIN (SELECT unnest([`+strings.Join(classical, ", ")+`]) AS method) m),
+				want AS (SELECT s.*, m.method FROM short s CROSS JOIN (SELECT unnest([`+strings.Join(seasonal, ", ")+`]::VARCHAR[]) AS method) m),
 				errs AS (SELECT {K}, method FROM {prob} WHERE stage = 'forecast' AND severity = 'error')
 			SELECT 'missing', * FROM (SELECT * FROM want EXCEPT SELECT * FROM errs)
 			UNION ALL SELECT 'unexpected', * FROM (SELECT * FROM errs EXCEPT ALL SELECT * FROM want)`))
+		if ex.eval != nil {
+			// A backtest warning, tied to no method, exactly for the series
+			// that got fewer folds than the spec asks for.
+			none(t, "backtest warnings exactly for series with fewer folds", ex.sql(fmt.Sprintf(`
+				WITH fewer AS (SELECT {K} FROM {ch} WHERE folds < %d),
+					warns AS (SELECT {K} FROM {prob} WHERE stage = 'backtest' AND severity = 'warning' AND method IS NULL)
+				SELECT 'missing', * FROM (SELECT * FROM fewer EXCEPT SELECT * FROM warns)
+				UNION ALL SELECT 'unexpected', * FROM (SELECT * FROM warns EXCEPT ALL SELECT * FROM fewer)`, ex.canon.Backtest.Folds)))
+		}
 	})
 }
 
 // TestChecksCanFail makes sure the rule queries see a broken table: a
 // copy of forecasts with two rows swapped and a value changed must fail
-// the order and value checks.
+// the order and value checks; a copy of choices with one series' chosen
+// entry swapped for its runner-up must fail the selection check at that
+// series; a copy of accuracy with one naive MASE changed must fail the
+// metric recomputation at that row.
 func TestChecksCanFail(t *testing.T) {
 	ready(t)
 	ex := examples[0]
@@ -1104,7 +1403,7 @@ func TestChecksCanFail(t *testing.T) {
 		t.Fatal(err)
 	}
 	inversions := count(t, ex.sql(fmt.Sprintf(`SELECT count(*) FROM (
-			SELECT file_row_number, row_number() OVER (ORDER BY {KO}, list_position({labels}, method), step, file_row_number) - 1 AS rn
+			SELECT file_row_number, row_number() OVER (ORDER BY {KO}, list_position({entries}, method), step, file_row_number) - 1 AS rn
 			FROM read_parquet(%s, file_row_number = true)) WHERE file_row_number <> rn`, sqlStr(broken))))
 	if inversions != 2 {
 		t.Errorf("order check sees %d misplaced rows in the broken copy, want 2", inversions)
@@ -1113,5 +1412,27 @@ func TestChecksCanFail(t *testing.T) {
 			ON `+ex.on("b", "f")+` AND b.method = f.method AND b.step = f.step WHERE NOT near(b.value, f.value)`, sqlStr(broken))))
 	if changed != 1 {
 		t.Errorf("near() sees %d changed values in the broken copy, want 1", changed)
+	}
+	if ex.eval == nil {
+		t.Fatalf("%s has no backtest; the choices and accuracy corruptions need one", ex.name)
+	}
+	// The first scored series (in file order) chooses its runner-up.
+	ch := brokenCopy(t, ex.name+"_broken_ch", ex.sql(`
+		SELECT * EXCLUDE (file_row_number, chosen),
+			CASE WHEN file_row_number = (SELECT min(file_row_number) FROM {ch} WHERE runner_up IS NOT NULL) THEN runner_up ELSE chosen END AS chosen
+		FROM {ch} ORDER BY file_row_number`))
+	if n := len(rows(t, ex.choiceRule(ch))); n != 1 {
+		t.Errorf("the selection check sees %d broken choices in the copy, want 1", n)
+	}
+	if n := len(rows(t, ex.choiceRule("{ch}"))); n != 0 {
+		t.Errorf("the selection check sees %d broken choices in the original", n)
+	}
+	// One naive fold's MASE moves by 1e-6 (relative).
+	acc := brokenCopy(t, ex.name+"_broken_acc", ex.sql(`
+		SELECT * EXCLUDE (file_row_number, mase),
+			CASE WHEN file_row_number = (SELECT min(file_row_number) FROM {acc} WHERE method = 'naive' AND fold = 2) THEN mase * (1 + 1e-6) ELSE mase END AS mase
+		FROM {acc} ORDER BY file_row_number`))
+	if n := len(rows(t, ex.accuracyRule(acc))); n != 1 {
+		t.Errorf("the accuracy recomputation sees %d broken rows in the copy, want 1", n)
 	}
 }

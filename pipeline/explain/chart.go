@@ -1,0 +1,211 @@
+package explain
+
+import (
+	"fmt"
+	"image/color"
+	"math"
+	"os"
+	"path/filepath"
+	"time"
+
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+	"gonum.org/v1/plot/vg/vgimg"
+)
+
+// chartDPI is the resolution the chart is drawn at; sizes are in pixels.
+const chartDPI = 96
+
+var (
+	inkHistory = color.RGBA{R: 0x33, G: 0x33, B: 0x33, A: 0xff}
+	inkTrend   = color.RGBA{R: 0x2a, G: 0x7f, B: 0x62, A: 0xff}
+	// One ink per forecast shown, reused in turn.
+	inkForecast = []color.RGBA{
+		{R: 0xc8, G: 0x5a, B: 0x19, A: 0xff},
+		{R: 0x3b, G: 0x5b, B: 0xa9, A: 0xff},
+		{R: 0x8e, G: 0x3b, B: 0x8f, A: 0xff},
+		{R: 0xb0, G: 0x8d, B: 0x1a, A: 0xff},
+		{R: 0x1f, G: 0x8a, B: 0x9e, A: 0xff},
+		{R: 0x9e, G: 0x2b, B: 0x3a, A: 0xff},
+	}
+)
+
+// xOf places a period on the chart's x axis, in seconds since 1970.
+func xOf(t time.Time) float64 { return float64(t.Unix()) }
+
+// segments splits points into runs without NaN, as plotter lines refuse NaN.
+func segments(xs, ys []float64) []plotter.XYs {
+	var out []plotter.XYs
+	var cur plotter.XYs
+	for i := range xs {
+		if math.IsNaN(ys[i]) || math.IsInf(ys[i], 0) {
+			if len(cur) > 0 {
+				out = append(out, cur)
+				cur = nil
+			}
+			continue
+		}
+		cur = append(cur, plotter.XY{X: xs[i], Y: ys[i]})
+	}
+	if len(cur) > 0 {
+		out = append(out, cur)
+	}
+	return out
+}
+
+// addLine adds the runs of a series as lines of one style, naming the
+// first in the legend.
+func addLine(p *plot.Plot, name string, xs, ys []float64, ink color.Color, width vg.Length, dashes []vg.Length) error {
+	for i, seg := range segments(xs, ys) {
+		var l *plotter.Line
+		var err error
+		if len(seg) == 1 {
+			s, err := plotter.NewScatter(seg)
+			if err != nil {
+				return err
+			}
+			s.GlyphStyle.Color = ink
+			s.GlyphStyle.Radius = width
+			s.GlyphStyle.Shape = draw.CircleGlyph{}
+			p.Add(s)
+			if i == 0 {
+				p.Legend.Add(name, s)
+			}
+			continue
+		}
+		if l, err = plotter.NewLine(seg); err != nil {
+			return err
+		}
+		l.LineStyle.Color = ink
+		l.LineStyle.Width = width
+		l.LineStyle.Dashes = dashes
+		p.Add(l)
+		if i == 0 {
+			p.Legend.Add(name, l)
+		}
+	}
+	return nil
+}
+
+func buildChart(sd *seriesData, opt Options) (*plot.Plot, error) {
+	p := plot.New()
+	p.Title.Text = fmt.Sprintf("%s · %s", sd.runName, keyText(sd.keyCols, sd.key))
+	p.X.Tick.Marker = plot.TimeTicks{Format: "2006-01", Time: func(v float64) time.Time { return time.Unix(int64(v), 0).UTC() }}
+	p.Y.Label.Text = "value"
+	p.Legend.Top = true
+	p.Legend.Left = true
+	p.Add(plotter.NewGrid())
+
+	fcs := sd.forecastsShown(opt)
+	// Interval bands first, under the lines: widest level lightest.
+	for k, f := range fcs {
+		ink := inkForecast[k%len(inkForecast)]
+		for li := range sd.levels {
+			var upper, lower plotter.XYs
+			for _, r := range f.rows {
+				if math.IsNaN(r.lower[li]) || math.IsNaN(r.upper[li]) {
+					continue
+				}
+				x := xOf(r.period)
+				upper = append(upper, plotter.XY{X: x, Y: r.upper[li]})
+				lower = append(lower, plotter.XY{X: x, Y: r.lower[li]})
+			}
+			if len(upper) < 2 {
+				continue
+			}
+			ring := append(plotter.XYs{}, upper...)
+			for i := len(lower) - 1; i >= 0; i-- {
+				ring = append(ring, lower[i])
+			}
+			poly, err := plotter.NewPolygon(ring)
+			if err != nil {
+				return nil, err
+			}
+			// Alpha falls with the level: the 95% band is fainter than the 80%.
+			a := uint8(40 + 60*(1-float64(sd.levels[li])/100)*2)
+			poly.Color = color.NRGBA{R: ink.R, G: ink.G, B: ink.B, A: a}
+			poly.LineStyle.Width = 0
+			p.Add(poly)
+			p.Legend.Add(fmt.Sprintf("%s %d%%", f.label, sd.levels[li]), poly)
+		}
+	}
+
+	xs := make([]float64, len(sd.hist))
+	obs := make([]float64, len(sd.hist))
+	trend := make([]float64, len(sd.hist))
+	for i, h := range sd.hist {
+		xs[i], obs[i], trend[i] = xOf(h.period), h.observed, h.trend
+	}
+	if err := addLine(p, "observed", xs, obs, inkHistory, vg.Points(1.2), nil); err != nil {
+		return nil, err
+	}
+	if err := addLine(p, "trend", xs, trend, inkTrend, vg.Points(1.6), []vg.Length{vg.Points(5), vg.Points(3)}); err != nil {
+		return nil, err
+	}
+	for k, f := range fcs {
+		fx := make([]float64, 0, len(f.rows)+1)
+		fy := make([]float64, 0, len(f.rows)+1)
+		// Join the forecast to the last observed value so the eye follows on.
+		if n := len(sd.hist); n > 0 && !math.IsNaN(sd.hist[n-1].observed) {
+			fx = append(fx, xs[n-1])
+			fy = append(fy, sd.hist[n-1].observed)
+		}
+		for _, r := range f.rows {
+			fx = append(fx, xOf(r.period))
+			fy = append(fy, r.value)
+		}
+		name := "forecast: " + f.label
+		if f.chosen {
+			name += " (chosen)"
+		}
+		if err := addLine(p, name, fx, fy, inkForecast[k%len(inkForecast)], vg.Points(1.8), nil); err != nil {
+			return nil, err
+		}
+	}
+	// Head room above the data, so the legend (top left) covers none of it.
+	// (Plot.Add has widened the axes to the data already.)
+	if p.Y.Max > p.Y.Min {
+		p.Y.Max += 0.3 * (p.Y.Max - p.Y.Min)
+	}
+	return p, nil
+}
+
+// writeChart draws the chart and writes it as a PNG of the requested size,
+// through a temporary file renamed into place.
+func writeChart(path string, sd *seriesData, opt Options) error {
+	wpx, hpx := opt.PNGWidth, opt.PNGHeight
+	if wpx <= 0 {
+		wpx = 960
+	}
+	if hpx <= 0 {
+		hpx = 480
+	}
+	p, err := buildChart(sd, opt)
+	if err != nil {
+		return err
+	}
+	c := vgimg.NewWith(
+		vgimg.UseWH(vg.Length(wpx)*vg.Inch/chartDPI, vg.Length(hpx)*vg.Inch/chartDPI),
+		vgimg.UseDPI(chartDPI),
+	)
+	p.Draw(draw.New(c))
+	tmp, err := os.CreateTemp(filepath.Dir(path), ".explain-*.png")
+	if err != nil {
+		return err
+	}
+	defer os.Remove(tmp.Name())
+	if _, err := (vgimg.PngCanvas{Canvas: c}).WriteTo(tmp); err != nil {
+		tmp.Close()
+		return err
+	}
+	if err := tmp.Chmod(0o644); err != nil {
+		tmp.Close()
+		return err
+	}
+	if err := tmp.Close(); err != nil {
+		return err
+	}
+	return os.Rename(tmp.Name(), path)
+}

@@ -1,0 +1,661 @@
+package report
+
+import (
+	"encoding/json"
+	"errors"
+	"fmt"
+	"math"
+	"sort"
+	"strconv"
+	"strings"
+	"time"
+
+	"almanac/pipeline/runfolder"
+)
+
+// extras is the part of manifest.json the report shows that the runfolder
+// Manifest type does not decode.
+type extras struct {
+	RowsRead      int64 `json:"rows_read"`
+	MissingValues int64 `json:"missing_values"`
+	Problems      *struct {
+		Errors   int `json:"errors"`
+		Warnings int `json:"warnings"`
+	} `json:"problems"`
+	StartedAt   string  `json:"started_at"`
+	FinishedAt  string  `json:"finished_at"`
+	Seconds     float64 `json:"seconds"`
+	Leaderboard *struct {
+		OnFallback int    `json:"series_on_fallback"`
+		Fallback   string `json:"fallback"`
+	} `json:"leaderboard"`
+}
+
+// specExtras is the part of the canonical spec the report shows that
+// runfolder.CanonicalSpec does not decode.
+type specExtras struct {
+	Backtest *struct {
+		Folds  int    `json:"folds"`
+		Window string `json:"window"`
+	} `json:"backtest"`
+	Selection *struct {
+		Metric   string `json:"metric"`
+		Fallback string `json:"fallback"`
+	} `json:"selection"`
+	Intervals *struct {
+		Source string `json:"source"`
+	} `json:"intervals"`
+	Decomposition *struct {
+		Method string `json:"method"`
+		Form   string `json:"form"`
+	} `json:"decomposition"`
+}
+
+// choice is one row of choices.parquet.
+type choice struct {
+	key           string
+	chosen        string // "" when NULL
+	metric        string
+	score         float64 // NaN on a fallback
+	runnerUp      string
+	runnerUpScore float64
+	folds         int
+	demandClass   string
+	reason        string
+}
+
+// problemRow is one row of problems.parquet.
+type problemRow struct {
+	key      string
+	hasKey   bool
+	stage    string
+	severity string
+	method   string
+	message  string
+}
+
+// fcPoint is one step of a forecast.
+type fcPoint struct {
+	period time.Time
+	value  float64
+	lower  []float64 // per level, NaN where absent
+	upper  []float64
+}
+
+// factor is one seasonal factor.
+type factor struct {
+	position int
+	value    float64
+	count    int
+}
+
+// pick is a series listed in the report, and why.
+type pick struct {
+	key     string
+	reasons []string
+}
+
+// seriesData is everything one listed series' chart needs.
+type seriesData struct {
+	key      string
+	reasons  []string
+	found    bool
+	choice   *choice
+	periods  []time.Time
+	observed []float64
+	trend    []float64
+	decomp   string
+	form     string
+	method   string // the entry whose forecast is drawn
+	model    string
+	source   string // interval_source of the drawn rows ("" when none)
+	forecast []fcPoint
+	previous []fcPoint // the previous run's chosen forecast, when compared
+	prevWhat string    // the previous run's entry label
+	factors  []factor
+	problems []problemRow
+}
+
+// change is how much one series' chosen forecast moved since the
+// previous run.
+type change struct {
+	key        string
+	rel        float64 // mean |new − old| ÷ mean |old| over common periods
+	periods    int
+	prevMethod string
+	nowMethod  string
+}
+
+// model is everything the page shows.
+type model struct {
+	opt      Options
+	run      *runfolder.Run
+	spec     *runfolder.CanonicalSpec
+	specX    specExtras
+	extra    extras
+	keys     []string
+	levels   []int // interval levels with lower_/upper_ columns in forecasts
+	problems []problemRow
+	choices  []choice // in table order; nil without a backtest
+	metric   string
+	series   []*seriesData
+	missing  []string // requested series not in the run
+	worst    []choice
+	changes  []change // most changed first; nil without a previous run
+	prevDir  string
+	prevOnly int // series only in the previous run
+	newOnly  int // series only in this run
+	prevErr  string
+	noPickBy string // why the automatic picks fell back to the first series
+}
+
+// errStop ends a Scan early.
+var errStop = errors.New("stop")
+
+func load(runDir string, opt Options) (*model, error) {
+	r, err := runfolder.OpenStaged(runDir)
+	if err != nil {
+		return nil, err
+	}
+	sp, err := r.Spec()
+	if err != nil {
+		return nil, err
+	}
+	m := &model{opt: opt, run: r, spec: sp, keys: sp.Columns.Keys}
+	if err := json.Unmarshal(r.Raw, &m.extra); err != nil {
+		return nil, fmt.Errorf("%s: manifest.json: %v", runDir, err)
+	}
+	if len(r.Manifest.Spec.Canonical) > 0 {
+		if err := json.Unmarshal(r.Manifest.Spec.Canonical, &m.specX); err != nil {
+			return nil, fmt.Errorf("%s: canonical spec: %v", runDir, err)
+		}
+	}
+	if r.HasTable("problems") {
+		if m.problems, err = readProblems(r, m.keys); err != nil {
+			return nil, err
+		}
+	}
+	if r.HasTable("choices") {
+		if m.choices, err = readChoices(r, m.keys); err != nil {
+			return nil, err
+		}
+		if len(m.choices) > 0 {
+			m.metric = m.choices[0].metric
+		}
+	}
+	if m.metric == "" && m.specX.Selection != nil {
+		m.metric = m.specX.Selection.Metric
+	}
+	if r.HasTable("forecasts") {
+		cols, err := r.Columns("forecasts")
+		if err != nil {
+			return nil, err
+		}
+		m.levels = intervalLevels(cols)
+	}
+
+	n := opt.Picks
+	if n == 0 {
+		n = DefaultPicks
+	}
+	if n < 0 {
+		n = 0
+	}
+	var picks []pick
+	add := func(key, why string) {
+		for i := range picks {
+			if picks[i].key == key {
+				picks[i].reasons = append(picks[i].reasons, why)
+				return
+			}
+		}
+		picks = append(picks, pick{key: key, reasons: []string{why}})
+	}
+	for _, k := range opt.Series {
+		add(k, "asked for")
+	}
+	m.worst = worstChoices(m.choices, n)
+	for i, c := range m.worst {
+		add(c.key, fmt.Sprintf("worst score #%d", i+1))
+	}
+
+	var prev map[string]*drawn
+	if opt.Previous != "" {
+		m.prevDir = opt.Previous
+		prev, err = m.comparePrevious(opt.Previous)
+		if err != nil {
+			// A previous run that cannot be read is noted on the page: the
+			// report of this run is still worth writing.
+			m.prevErr = err.Error()
+			prev, m.changes = nil, nil
+		}
+		for i, c := range m.changes {
+			if i >= n {
+				break
+			}
+			add(c.key, fmt.Sprintf("changed most #%d", i+1))
+		}
+	}
+	if len(picks) == 0 && n > 0 && r.HasTable("forecasts") {
+		// Nothing to rank by (no backtest, no previous run): list the first
+		// series in key order so that the page still shows some.
+		first, err := firstKeys(r, m.keys, n)
+		if err != nil {
+			return nil, err
+		}
+		for _, k := range first {
+			add(k, "among the first series")
+		}
+		if len(first) > 0 {
+			m.noPickBy = "This run has no backtest to rank series by, so the charts show the first series in key order."
+		}
+	}
+
+	m.series = make([]*seriesData, len(picks))
+	for i, p := range picks {
+		m.series[i] = &seriesData{key: p.key, reasons: p.reasons}
+	}
+	if err := m.fillSeries(prev); err != nil {
+		return nil, err
+	}
+	var kept []*seriesData
+	for _, s := range m.series {
+		if s.found {
+			kept = append(kept, s)
+		} else {
+			m.missing = append(m.missing, s.key)
+		}
+	}
+	m.series = kept
+	return m, nil
+}
+
+// intervalLevels lists L for each lower_L column that has its upper_L.
+func intervalLevels(cols []string) []int {
+	has := map[string]bool{}
+	for _, c := range cols {
+		has[c] = true
+	}
+	var out []int
+	for _, c := range cols {
+		if l, ok := strings.CutPrefix(c, "lower_"); ok && has["upper_"+l] {
+			if v, err := strconv.Atoi(l); err == nil {
+				out = append(out, v)
+			}
+		}
+	}
+	return out
+}
+
+func readProblems(r *runfolder.Run, keys []string) ([]problemRow, error) {
+	var out []problemRow
+	err := r.Scan("problems", runfolder.ScanFilter{}, func(t *runfolder.Table) error {
+		for i := 0; i < t.Rows; i++ {
+			p := problemRow{key: strings.Clone(t.Key(keys, i)), hasKey: true}
+			if len(keys) > 0 {
+				_, p.hasKey = t.Str(keys[0], i)
+			}
+			p.stage = strClone(t, "stage", i)
+			p.severity = strClone(t, "severity", i)
+			p.method = strClone(t, "method", i)
+			p.message = strClone(t, "message", i)
+			out = append(out, p)
+		}
+		return nil
+	})
+	return out, err
+}
+
+func strClone(t *runfolder.Table, col string, i int) string {
+	if !t.Has(col) {
+		return ""
+	}
+	s, _ := t.Str(col, i)
+	return strings.Clone(s)
+}
+
+func readChoices(r *runfolder.Run, keys []string) ([]choice, error) {
+	var out []choice
+	err := r.Scan("choices", runfolder.ScanFilter{}, func(t *runfolder.Table) error {
+		for i := 0; i < t.Rows; i++ {
+			c := choice{key: strings.Clone(t.Key(keys, i))}
+			c.chosen = strClone(t, "chosen", i)
+			c.metric = strClone(t, "metric", i)
+			c.score = t.Float("score", i)
+			c.runnerUp = strClone(t, "runner_up", i)
+			c.runnerUpScore = t.Float("runner_up_score", i)
+			c.folds, _ = t.Int("folds", i)
+			c.demandClass = strClone(t, "demand_class", i)
+			c.reason = strClone(t, "reason", i)
+			out = append(out, c)
+		}
+		return nil
+	})
+	return out, err
+}
+
+// worstChoices are the n series with the highest (worst) chosen score,
+// ties broken by key; series without a score are left out.
+func worstChoices(cs []choice, n int) []choice {
+	var scored []choice
+	for _, c := range cs {
+		if !math.IsNaN(c.score) && !math.IsInf(c.score, 0) {
+			scored = append(scored, c)
+		}
+	}
+	sort.SliceStable(scored, func(i, j int) bool {
+		if scored[i].score != scored[j].score {
+			return scored[i].score > scored[j].score
+		}
+		return scored[i].key < scored[j].key
+	})
+	if len(scored) > n {
+		scored = scored[:n]
+	}
+	return scored
+}
+
+// firstKeys are the first n distinct series keys of the forecasts table.
+func firstKeys(r *runfolder.Run, keys []string, n int) ([]string, error) {
+	var out []string
+	cols := append([]string{}, keys...)
+	cols = append(cols, "step")
+	err := r.Scan("forecasts", runfolder.ScanFilter{Columns: cols}, func(t *runfolder.Table) error {
+		for i := 0; i < t.Rows; i++ {
+			k := t.Key(keys, i)
+			if len(out) > 0 && out[len(out)-1] == k {
+				continue
+			}
+			if len(out) == n {
+				return errStop
+			}
+			out = append(out, strings.Clone(k))
+		}
+		return nil
+	})
+	if errors.Is(err, errStop) {
+		err = nil
+	}
+	return out, err
+}
+
+// drawnMethod is the entry whose forecast a run's charts show: the chosen
+// rows with a backtest, else opt.Method or the first method of the spec.
+func drawnMethod(r *runfolder.Run, opt Options) (label string, useChosen bool, err error) {
+	cols, err := r.Columns("forecasts")
+	if err != nil {
+		return "", false, err
+	}
+	for _, c := range cols {
+		if c == "chosen" {
+			return "", true, nil
+		}
+	}
+	if opt.Method != "" {
+		return opt.Method, false, nil
+	}
+	if len(r.Manifest.Methods) > 0 {
+		return r.Manifest.Methods[0].Label, false, nil
+	}
+	return "", false, nil
+}
+
+// drawn is the forecast of one series that a chart shows.
+type drawn struct {
+	method string
+	model  string
+	source string // interval_source of the first row ("" when none)
+	points []fcPoint
+}
+
+// chosenForecasts reads, per series, the drawn entry's forecast of a run
+// (only the series in want, when want is not nil).
+func chosenForecasts(r *runfolder.Run, keys []string, opt Options, levels []int, want map[string]bool) (map[string]*drawn, error) {
+	out := map[string]*drawn{}
+	if !r.HasTable("forecasts") {
+		return out, nil
+	}
+	label, useChosen, err := drawnMethod(r, opt)
+	if err != nil {
+		return nil, err
+	}
+	cols := append([]string{}, keys...)
+	cols = append(cols, "method", "model", "period", "value")
+	if useChosen {
+		cols = append(cols, "chosen")
+	}
+	for _, l := range levels {
+		cols = append(cols, fmt.Sprintf("lower_%d", l), fmt.Sprintf("upper_%d", l))
+	}
+	if len(levels) > 0 {
+		cols = append(cols, "interval_source")
+	}
+	f := runfolder.ScanFilter{Columns: cols}
+	if want != nil && len(keys) > 0 {
+		f.KeyColumn, f.KeyValues = keys[0], firstParts(want, len(keys))
+	}
+	err = r.Scan("forecasts", f, func(t *runfolder.Table) error {
+		for i := 0; i < t.Rows; i++ {
+			if useChosen {
+				if !t.Bool("chosen", i) {
+					continue
+				}
+			} else if m, _ := t.Str("method", i); m != label {
+				continue
+			}
+			k := t.Key(keys, i)
+			if want != nil && !want[k] {
+				continue
+			}
+			p, ok := t.Date("period", i)
+			if !ok {
+				continue
+			}
+			pt := fcPoint{period: p, value: t.Float("value", i)}
+			for _, l := range levels {
+				pt.lower = append(pt.lower, t.Float(fmt.Sprintf("lower_%d", l), i))
+				pt.upper = append(pt.upper, t.Float(fmt.Sprintf("upper_%d", l), i))
+			}
+			d := out[k]
+			if d == nil {
+				d = &drawn{method: strClone(t, "method", i), model: strClone(t, "model", i)}
+				if len(levels) > 0 {
+					d.source = strClone(t, "interval_source", i)
+				}
+				out[strings.Clone(k)] = d
+			}
+			d.points = append(d.points, pt)
+		}
+		return nil
+	})
+	return out, err
+}
+
+// firstParts are the first key values of the keys in want, for skipping
+// row groups; nil (no skipping) when a key does not split into nkeys parts
+// (a key value that itself holds " / ").
+func firstParts(want map[string]bool, nkeys int) map[string]bool {
+	out := map[string]bool{}
+	for k := range want {
+		parts := strings.Split(k, " / ")
+		if len(parts) != nkeys {
+			return nil
+		}
+		out[parts[0]] = true
+	}
+	return out
+}
+
+// comparePrevious ranks the series by how much their drawn forecast moved
+// since the previous run, and returns the previous run's forecasts.
+func (m *model) comparePrevious(dir string) (map[string]*drawn, error) {
+	pr, err := runfolder.Open(dir)
+	if err != nil {
+		return nil, err
+	}
+	psp, err := pr.Spec()
+	if err != nil {
+		return nil, err
+	}
+	if strings.Join(psp.Columns.Keys, "\x00") != strings.Join(m.keys, "\x00") {
+		return nil, fmt.Errorf("the previous run %s has key columns [%s], this run [%s]: its series cannot be matched",
+			dir, strings.Join(psp.Columns.Keys, ", "), strings.Join(m.keys, ", "))
+	}
+	prev, err := chosenForecasts(pr, psp.Columns.Keys, Options{Method: m.opt.Method}, nil, nil)
+	if err != nil {
+		return nil, err
+	}
+	now, err := chosenForecasts(m.run, m.keys, m.opt, nil, nil)
+	if err != nil {
+		return nil, err
+	}
+	for k, d := range now {
+		pts := d.points
+		old, ok := prev[k]
+		if !ok {
+			m.newOnly++
+			continue
+		}
+		byDay := map[int64]float64{}
+		for _, p := range old.points {
+			byDay[p.period.Unix()] = p.value
+		}
+		var diff, base float64
+		n := 0
+		for _, p := range pts {
+			o, ok := byDay[p.period.Unix()]
+			if !ok || math.IsNaN(o) || math.IsNaN(p.value) {
+				continue
+			}
+			diff += math.Abs(p.value - o)
+			base += math.Abs(o)
+			n++
+		}
+		if n == 0 {
+			continue
+		}
+		rel := 0.0
+		switch {
+		case base > 0:
+			rel = diff / base
+		case diff > 0:
+			rel = math.Inf(1)
+		}
+		m.changes = append(m.changes, change{key: k, rel: rel, periods: n, prevMethod: old.method, nowMethod: d.method})
+	}
+	for k := range prev {
+		if _, ok := now[k]; !ok {
+			m.prevOnly++
+		}
+	}
+	sort.Slice(m.changes, func(i, j int) bool {
+		if m.changes[i].rel != m.changes[j].rel {
+			return m.changes[i].rel > m.changes[j].rel
+		}
+		return m.changes[i].key < m.changes[j].key
+	})
+	return prev, nil
+}
+
+// fillSeries reads the history, forecast, factors and problems of the
+// listed series.
+func (m *model) fillSeries(prev map[string]*drawn) error {
+	if len(m.series) == 0 {
+		return nil
+	}
+	by := map[string]*seriesData{}
+	want := map[string]bool{}
+	for _, s := range m.series {
+		by[s.key] = s
+		want[s.key] = true
+	}
+	filter := func(cols ...string) runfolder.ScanFilter {
+		f := runfolder.ScanFilter{Columns: append(append([]string{}, m.keys...), cols...)}
+		if len(m.keys) > 0 {
+			f.KeyColumn, f.KeyValues = m.keys[0], firstParts(want, len(m.keys))
+		}
+		return f
+	}
+	r := m.run
+	if r.HasTable("components") {
+		err := r.Scan("components", filter("decomposition", "form", "period", "observed", "trend"), func(t *runfolder.Table) error {
+			for i := 0; i < t.Rows; i++ {
+				s := by[t.Key(m.keys, i)]
+				if s == nil {
+					continue
+				}
+				p, ok := t.Date("period", i)
+				if !ok {
+					continue
+				}
+				s.found = true
+				if s.decomp == "" {
+					s.decomp = strClone(t, "decomposition", i)
+					s.form = strClone(t, "form", i)
+				}
+				s.periods = append(s.periods, p)
+				s.observed = append(s.observed, t.Float("observed", i))
+				s.trend = append(s.trend, t.Float("trend", i))
+			}
+			return nil
+		})
+		if err != nil {
+			return err
+		}
+	}
+	if r.HasTable("forecasts") {
+		fc, err := chosenForecasts(r, m.keys, m.opt, m.levels, want)
+		if err != nil {
+			return err
+		}
+		for k, d := range fc {
+			s := by[k]
+			s.found = true
+			s.forecast = d.points
+			s.method, s.model, s.source = d.method, d.model, d.source
+		}
+	}
+	if r.HasTable("seasonal_factors") {
+		err := r.Scan("seasonal_factors", filter("decomposition", "form", "position", "factor", "count"), func(t *runfolder.Table) error {
+			for i := 0; i < t.Rows; i++ {
+				s := by[t.Key(m.keys, i)]
+				if s == nil {
+					continue
+				}
+				pos, ok := t.Int("position", i)
+				if !ok {
+					continue
+				}
+				s.found = true
+				if s.decomp == "" {
+					s.decomp = strClone(t, "decomposition", i)
+					s.form = strClone(t, "form", i)
+				}
+				c, _ := t.Int("count", i)
+				s.factors = append(s.factors, factor{position: pos, value: t.Float("factor", i), count: c})
+			}
+			return nil
+		})
+		if err != nil {
+			return err
+		}
+	}
+	for i := range m.choices {
+		if s := by[m.choices[i].key]; s != nil {
+			s.found = true
+			s.choice = &m.choices[i]
+		}
+	}
+	for _, p := range m.problems {
+		if s := by[p.key]; s != nil && p.hasKey {
+			s.problems = append(s.problems, p)
+		}
+	}
+	for k, s := range by {
+		if d, ok := prev[k]; ok {
+			s.previous = d.points
+			s.prevWhat = d.method
+		}
+	}
+	return nil
+}

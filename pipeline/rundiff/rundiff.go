@@ -1,0 +1,764 @@
+// Package rundiff compares two almanac run folders — typically the run of
+// the main line ("base") and the run of a proposed change ("head") — so a
+// reviewer can see what the change does to the forecasts before accepting
+// it.
+//
+// # What is compared
+//
+// When both runs have a backtest (both wrote choices.parquet) the diff has
+// one row per series: the entry chosen for the series on each side (the
+// choices table's chosen label), the total of that entry's forecasts over
+// the run's horizon, and the chosen entry's backtest score
+// (choices.score). A series whose chosen label differs between the runs has
+// switched method.
+//
+// When either run has no backtest, there is no chosen entry to follow on
+// both sides, so the diff has one row per series × method instead (every
+// method label found in either run's forecasts.parquet): the total of that
+// method's forecasts over the horizon on each side. Scores are not compared
+// and nothing switches. Row.Method names the method, and BaseMethod and
+// HeadMethod both hold it on the sides where the method has forecasts.
+//
+// A forecast total is the sum of the entry's values over all its steps. It
+// is undefined (NaN, NULL in Parquet) when the entry has no rows for the
+// series or any of its values is NULL. When the runs' horizons differ each
+// total covers its own run's horizon; Diff.Notes says so.
+//
+// Rows are "added" (only in head), "removed" (only in base), "changed"
+// (present in both, and the total, the chosen label or the score differ;
+// floats are compared exactly, an undefined value equals only an undefined
+// value) or "unchanged".
+//
+// The relative change is (head − base) / |base|. With a base total of zero
+// it is 0 when the head total is zero too and ±Inf otherwise (written as
+// NULL to Parquet, "from 0" in the reports).
+//
+// # Ordering
+//
+// Rows are sorted by key (byte order of the key strings, column by column,
+// as in every run table), then in per-method mode by method: head's spec
+// order, then methods only base has in base's spec order, then any other
+// label (a combination entry) in byte order. The largest movers are the
+// changed rows with a defined, non-zero change, by absolute relative change
+// (largest first, ±Inf before any finite value), ties in row order.
+//
+// # Command line (proposal)
+//
+//	almanac diff BASE HEAD [--format text|markdown] [--parquet FILE] [--top N]
+//	    [--max-rel-change F] [--max-switch-share F] [--max-score-worsening F]
+//	    [--max-added N] [--max-removed N]
+//
+// Exit codes: 0 when the diff is within every threshold given (or none is
+// given); 1 when Exceeds returns any reason (each printed on stderr);
+// 2 for usage errors and folders Compare cannot read (not a run folder,
+// different key columns, unreadable tables).
+package rundiff
+
+import (
+	"bytes"
+	"encoding/json"
+	"fmt"
+	"math"
+	"slices"
+	"sort"
+	"strings"
+
+	"almanac/pipeline/runfolder"
+)
+
+// Mode says what one row of a Diff stands for.
+type Mode string
+
+// Modes.
+const (
+	// ModeChosen: both runs have a backtest; one row per series, following
+	// the chosen entry on each side.
+	ModeChosen Mode = "chosen"
+	// ModePerMethod: at least one run has no backtest; one row per series ×
+	// method.
+	ModePerMethod Mode = "per_method"
+)
+
+// Status of a row.
+type Status string
+
+// Row statuses.
+const (
+	Added     Status = "added"
+	Removed   Status = "removed"
+	Changed   Status = "changed"
+	Unchanged Status = "unchanged"
+)
+
+// Options tune Compare.
+type Options struct {
+	// Top is how many of the largest movers to keep; 0 means 10, a
+	// negative value keeps none.
+	Top int
+	// ListLimit caps the per-series rows of the switches table in the
+	// reports (the transition counts are always complete); 0 means 50, a
+	// negative value means no cap.
+	ListLimit int
+}
+
+// DefaultTop is the number of largest movers kept when Options.Top is 0.
+const DefaultTop = 10
+
+// DefaultListLimit is the switches-table cap when Options.ListLimit is 0.
+const DefaultListLimit = 50
+
+// RunInfo describes one side of the comparison.
+type RunInfo struct {
+	Dir        string
+	SpecName   string
+	SpecSHA256 string
+	Almanac    string // almanac version that wrote the run
+	Series     int    // series in the run's tables
+	Horizon    int
+	Backtest   bool   // the run has choices.parquet
+	Metric     string // selection metric; "" without a backtest
+	Methods    []string
+}
+
+// Row is one series (ModeChosen) or one series × method (ModePerMethod).
+type Row struct {
+	Key []string // key values, in key-column order
+	// Method is the method label of a per-method row; "" in ModeChosen.
+	Method string
+	// BaseMethod and HeadMethod are the chosen labels (ModeChosen) or the
+	// method where that side has forecasts for it (ModePerMethod); "" when
+	// absent or when the run chose nothing for the series.
+	BaseMethod, HeadMethod string
+	BaseTotal, HeadTotal   float64 // forecast totals over the horizon; NaN when undefined
+	AbsChange              float64 // HeadTotal − BaseTotal; NaN when either is undefined
+	RelChange              float64 // AbsChange / |BaseTotal|; ±Inf from a zero base; NaN when undefined
+	BaseScore, HeadScore   float64 // chosen entry's backtest score; NaN when none
+	ScoreChange            float64 // HeadScore − BaseScore (positive is worse); NaN when not comparable
+	Switched               bool
+	Status                 Status
+}
+
+// Transition counts the series that moved from one chosen entry to another.
+type Transition struct {
+	From, To string // "" stands for "nothing chosen"
+	Series   int
+}
+
+// Counts summarise a Diff.
+type Counts struct {
+	BaseSeries, HeadSeries     int // distinct series on each side
+	CommonSeries               int // series in both runs
+	AddedSeries, RemovedSeries int
+	Rows                       int // rows of the diff (series, or series × method)
+	Added, Removed             int // rows only in head / only in base
+	Changed, Unchanged         int
+	TotalsChanged              int // rows in both whose forecast total differs
+	Switched                   int // series that switched chosen entry
+	ScoresCompared             int // rows in both with a score on each side (same metric)
+	MeanScoreChange            float64
+	BaseSum, HeadSum           float64 // sum of totals over rows in both with both totals defined
+	ScoreWorse, ScoreBetter    int     // rows whose score rose / fell
+	FromZero                   int     // rows in both whose total changed from a zero base (±Inf relative change)
+}
+
+// FieldChange is one top-level field of the canonical spec that differs.
+type FieldChange struct {
+	Field string
+	Note  string // e.g. "6 → 12", or for methods "added drift; removed mean"
+}
+
+// InputChange is one input file that differs between the manifests.
+type InputChange struct {
+	Path                   string
+	Change                 string // added | removed | changed
+	BaseSHA256, HeadSHA256 string
+	BaseRows, HeadRows     int64
+	BaseSize, HeadSize     int64
+}
+
+// Diff is the comparison of two run folders.
+type Diff struct {
+	Base, Head RunInfo
+	Keys       []string // key column names
+	Mode       Mode
+	Rows       []Row
+	Counts     Counts
+	// Movers are the largest movers (copies of rows), see the package doc.
+	Movers []Row
+	// Switches are the rows that switched method, in row order.
+	Switches []Row
+	// Transitions count switches by (from, to), most frequent first, ties
+	// by from then to.
+	Transitions []Transition
+	SpecChanged bool
+	SpecFields  []FieldChange
+	Inputs      []InputChange
+	// Notes are remarks on the comparison itself (mode, metric or horizon
+	// change, almanac version change), in a fixed order.
+	Notes []string
+
+	listLimit int
+}
+
+// side is one run as read for the comparison.
+type side struct {
+	run     *runfolder.Run
+	info    RunInfo
+	canon   map[string]json.RawMessage
+	series  map[string][]string        // joined key → key parts
+	totals  map[string]map[string]*agg // joined key → method → total
+	choices map[string]choice          // joined key → choice
+}
+
+type agg struct {
+	sum  float64
+	n    int
+	null bool
+}
+
+func (a *agg) total() float64 {
+	if a == nil || a.n == 0 || a.null {
+		return math.NaN()
+	}
+	return a.sum
+}
+
+type choice struct {
+	label string
+	score float64
+}
+
+// Compare reads two run folders and compares them. It fails when either
+// folder is not a readable run folder or when the runs' key columns differ.
+func Compare(base, head string, opt Options) (*Diff, error) {
+	b, err := load(base)
+	if err != nil {
+		return nil, fmt.Errorf("base: %w", err)
+	}
+	h, err := load(head)
+	if err != nil {
+		return nil, fmt.Errorf("head: %w", err)
+	}
+	bk, hk := b.run.Keys(), h.run.Keys()
+	if !slices.Equal(bk, hk) {
+		return nil, fmt.Errorf("the runs have different key columns: base [%s], head [%s]", strings.Join(bk, ", "), strings.Join(hk, ", "))
+	}
+	d := &Diff{Base: b.info, Head: h.info, Keys: slices.Clone(bk), Mode: ModePerMethod}
+	if b.info.Backtest && h.info.Backtest {
+		d.Mode = ModeChosen
+	}
+	d.listLimit = opt.ListLimit
+	if d.listLimit == 0 {
+		d.listLimit = DefaultListLimit
+	}
+	d.notes()
+	d.specChanges(b, h)
+	d.inputChanges(b, h)
+	if d.Mode == ModeChosen {
+		d.chosenRows(b, h)
+	} else {
+		d.methodRows(b, h)
+	}
+	d.summarise(b, h)
+	top := opt.Top
+	if top == 0 {
+		top = DefaultTop
+	}
+	d.movers(top)
+	return d, nil
+}
+
+func load(dir string) (*side, error) {
+	r, err := runfolder.Open(dir)
+	if err != nil {
+		return nil, err
+	}
+	cs, err := r.Spec()
+	if err != nil {
+		return nil, err
+	}
+	s := &side{run: r, series: map[string][]string{}, totals: map[string]map[string]*agg{}}
+	if err := json.Unmarshal(r.Manifest.Spec.Canonical, &s.canon); err != nil {
+		return nil, fmt.Errorf("%s: canonical spec: %v", dir, err)
+	}
+	s.info = RunInfo{Dir: dir, SpecName: r.Manifest.Spec.Name, SpecSHA256: r.Manifest.Spec.SHA256,
+		Almanac: r.Manifest.Almanac, Horizon: cs.Horizon, Backtest: r.HasTable("choices")}
+	for _, m := range r.Manifest.Methods {
+		s.info.Methods = append(s.info.Methods, m.Label)
+	}
+	keys := cs.Columns.Keys
+	fc, err := r.Table("forecasts")
+	if err != nil {
+		return nil, err
+	}
+	for _, c := range append(slices.Clone(keys), "method", "value") {
+		if !fc.Has(c) {
+			return nil, fmt.Errorf("%s: forecasts.parquet has no column %q", dir, c)
+		}
+	}
+	for i := 0; i < fc.Rows; i++ {
+		k := s.addSeries(fc, keys, i)
+		m, _ := fc.Str("method", i)
+		ms := s.totals[k]
+		if ms == nil {
+			ms = map[string]*agg{}
+			s.totals[k] = ms
+		}
+		a := ms[m]
+		if a == nil {
+			a = &agg{}
+			ms[m] = a
+		}
+		v := fc.Float("value", i)
+		a.n++
+		if math.IsNaN(v) {
+			a.null = true
+		} else {
+			a.sum += v
+		}
+	}
+	if s.info.Backtest {
+		ch, err := r.Table("choices")
+		if err != nil {
+			return nil, err
+		}
+		for _, c := range append(slices.Clone(keys), "chosen", "metric", "score") {
+			if !ch.Has(c) {
+				return nil, fmt.Errorf("%s: choices.parquet has no column %q", dir, c)
+			}
+		}
+		s.choices = map[string]choice{}
+		for i := 0; i < ch.Rows; i++ {
+			k := s.addSeries(ch, keys, i)
+			label, _ := ch.Str("chosen", i)
+			s.choices[k] = choice{label: label, score: ch.Float("score", i)}
+			if m, ok := ch.Str("metric", i); ok && s.info.Metric == "" {
+				s.info.Metric = m
+			}
+		}
+		if s.info.Metric == "" {
+			s.info.Metric = canonString(s.canon, "selection", "metric")
+		}
+	}
+	s.info.Series = len(s.series)
+	return s, nil
+}
+
+// addSeries records the key of row i and returns it joined.
+func (s *side) addSeries(t *runfolder.Table, keys []string, i int) string {
+	parts := t.KeyParts(keys, i)
+	k := joinKey(parts)
+	if _, ok := s.series[k]; !ok {
+		s.series[k] = parts
+	}
+	return k
+}
+
+func joinKey(parts []string) string { return strings.Join(parts, "\x00") }
+
+func canonString(c map[string]json.RawMessage, obj, field string) string {
+	var m map[string]json.RawMessage
+	if json.Unmarshal(c[obj], &m) != nil {
+		return ""
+	}
+	var s string
+	if json.Unmarshal(m[field], &s) != nil {
+		return ""
+	}
+	return s
+}
+
+// sortedKeys returns the union of both sides' series in key order.
+func sortedKeys(b, h *side) [][]string {
+	var all [][]string
+	for _, p := range b.series {
+		all = append(all, p)
+	}
+	for k, p := range h.series {
+		if _, ok := b.series[k]; !ok {
+			all = append(all, p)
+		}
+	}
+	sort.Slice(all, func(i, j int) bool { return slices.Compare(all[i], all[j]) < 0 })
+	return all
+}
+
+func (d *Diff) chosenRows(b, h *side) {
+	for _, parts := range sortedKeys(b, h) {
+		k := joinKey(parts)
+		r := Row{Key: parts, BaseTotal: math.NaN(), HeadTotal: math.NaN(), BaseScore: math.NaN(), HeadScore: math.NaN()}
+		bc, inB := b.choices[k]
+		hc, inH := h.choices[k]
+		if _, ok := b.series[k]; ok && !inB {
+			// A series with forecasts but no choices row: treat it as
+			// present with nothing chosen.
+			inB = true
+		}
+		if _, ok := h.series[k]; ok && !inH {
+			inH = true
+		}
+		if inB {
+			r.BaseMethod, r.BaseScore = bc.label, scoreOf(bc)
+			r.BaseTotal = b.totals[k][bc.label].total()
+		}
+		if inH {
+			r.HeadMethod, r.HeadScore = hc.label, scoreOf(hc)
+			r.HeadTotal = h.totals[k][hc.label].total()
+		}
+		r.Switched = inB && inH && r.BaseMethod != r.HeadMethod
+		d.finishRow(&r, inB, inH, b.info.Metric == h.info.Metric)
+		d.Rows = append(d.Rows, r)
+	}
+}
+
+func scoreOf(c choice) float64 {
+	if c.label == "" {
+		return math.NaN()
+	}
+	return c.score
+}
+
+func (d *Diff) methodRows(b, h *side) {
+	rank := map[string]int{}
+	for _, l := range h.info.Methods {
+		if _, ok := rank[l]; !ok {
+			rank[l] = len(rank)
+		}
+	}
+	for _, l := range b.info.Methods {
+		if _, ok := rank[l]; !ok {
+			rank[l] = len(rank)
+		}
+	}
+	for _, parts := range sortedKeys(b, h) {
+		k := joinKey(parts)
+		var labels []string
+		for l := range b.totals[k] {
+			labels = append(labels, l)
+		}
+		for l := range h.totals[k] {
+			if _, ok := b.totals[k][l]; !ok {
+				labels = append(labels, l)
+			}
+		}
+		sort.Slice(labels, func(i, j int) bool {
+			ri, oki := rank[labels[i]]
+			rj, okj := rank[labels[j]]
+			switch {
+			case oki && okj:
+				return ri < rj
+			case oki != okj:
+				return oki
+			}
+			return labels[i] < labels[j]
+		})
+		for _, l := range labels {
+			ba, inB := b.totals[k][l]
+			ha, inH := h.totals[k][l]
+			r := Row{Key: parts, Method: l, BaseTotal: ba.total(), HeadTotal: ha.total(),
+				BaseScore: math.NaN(), HeadScore: math.NaN()}
+			if inB {
+				r.BaseMethod = l
+			}
+			if inH {
+				r.HeadMethod = l
+			}
+			d.finishRow(&r, inB, inH, false)
+			d.Rows = append(d.Rows, r)
+		}
+	}
+}
+
+// finishRow fills the changes and the status of a row.
+func (d *Diff) finishRow(r *Row, inB, inH, sameMetric bool) {
+	r.AbsChange, r.RelChange, r.ScoreChange = math.NaN(), math.NaN(), math.NaN()
+	switch {
+	case !inB:
+		r.Status = Added
+		return
+	case !inH:
+		r.Status = Removed
+		return
+	}
+	if !math.IsNaN(r.BaseTotal) && !math.IsNaN(r.HeadTotal) {
+		r.AbsChange = r.HeadTotal - r.BaseTotal
+		switch {
+		case r.BaseTotal != 0:
+			r.RelChange = r.AbsChange / math.Abs(r.BaseTotal)
+		case r.AbsChange == 0:
+			r.RelChange = 0
+		default:
+			r.RelChange = math.Inf(int(math.Copysign(1, r.AbsChange)))
+		}
+	}
+	if sameMetric && !math.IsNaN(r.BaseScore) && !math.IsNaN(r.HeadScore) {
+		r.ScoreChange = r.HeadScore - r.BaseScore
+	}
+	if sameFloat(r.BaseTotal, r.HeadTotal) && sameFloat(r.BaseScore, r.HeadScore) && r.BaseMethod == r.HeadMethod {
+		r.Status = Unchanged
+	} else {
+		r.Status = Changed
+	}
+}
+
+func sameFloat(a, b float64) bool {
+	return a == b || (math.IsNaN(a) && math.IsNaN(b))
+}
+
+func (d *Diff) summarise(b, h *side) {
+	c := &d.Counts
+	c.BaseSeries, c.HeadSeries = len(b.series), len(h.series)
+	for k := range b.series {
+		if _, ok := h.series[k]; ok {
+			c.CommonSeries++
+		} else {
+			c.RemovedSeries++
+		}
+	}
+	c.AddedSeries = c.HeadSeries - c.CommonSeries
+	c.Rows = len(d.Rows)
+	var scoreSum float64
+	trans := map[[2]string]int{}
+	for _, r := range d.Rows {
+		switch r.Status {
+		case Added:
+			c.Added++
+		case Removed:
+			c.Removed++
+		case Changed:
+			c.Changed++
+		case Unchanged:
+			c.Unchanged++
+		}
+		if r.Status == Added || r.Status == Removed {
+			continue
+		}
+		if !sameFloat(r.BaseTotal, r.HeadTotal) {
+			c.TotalsChanged++
+		}
+		if !math.IsNaN(r.AbsChange) {
+			c.BaseSum += r.BaseTotal
+			c.HeadSum += r.HeadTotal
+			if math.IsInf(r.RelChange, 0) {
+				c.FromZero++
+			}
+		}
+		if !math.IsNaN(r.ScoreChange) {
+			c.ScoresCompared++
+			scoreSum += r.ScoreChange
+			if r.ScoreChange > 0 {
+				c.ScoreWorse++
+			} else if r.ScoreChange < 0 {
+				c.ScoreBetter++
+			}
+		}
+		if r.Switched {
+			c.Switched++
+			d.Switches = append(d.Switches, r)
+			trans[[2]string{r.BaseMethod, r.HeadMethod}]++
+		}
+	}
+	c.MeanScoreChange = math.NaN()
+	if c.ScoresCompared > 0 {
+		c.MeanScoreChange = scoreSum / float64(c.ScoresCompared)
+	}
+	for ft, n := range trans {
+		d.Transitions = append(d.Transitions, Transition{From: ft[0], To: ft[1], Series: n})
+	}
+	sort.Slice(d.Transitions, func(i, j int) bool {
+		a, b := d.Transitions[i], d.Transitions[j]
+		if a.Series != b.Series {
+			return a.Series > b.Series
+		}
+		if a.From != b.From {
+			return a.From < b.From
+		}
+		return a.To < b.To
+	})
+}
+
+// movers keeps the top changed rows by absolute relative change.
+func (d *Diff) movers(top int) {
+	var idx []int
+	for i, r := range d.Rows {
+		if r.Status == Changed && !math.IsNaN(r.RelChange) && r.AbsChange != 0 {
+			idx = append(idx, i)
+		}
+	}
+	sort.SliceStable(idx, func(a, b int) bool {
+		return math.Abs(d.Rows[idx[a]].RelChange) > math.Abs(d.Rows[idx[b]].RelChange)
+	})
+	if top < 0 {
+		top = 0
+	}
+	if len(idx) > top {
+		idx = idx[:top]
+	}
+	for _, i := range idx {
+		d.Movers = append(d.Movers, d.Rows[i])
+	}
+}
+
+func (d *Diff) notes() {
+	b, h := d.Base, d.Head
+	switch {
+	case d.Mode == ModeChosen:
+		d.Notes = append(d.Notes, "both runs have a backtest: one row per series, following each run's chosen entry")
+	case !b.Backtest && !h.Backtest:
+		d.Notes = append(d.Notes, "neither run has a backtest: one row per series and method")
+	case b.Backtest:
+		d.Notes = append(d.Notes, "head has no backtest (base has one): one row per series and method; scores and switches are not compared")
+	default:
+		d.Notes = append(d.Notes, "base has no backtest (head has one): one row per series and method; scores and switches are not compared")
+	}
+	if d.Mode == ModeChosen && b.Metric != h.Metric {
+		d.Notes = append(d.Notes, fmt.Sprintf("selection metric changed from %s to %s: scores are not compared", b.Metric, h.Metric))
+	}
+	if b.Horizon != h.Horizon {
+		d.Notes = append(d.Notes, fmt.Sprintf("horizon changed from %d to %d: each total covers its own run's horizon", b.Horizon, h.Horizon))
+	}
+	if b.Almanac != h.Almanac {
+		d.Notes = append(d.Notes, fmt.Sprintf("almanac version changed from %s to %s", b.Almanac, h.Almanac))
+	}
+}
+
+// specChanges lists the top-level canonical spec fields that differ.
+func (d *Diff) specChanges(b, h *side) {
+	d.SpecChanged = b.info.SpecSHA256 != h.info.SpecSHA256
+	fields := map[string]bool{}
+	for f := range b.canon {
+		fields[f] = true
+	}
+	for f := range h.canon {
+		fields[f] = true
+	}
+	names := make([]string, 0, len(fields))
+	for f := range fields {
+		names = append(names, f)
+	}
+	sort.Strings(names)
+	for _, f := range names {
+		bv, hv := compact(b.canon[f]), compact(h.canon[f])
+		if bv == hv {
+			continue
+		}
+		var note string
+		switch {
+		case f == "methods":
+			note = methodChanges(b.canon[f], h.canon[f])
+		case bv == "":
+			note = "added: " + short(hv)
+		case hv == "":
+			note = "removed (was " + short(bv) + ")"
+		default:
+			note = short(bv) + " → " + short(hv)
+		}
+		d.SpecFields = append(d.SpecFields, FieldChange{Field: f, Note: note})
+	}
+}
+
+func compact(raw json.RawMessage) string {
+	if len(raw) == 0 {
+		return ""
+	}
+	var buf bytes.Buffer
+	if json.Compact(&buf, raw) != nil {
+		return string(raw)
+	}
+	return buf.String()
+}
+
+// short returns a compact JSON value, cut to 60 characters.
+func short(s string) string {
+	const max = 60
+	if r := []rune(s); len(r) > max {
+		return string(r[:max-1]) + "…"
+	}
+	return s
+}
+
+// methodChanges describes how the method lists differ, by label.
+func methodChanges(braw, hraw json.RawMessage) string {
+	type m struct {
+		Label string `json:"label"`
+	}
+	parse := func(raw json.RawMessage) ([]string, map[string]string) {
+		var items []json.RawMessage
+		_ = json.Unmarshal(raw, &items)
+		var order []string
+		body := map[string]string{}
+		for _, it := range items {
+			var x m
+			_ = json.Unmarshal(it, &x)
+			order = append(order, x.Label)
+			body[x.Label] = compact(it)
+		}
+		return order, body
+	}
+	bo, bb := parse(braw)
+	ho, hb := parse(hraw)
+	var added, removed, changed []string
+	for _, l := range ho {
+		if v, ok := bb[l]; !ok {
+			added = append(added, l)
+		} else if v != hb[l] {
+			changed = append(changed, l)
+		}
+	}
+	for _, l := range bo {
+		if _, ok := hb[l]; !ok {
+			removed = append(removed, l)
+		}
+	}
+	var parts []string
+	if len(added) > 0 {
+		parts = append(parts, "added "+strings.Join(added, ", "))
+	}
+	if len(removed) > 0 {
+		parts = append(parts, "removed "+strings.Join(removed, ", "))
+	}
+	if len(changed) > 0 {
+		parts = append(parts, "options changed: "+strings.Join(changed, ", "))
+	}
+	if len(parts) == 0 {
+		parts = append(parts, "reordered")
+	}
+	return strings.Join(parts, "; ")
+}
+
+// inputChanges compares the manifests' input files by path.
+func (d *Diff) inputChanges(b, h *side) {
+	type in struct {
+		sha        string
+		rows, size int64
+	}
+	bm, hm := map[string]in{}, map[string]in{}
+	var paths []string
+	for _, x := range b.run.Manifest.Inputs {
+		bm[x.Path] = in{x.SHA256, x.Rows, x.Size}
+		paths = append(paths, x.Path)
+	}
+	for _, x := range h.run.Manifest.Inputs {
+		hm[x.Path] = in{x.SHA256, x.Rows, x.Size}
+		if _, ok := bm[x.Path]; !ok {
+			paths = append(paths, x.Path)
+		}
+	}
+	sort.Strings(paths)
+	for _, p := range paths {
+		bi, inB := bm[p]
+		hi, inH := hm[p]
+		c := InputChange{Path: p, BaseSHA256: bi.sha, HeadSHA256: hi.sha, BaseRows: bi.rows, HeadRows: hi.rows, BaseSize: bi.size, HeadSize: hi.size}
+		switch {
+		case !inB:
+			c.Change = "added"
+		case !inH:
+			c.Change = "removed"
+		case bi.sha != hi.sha:
+			c.Change = "changed"
+		default:
+			continue
+		}
+		d.Inputs = append(d.Inputs, c)
+	}
+}
