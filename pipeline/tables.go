@@ -104,7 +104,7 @@ func writerProps(sch *arrow.Schema) *parquet.WriterProperties {
 		parquet.WithDictionaryDefault(false),
 		parquet.WithStats(true),
 		parquet.WithMaxRowGroupLength(rowGroupRows),
-		parquet.WithCreatedBy("almanac "+Version),
+		parquet.WithCreatedBy("almanac " + Version),
 		parquet.WithVersion(parquet.V2_6),
 	}
 	for _, f := range sch.Fields() {

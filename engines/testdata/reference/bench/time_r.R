@@ -1,4 +1,5 @@
-# R timings for HoltWinters() and decompose() on two deterministic series.
+# R timings for HoltWinters() (seasonal, SES and Holt forms), decompose() and
+# stl() on two deterministic series.
 # Writes bench/weekly156.json, bench/monthly60.json (the exact numbers, so Go
 # benchmarks use the identical input) and bench/r_timings.json.
 # Run from engines/testdata/reference: Rscript bench/time_r.R
@@ -38,8 +39,23 @@ cases <- list(
   list(what = "decompose(x) (additive)", key = "decompose_additive", reps = 1000,
        f = function(x) decompose(x)),
   list(what = "decompose(x, \"multiplicative\")", key = "decompose_multiplicative", reps = 1000,
-       f = function(x) decompose(x, "multiplicative")))
+       f = function(x) decompose(x, "multiplicative")),
+  list(what = "predict(HoltWinters(x), 13) (additive, estimated, then a 13-step forecast)",
+       key = "holtwinters_optim_additive_predict13", reps = 50,
+       f = function(x) predict(HoltWinters(x), 13)),
+  list(what = "HoltWinters(x, beta = FALSE, gamma = FALSE) (SES, alpha estimated by optimize)",
+       key = "holtwinters_ses", reps = 200,
+       f = function(x) HoltWinters(x, beta = FALSE, gamma = FALSE)),
+  list(what = "HoltWinters(x, gamma = FALSE) (Holt, alpha/beta estimated by L-BFGS-B)",
+       key = "holtwinters_holt", reps = 100,
+       f = function(x) HoltWinters(x, gamma = FALSE)),
+  list(what = "stl(x, s.window = \"periodic\")", key = "stl_periodic", reps = 300,
+       f = function(x) stl(x, s.window = "periodic")),
+  list(what = "stl(x, \"periodic\", robust = TRUE)", key = "stl_periodic_robust", reps = 200,
+       f = function(x) stl(x, "periodic", robust = TRUE)))
 
+loadavg <- function() tryCatch(readLines("/proc/loadavg", n = 1L), error = function(e) NA_character_)
+load_start <- loadavg()
 timings <- list()
 for (nm in names(series)) {
   x <- series[[nm]]
@@ -56,7 +72,7 @@ for (nm in names(series)) {
 }
 write_json(list(
   source = sprintf("%s; bench/time_r.R: median elapsed seconds per call (Sys.time around each call, one warm-up call first)", r_version()),
-  machine = r_machine(),
+  machine = c(r_machine(), list(loadavg_start = load_start, loadavg_end = loadavg())),
   note = "single R process, no parallelism; the machine has 2 shared cores, so expect noise of tens of percent",
   series = timings), file.path("bench", "r_timings.json"))
 cat("bench: wrote 3 files\n")
