@@ -547,9 +547,14 @@ func classifyDemand(y []float64) (engines.DemandClass, bool) {
 	return d, d.Class != engines.DemandNone
 }
 
-// writeBacktest writes one series' accuracy rows (every entry, every fold)
-// and its choices row.
-func (rt *runTables) writeBacktest(r *backtestResult, cal calendar, e *evaluation) error {
+// writeBacktest hands one series' backtest to the accuracy and choices
+// writers.
+func (rt *runTables) writeBacktest(r *backtestResult) error {
+	return rt.send(r)
+}
+
+// writeAccuracy writes one series' accuracy rows: every entry, every fold.
+func (rt *runTables) writeAccuracy(r *backtestResult, cal calendar) error {
 	s := r.series
 	for _, eb := range r.entries {
 		for _, f := range eb.folds {
@@ -585,8 +590,13 @@ func (rt *runTables) writeBacktest(r *backtestResult, cal calendar, e *evaluatio
 			}
 		}
 	}
+	return nil
+}
+
+// writeChoice writes one series' choices row.
+func (rt *runTables) writeChoice(r *backtestResult, e *evaluation) error {
 	t := rt.choices
-	t.key(s.Key)
+	t.key(r.series.Key)
 	score := func(i int) (string, float64) {
 		if i < 0 {
 			return "", math.NaN()

@@ -317,3 +317,45 @@ func TestRouteIntermittentSeries(t *testing.T) {
 		t.Fatal("no choices row for S3/Z")
 	}
 }
+
+// Spilled, key-range batches write the same bytes as one batch in memory,
+// with a backtest, selection and pooled intervals (two passes over the
+// batches).
+func TestBatchesWriteTheSameBytes(t *testing.T) {
+	dir := t.TempDir()
+	var b strings.Builder
+	b.WriteString("month,store,item,qty\n")
+	for k := 0; k < 120; k++ {
+		for i := 0; i < 40; i++ {
+			v := 50 + float64(k%17) + float64(i) + 20*math.Sin(float64(i+k))
+			fmt.Fprintf(&b, "%04d-%02d,S%03d,I%d,%.2f\n", 2020+i/12, i%12+1, (k*37)%120, k%3, v)
+		}
+	}
+	os.MkdirAll(filepath.Join(dir, "data"), 0o755)
+	os.WriteFile(filepath.Join(dir, "data", "sales.csv"), []byte(b.String()), 0o644)
+	s := loadFixture(t, dir, backtestSpec)
+	read := func(out string, batchRows int64) map[string][]byte {
+		if _, err := Run(context.Background(), s, Options{Out: out, Workers: 2, BatchRows: batchRows}); err != nil {
+			t.Fatal(err)
+		}
+		files := map[string][]byte{}
+		for _, n := range []string{TableForecasts, TableComponents, TableSeasonalFactors, TableAccuracy, TableChoices, TableProblems} {
+			files[n], _ = os.ReadFile(filepath.Join(out, n+".parquet"))
+		}
+		return files
+	}
+	whole := read(filepath.Join(dir, "whole"), 0)
+	split := read(filepath.Join(dir, "split"), 500) // 4800 rows: about ten batches
+	for n := range whole {
+		if len(whole[n]) == 0 || !bytes.Equal(whole[n], split[n]) {
+			t.Errorf("%s differs between one batch and many", n)
+		}
+	}
+	p, err := MakePlan(context.Background(), s, Options{BatchRows: 500})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if p.Batches < 8 || p.Series != 120 {
+		t.Errorf("plan: %d batches, %d series", p.Batches, p.Series)
+	}
+}

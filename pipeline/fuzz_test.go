@@ -76,7 +76,7 @@ func FuzzCSVIngest(f *testing.F) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		rs, err := readInputs(context.Background(), s, files, cal)
+		rs, err := readInputs(context.Background(), s, files, cal, 0)
 		if err != nil {
 			if !strings.Contains(err.Error(), "in.csv") && !strings.Contains(err.Error(), "no data rows") {
 				t.Fatalf("error does not name the file: %v", err)

@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"io"
+	"math"
 	"sort"
 	"strings"
 
@@ -20,6 +21,7 @@ type Plan struct {
 	Rows    int64
 	Series  int
 	Periods struct{ Min, Max int }
+	Batches int    // key-range batches the run would process
 	First   string // earliest period in the data
 	Last    string // latest period in the data
 	cal     calendar
@@ -42,18 +44,30 @@ func MakePlan(ctx context.Context, s *spec.Spec, opts Options) (*Plan, error) {
 		return nil, err
 	}
 	cal := calendar{freq: s.Calendar.Frequency, season: s.Calendar.SeasonLength}
-	rs, err := readInputs(ctx, s, files, cal)
+	batchRows := opts.BatchRows
+	if batchRows <= 0 {
+		batchRows = DefaultBatchRows
+	}
+	rs, err := readInputs(ctx, s, files, cal, batchRows)
 	if err != nil {
 		return nil, err
 	}
-	series, err := shapeRows(rs, s.Shaping, s.Limits, cal, s.Columns.Keys)
+	src, err := newBatchSource(rs, batchRows, func(b *rowSet) ([]*Series, error) {
+		return shapeRows(b, s.Shaping, s.Limits, cal, s.Columns.Keys)
+	})
 	if err != nil {
+		rs.spill.close()
 		return nil, err
 	}
-	p := &Plan{Spec: s, Out: target, Inputs: files, Rows: int64(len(rs.periods)), Series: len(series), cal: cal}
-	if len(series) > 0 {
-		p.Periods.Min = 1 << 62
-		lo, hi := series[0].Start, series[0].Start
+	defer src.close()
+	p := &Plan{Spec: s, Out: target, Inputs: files, Rows: rs.rowCount, Series: len(rs.keys), cal: cal, Batches: src.batches()}
+	p.Periods.Min = 1 << 62
+	lo, hi := int64(math.MaxInt64), int64(math.MinInt64)
+	for b := 0; b < src.batches(); b++ {
+		series, err := src.series(b)
+		if err != nil {
+			return nil, err
+		}
 		for _, se := range series {
 			n := len(se.Values)
 			if se.Skip != "" {
@@ -64,6 +78,8 @@ func MakePlan(ctx context.Context, s *spec.Spec, opts Options) (*Plan, error) {
 			lo = min(lo, se.Start)
 			hi = max(hi, se.Start+int64(n)-1)
 		}
+	}
+	if lo <= hi {
 		p.First, p.Last = cal.label(lo), cal.label(hi)
 	}
 	return p, nil
@@ -84,6 +100,9 @@ func (p *Plan) Print(w io.Writer) {
 	fmt.Fprintf(w, "3. split     %d series", p.Series)
 	if p.Series > 0 {
 		fmt.Fprintf(w, ", %d to %d periods each, %s … %s", p.Periods.Min, p.Periods.Max, p.First, p.Last)
+	}
+	if p.Batches > 1 {
+		fmt.Fprintf(w, " — in %d batches", p.Batches)
 	}
 	fmt.Fprintln(w)
 	if s.Calendar.SeasonLength >= 2 {

@@ -46,10 +46,21 @@ type rowSet struct {
 	missing   int64 // rows whose value was empty or NaN
 	keyBlanks int64 // rows whose key had an empty component
 	notes     []problem
+
+	// Past batchRows rows, rows go to spill instead of the slices above;
+	// keyRows counts rows per key either way, rowCount all rows, and
+	// panelLast is the latest period seen.
+	batchRows int64
+	spill     *spill
+	spillErr  error
+	keyRows   []int64
+	rowCount  int64
+	panelLast int64
+	order     []int32 // key ids in sorted key order, once batched
 }
 
 func newRowSet() *rowSet {
-	return &rowSet{keyIndex: map[string]int32{}}
+	return &rowSet{keyIndex: map[string]int32{}, panelLast: math.MinInt64}
 }
 
 func (r *rowSet) internKey(parts []string) int32 {
@@ -66,18 +77,48 @@ func (r *rowSet) internKey(parts []string) int32 {
 	id := int32(len(r.keys))
 	r.keyIndex[string(r.keyBuf)] = id
 	r.keys = append(r.keys, append([]string(nil), parts...))
+	r.keyRows = append(r.keyRows, 0)
 	return id
 }
 
 func (r *rowSet) add(key int32, period int64, value float64, file int32, line int64) {
+	r.rowCount++
+	r.keyRows[key]++
+	r.panelLast = max(r.panelLast, period)
+	if math.IsNaN(value) {
+		r.missing++
+	}
+	if r.spill == nil && r.batchRows > 0 && int64(len(r.keyIDs)) >= r.batchRows {
+		r.startSpill()
+	}
+	if r.spill != nil {
+		if err := r.spill.add(key, period, value, file, line); err != nil && r.spillErr == nil {
+			r.spillErr = err
+		}
+		return
+	}
 	r.keyIDs = append(r.keyIDs, key)
 	r.periods = append(r.periods, period)
 	r.values = append(r.values, value)
 	r.files = append(r.files, file)
 	r.lines = append(r.lines, line)
-	if math.IsNaN(value) {
-		r.missing++
+}
+
+// startSpill moves the rows held so far to a spill file; later rows follow.
+func (r *rowSet) startSpill() {
+	sp, err := newSpill()
+	if err != nil {
+		r.spillErr = err
+		r.batchRows = 0 // keep going in memory
+		return
 	}
+	for i := range r.keyIDs {
+		if err := sp.add(r.keyIDs[i], r.periods[i], r.values[i], r.files[i], r.lines[i]); err != nil {
+			r.spillErr = err
+		}
+	}
+	r.spill = sp
+	r.keyIDs, r.periods, r.values, r.files, r.lines = nil, nil, nil, nil, nil
 }
 
 func (r *rowSet) where(i int) string {
@@ -148,9 +189,10 @@ func relTo(dir, path string) string {
 }
 
 // readInputs reads every input file into one rowSet.
-func readInputs(ctx context.Context, s *spec.Spec, files []InputFile, cal calendar) (*rowSet, error) {
+func readInputs(ctx context.Context, s *spec.Spec, files []InputFile, cal calendar, batchRows int64) (*rowSet, error) {
 	rs := newRowSet()
 	rs.files_ = files
+	rs.batchRows = batchRows
 	for i := range files {
 		if err := ctx.Err(); err != nil {
 			return nil, err
@@ -165,11 +207,15 @@ func readInputs(ctx context.Context, s *spec.Spec, files []InputFile, cal calend
 		default:
 			err = fmt.Errorf("%s: unknown format %q", f.Path, f.Format)
 		}
+		if err == nil {
+			err = rs.spillErr
+		}
 		if err != nil {
+			rs.spill.close()
 			return nil, err
 		}
 	}
-	if len(rs.periods) == 0 {
+	if rs.rowCount == 0 {
 		return nil, fmt.Errorf("no data rows in any input (%d file(s) read); nothing to forecast", len(files))
 	}
 	return rs, nil

@@ -39,6 +39,10 @@ type Options struct {
 	Progress Progress         // may be nil
 	Log      io.Writer        // plain progress lines; may be nil
 	Mem      memory.Allocator // nil means memory.DefaultAllocator
+	// BatchRows bounds the input rows held in memory at once (0 means
+	// DefaultBatchRows); larger inputs are spilled to a temporary folder
+	// and processed in key-range batches.
+	BatchRows int64
 
 	// beforeCommit, when set, runs after every table is written and before
 	// the run folder is committed; tests use it to inject a failure.
@@ -169,21 +173,56 @@ func Run(ctx context.Context, s *spec.Spec, opts Options) (*Summary, error) {
 	}
 	clock.lap("plan")
 
-	rs, err := readInputs(ctx, s, files, cal)
+	batchRows := opts.BatchRows
+	if batchRows <= 0 {
+		batchRows = DefaultBatchRows
+	}
+	rs, err := readInputs(ctx, s, files, cal, batchRows)
 	if err != nil {
 		return nil, err
 	}
-	logf("read %d rows from %d file(s)", len(rs.periods), len(files))
+	logf("read %d rows from %d file(s)", rs.rowCount, len(files))
 	clock.lap("read")
 	stallPoint("read")
-	series, err := shapeRows(rs, s.Shaping, s.Limits, cal, s.Columns.Keys)
+	if n := len(rs.keys); n > s.Limits.MaxSeries {
+		rs.spill.close()
+		return nil, fmt.Errorf("the input holds %d series; limits.max_series is %d (raise it in the spec if this is right)", n, s.Limits.MaxSeries)
+	}
+	src, err := newBatchSource(rs, batchRows, func(b *rowSet) ([]*Series, error) {
+		return shapeRows(b, s.Shaping, s.Limits, cal, s.Columns.Keys)
+	})
 	if err != nil {
+		rs.spill.close()
 		return nil, err
 	}
-	rowsRead, missing, keyBlanks, notes := int64(len(rs.periods)), rs.missing, rs.keyBlanks, rs.notes
-	rs = nil // the rows are in the series now
+	defer src.close()
+	nSeries := len(rs.keys)
+	rowsRead, missing, keyBlanks, notes := rs.rowCount, rs.missing, rs.keyBlanks, rs.notes
+	if src.batches() > 1 {
+		logf("%d series in %d batches of about %d rows", nSeries, src.batches(), batchRows)
+	}
+	// forEachSeries runs one pass over every series, batch by batch, with
+	// global series indexes.
+	forEachSeries := func(work func(i int, s *Series) any, emit func(i int, r any) error) error {
+		offset := 0
+		for b := 0; b < src.batches(); b++ {
+			series, err := src.series(b)
+			if err != nil {
+				return err
+			}
+			base := offset
+			if err := forEachOrdered(ctx, len(series), workers, func(i int) any {
+				return work(base+i, series[i])
+			}, func(i int, r any) error {
+				return emit(base+i, r)
+			}); err != nil {
+				return err
+			}
+			offset += len(series)
+		}
+		return nil
+	}
 	clock.lap("shape")
-	logf("shaped %d series", len(series))
 
 	staging, err := makeStaging(target)
 	if err != nil {
@@ -223,21 +262,23 @@ func Run(ctx context.Context, s *spec.Spec, opts Options) (*Summary, error) {
 
 	work := &seriesWork{spec: s, cal: cal, methods: methods, decomposer: decomposer, wrap: opts.wrapMethod,
 		wantVariance: s.Intervals.Source == "model" && len(s.Intervals.Levels) > 0,
-		eval:         newEvaluation(s, len(series))}
+		eval:         newEvaluation(s, nSeries)}
+	w.startSinks(cal, work.eval)
 	if e := work.eval; e != nil {
 		// Pass 1: backtest every series; write accuracy and choices.
 		if opts.Progress != nil {
-			opts.Progress.Start(len(series))
+			opts.Progress.Start(nSeries)
 		}
-		err = forEachOrdered(ctx, len(series), workers, func(i int) *backtestResult {
-			return work.backtest(series[i])
-		}, func(i int, r *backtestResult) error {
+		err = forEachSeries(func(i int, se *Series) any {
+			return work.backtest(se)
+		}, func(i int, res any) error {
+			r := res.(*backtestResult)
 			if opts.Progress != nil {
 				opts.Progress.Add(1)
 			}
 			e.record(i, r)
 			e.choices[i].problems = r.problems
-			return w.writeBacktest(r, cal, e)
+			return w.writeBacktest(r)
 		})
 		if opts.Progress != nil {
 			opts.Progress.Finish()
@@ -247,23 +288,22 @@ func Run(ctx context.Context, s *spec.Spec, opts Options) (*Summary, error) {
 		}
 		e.finishPass1()
 		clock.lap("backtest")
-		logf("backtested %d series", len(series))
+		logf("backtested %d series", nSeries)
 	}
 
 	if opts.Progress != nil {
-		opts.Progress.Start(len(series))
+		opts.Progress.Start(nSeries)
 	}
-	err = forEachOrdered(ctx, len(series), workers, func(i int) *seriesResult {
-		return work.process(i, series[i])
-	}, func(i int, r *seriesResult) error {
-		series[i] = nil // written; let it go
+	err = forEachSeries(func(i int, se *Series) any {
+		return work.process(i, se)
+	}, func(i int, res any) error {
 		if opts.Progress != nil {
 			opts.Progress.Add(1)
 		}
-		if i == len(series)/2 {
+		if i == nSeries/2 {
 			stallPoint("forecast")
 		}
-		return w.write(r, cal)
+		return w.write(res.(*seriesResult), cal)
 	})
 	if opts.Progress != nil {
 		opts.Progress.Finish()
@@ -626,6 +666,7 @@ type runTables struct {
 	withChosen                               bool
 	levels                                   int
 	decomposition                            string // the decomposition's method name
+	sinks1, sinks2                           []*sink
 }
 
 func openTables(dir string, s *spec.Spec, meta map[string]string, mem memory.Allocator) (*runTables, error) {
@@ -664,6 +705,7 @@ func (rt *runTables) tables() []*tableWriter {
 }
 
 func (rt *runTables) abort() {
+	rt.drain()
 	for _, t := range rt.tables() {
 		if t != nil {
 			t.abort()
@@ -672,6 +714,9 @@ func (rt *runTables) abort() {
 }
 
 func (rt *runTables) close() error {
+	if err := rt.drain(); err != nil {
+		return err
+	}
 	for _, t := range rt.tables() {
 		if err := t.close(); err != nil {
 			return err
@@ -695,9 +740,15 @@ func (rt *runTables) problem(p problem) error {
 	return t.endRow()
 }
 
+// write hands one series' rows to the table writers, which encode them on
+// goroutines of their own (see sinks); rows keep their order per table.
 func (rt *runTables) write(r *seriesResult, cal calendar) error {
-	s := r.series
 	rt.series++
+	return rt.send(r)
+}
+
+func (rt *runTables) writeForecasts(r *seriesResult, cal calendar) error {
+	s := r.series
 	last := s.Start + int64(len(s.Values)) - 1
 	for _, f := range r.forecasts {
 		rt.methodSeries[f.label]++
@@ -732,40 +783,58 @@ func (rt *runTables) write(r *seriesResult, cal calendar) error {
 			}
 		}
 	}
-	if d := r.decomp; d != nil {
-		for i, obs := range s.Values {
-			t := rt.components
-			t.key(s.Key)
-			t.str(0, rt.decomposition)
-			t.str(1, d.Form)
-			t.date(2, cal.startDays(s.Start+int64(i)))
-			t.float(3, obs)
-			t.float(4, d.Trend[i])
-			t.float(5, d.Seasonal[i])
-			t.float(6, d.Remainder[i])
-			t.float(7, d.Adjusted[i])
-			if err := t.endRow(); err != nil {
-				return err
-			}
-		}
-		m := len(d.Factors)
-		byPos := make([]int, m) // calendar position-1 → factor index
-		for j := 0; j < m; j++ {
-			byPos[cal.position(s.Start+int64(j))-1] = j
-		}
-		for pos, j := range byPos {
-			t := rt.factors
-			t.key(s.Key)
-			t.str(0, rt.decomposition)
-			t.str(1, d.Form)
-			t.int32(2, pos+1)
-			t.float(3, d.Factors[j])
-			t.int32(4, d.Counts[j])
-			if err := t.endRow(); err != nil {
-				return err
-			}
+	return nil
+}
+
+func (rt *runTables) writeComponents(r *seriesResult, cal calendar) error {
+	s, d := r.series, r.decomp
+	if d == nil {
+		return nil
+	}
+	for i, obs := range s.Values {
+		t := rt.components
+		t.key(s.Key)
+		t.str(0, rt.decomposition)
+		t.str(1, d.Form)
+		t.date(2, cal.startDays(s.Start+int64(i)))
+		t.float(3, obs)
+		t.float(4, d.Trend[i])
+		t.float(5, d.Seasonal[i])
+		t.float(6, d.Remainder[i])
+		t.float(7, d.Adjusted[i])
+		if err := t.endRow(); err != nil {
+			return err
 		}
 	}
+	return nil
+}
+
+func (rt *runTables) writeFactors(r *seriesResult, cal calendar) error {
+	s, d := r.series, r.decomp
+	if d == nil {
+		return nil
+	}
+	m := len(d.Factors)
+	byPos := make([]int, m) // calendar position-1 → factor index
+	for j := 0; j < m; j++ {
+		byPos[cal.position(s.Start+int64(j))-1] = j
+	}
+	for pos, j := range byPos {
+		t := rt.factors
+		t.key(s.Key)
+		t.str(0, rt.decomposition)
+		t.str(1, d.Form)
+		t.int32(2, pos+1)
+		t.float(3, d.Factors[j])
+		t.int32(4, d.Counts[j])
+		if err := t.endRow(); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+func (rt *runTables) writeProblems(r *seriesResult) error {
 	for _, p := range r.problems {
 		if err := rt.problem(p); err != nil {
 			return err

@@ -50,10 +50,7 @@ func shapeRows(rs *rowSet, sh spec.Shaping, lim spec.Limits, cal calendar, keyNa
 	}
 	slices.SortFunc(ids, func(a, b int32) int { return compareKeys(rs.keys[a], rs.keys[b]) })
 
-	panelLast := int64(math.MinInt64)
-	for _, p := range rs.periods {
-		panelLast = max(panelLast, p)
-	}
+	panelLast := rs.panelLast
 	out := make([]*Series, 0, nk)
 	var errs []string
 	for _, id := range ids {

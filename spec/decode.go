@@ -424,7 +424,7 @@ func (d *decoder) spec(root *yaml.Node) *Spec {
 	if selectionNode != nil && backtestNode == nil {
 		d.errAt(selectionNode, "selection", "selection ranks methods by their backtest; add a backtest section")
 	}
-	if c := s.Selection.Combine; c != nil && c.Top > len(s.Methods) && len(s.Methods) > 0 {
+	if c := s.Selection.Combine; c != nil && c.Top > len(s.Methods) && len(s.Methods) > 0 && len(d.errs) == 0 {
 		d.errAt(selectionNode, "selection.combine.top", "top is %d but the spec names only %d method(s)", c.Top, len(s.Methods))
 	}
 	seen := map[string]int{}
@@ -447,8 +447,11 @@ func (d *decoder) spec(root *yaml.Node) *Spec {
 			}
 		} else if len(s.Methods) > 0 {
 			s.Selection.Fallback = s.Methods[0].Label
-			if _, ok := seen["seasonal_naive"]; ok {
-				s.Selection.Fallback = "seasonal_naive"
+			for _, m := range s.Methods {
+				if m.Method == "seasonal_naive" {
+					s.Selection.Fallback = m.Label
+					break
+				}
 			}
 		}
 	}
@@ -870,7 +873,11 @@ func (d *decoder) option(n *yaml.Node, path, method, name string, o optionDef) (
 		d.enum(n, path, fmt.Sprintf("%s %s", method, name), o.Allowed, &v)
 		return v, v != ""
 	case kindIntOrWord:
-		if sn, ok := d.scalar(n, path, fmt.Sprintf("%s %s", method, name)); ok && sn.Tag != "!!int" {
+		sn, ok := d.scalar(n, path, fmt.Sprintf("%s %s (an integer or %s)", method, name, quoteList(o.Allowed)))
+		if !ok {
+			return nil, false
+		}
+		if sn.Tag != "!!int" {
 			var v string
 			d.enum(sn, path, fmt.Sprintf("%s %s (an integer or %s)", method, name, quoteList(o.Allowed)), o.Allowed, &v)
 			return v, v != ""

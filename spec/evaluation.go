@@ -87,6 +87,7 @@ type Intervals struct {
 
 func (d *decoder) backtest(n *yaml.Node, path string, b *Backtest) {
 	var lengthNode *yaml.Node
+	windowBad := false
 	d.mapping(n, path, "backtest", []field{
 		{"folds", true, func(n *yaml.Node, p string) {
 			if d.integer(n, p, "the number of folds", &b.Folds) && (b.Folds < 1 || b.Folds > 100) {
@@ -104,7 +105,9 @@ func (d *decoder) backtest(n *yaml.Node, path string, b *Backtest) {
 			}
 		}},
 		{"window", false, func(n *yaml.Node, p string) {
+			windowBad = true
 			d.enum(n, p, "window", Windows, (*string)(&b.Window))
+			windowBad = b.Window == ""
 		}},
 		{"min_train", false, func(n *yaml.Node, p string) {
 			if d.integer(n, p, "the minimum training length", &b.MinTrain) && b.MinTrain < 2 {
@@ -118,7 +121,7 @@ func (d *decoder) backtest(n *yaml.Node, path string, b *Backtest) {
 			}
 		}},
 	})
-	if lengthNode != nil && b.Window != Sliding {
+	if lengthNode != nil && !windowBad && b.Window != Sliding {
 		d.errAt(lengthNode, path+".window_length", "window_length applies only to window: sliding")
 	}
 	if b.Window == "" {
@@ -178,6 +181,7 @@ func (d *decoder) selection(n *yaml.Node, path string, s *Selection) {
 
 func (d *decoder) intervals(n *yaml.Node, path string, iv *Intervals) {
 	iv.Source = "empirical"
+	sourceOK := true
 	d.mapping(n, path, "intervals", []field{
 		{"levels", true, func(n *yaml.Node, p string) {
 			n = d.resolve(n)
@@ -207,7 +211,11 @@ func (d *decoder) intervals(n *yaml.Node, path string, iv *Intervals) {
 				iv.Levels = append(iv.Levels, v)
 			}
 		}},
-		{"source", false, func(n *yaml.Node, p string) { d.enum(n, p, "interval source", IntervalSources, &iv.Source) }},
+		{"source", false, func(n *yaml.Node, p string) {
+			iv.Source = ""
+			d.enum(n, p, "interval source", IntervalSources, &iv.Source)
+			sourceOK = iv.Source != ""
+		}},
 		{"all_methods", false, func(n *yaml.Node, p string) {
 			sn, ok := d.scalar(n, p, "true or false")
 			if !ok {
@@ -220,4 +228,7 @@ func (d *decoder) intervals(n *yaml.Node, path string, iv *Intervals) {
 			iv.AllMethods = sn.Value == "true"
 		}},
 	})
+	if !sourceOK {
+		iv.Source = "invalid" // already reported; keeps the cross-section check quiet
+	}
 }

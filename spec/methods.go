@@ -25,8 +25,8 @@ type optionDef struct {
 	// the method works the default out from the series (documented in Doc).
 	Default any
 	Doc     string
-	// DecompositionOnly / ForecastOnly: the option applies only where the
-	// method serves as the decomposition, or only as a forecaster.
+	// ForecastOnly: the option matters only when the method forecasts, not
+	// when it serves as the decomposition.
 	ForecastOnly bool
 }
 

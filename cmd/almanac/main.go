@@ -162,6 +162,7 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 					outFlag(),
 					&cli.IntFlag{Name: "workers", Aliases: []string{"w"}, Value: runtime.NumCPU(), Usage: "series processed in parallel"},
 					&cli.BoolFlag{Name: "quiet", Aliases: []string{"q"}, Usage: "no progress output"},
+					&cli.Int64Flag{Name: "batch-rows", Value: pipeline.DefaultBatchRows, Usage: "input rows held in memory at once; larger inputs are spilled to a temporary folder and processed in key-range batches"},
 					&cli.StringFlag{Name: "cpuprofile", Usage: "write a CPU profile (pprof) of the run to this file"},
 				},
 				Action: runCmd,
@@ -253,7 +254,7 @@ func runCmd(c *cli.Context) error {
 	if workers < 1 {
 		return &exitError{exitSpec, fmt.Errorf("almanac run: --workers must be at least 1, got %d", workers)}
 	}
-	opts := pipeline.Options{Out: c.String("out"), Workers: workers}
+	opts := pipeline.Options{Out: c.String("out"), Workers: workers, BatchRows: c.Int64("batch-rows")}
 	if !c.Bool("quiet") {
 		if f, ok := c.App.ErrWriter.(*os.File); ok && term.IsTerminal(int(f.Fd())) {
 			opts.Progress = &barProgress{out: f}
@@ -368,6 +369,7 @@ func (b *barProgress) Finish()   { b.bar.Finish() }
 
 // lineProgress writes a plain line at each tenth of the work, for logs.
 type lineProgress struct {
+	pass       int
 	out        io.Writer
 	total      int
 	done, next int
@@ -375,8 +377,9 @@ type lineProgress struct {
 }
 
 func (l *lineProgress) Start(total int) {
-	l.total, l.start = total, time.Now()
+	l.total, l.done, l.start = total, 0, time.Now()
 	l.next = max(1, total/10)
+	l.pass++
 }
 
 func (l *lineProgress) Add(n int) {
@@ -385,7 +388,7 @@ func (l *lineProgress) Add(n int) {
 		el := time.Since(l.start).Seconds()
 		rate := float64(l.done) / max(el, 1e-9)
 		eta := float64(l.total-l.done) / max(rate, 1e-9)
-		fmt.Fprintf(l.out, "series %d/%d (%.0f%%), %.0f series/s, eta %.0fs\n", l.done, l.total, 100*float64(l.done)/float64(max(l.total, 1)), rate, eta)
+		fmt.Fprintf(l.out, "pass %d: series %d/%d (%.0f%%), %.0f series/s, eta %.0fs\n", l.pass, l.done, l.total, 100*float64(l.done)/float64(max(l.total, 1)), rate, eta)
 		l.next += max(1, l.total/10)
 	}
 }

@@ -122,7 +122,7 @@ func TestRunPlanAndExitCodes(t *testing.T) {
 		!strings.Contains(stdout, "tables:   "+filepath.Join(dir, "out", "cli-ok")) {
 		t.Errorf("run summary:\n%s", stdout)
 	}
-	if !strings.Contains(stderr, "series 2/2 (100%)") {
+	if !strings.Contains(stderr, "pass 1: series 2/2 (100%)") {
 		t.Errorf("no progress lines on a non-terminal stderr:\n%s", stderr)
 	}
 	for _, f := range []string{"forecasts.parquet", "components.parquet", "seasonal_factors.parquet", "problems.parquet", "manifest.json", ".almanac-run"} {

@@ -83,6 +83,9 @@ func (e *NotFoundError) Error() string {
 // keyText renders a key as column=value pairs, quoting values that hold
 // spaces or are empty.
 func keyText(cols, key []string) string {
+	if len(cols) == 0 && len(key) == 0 {
+		return "the run's only series (no key columns)"
+	}
 	parts := make([]string, len(key))
 	for i := range key {
 		v := key[i]

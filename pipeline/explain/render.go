@@ -55,10 +55,12 @@ func unit(freq string) string {
 }
 
 // grid is a table whose columns are padded to their widest cell; the
-// first `left` columns are left-aligned, the others right-aligned.
+// first `left` columns (and the last, when lastLeft) are left-aligned, the
+// others right-aligned.
 type grid struct {
-	left int
-	rows [][]string
+	left     int
+	lastLeft bool
+	rows     [][]string
 }
 
 func (g *grid) add(cells ...string) { g.rows = append(g.rows, cells) }
@@ -81,7 +83,7 @@ func (g *grid) write(w io.Writer, indent string) {
 			if i > 0 {
 				b.WriteString("  ")
 			}
-			if i < g.left {
+			if i < g.left || (g.lastLeft && i == len(widths)-1) {
 				b.WriteString(c)
 				if i < len(r)-1 {
 					b.WriteString(pad)
@@ -287,7 +289,7 @@ func renderHistory(w io.Writer, sd *seriesData, shownFC []*methodFC, seasons, sp
 	n := len(sd.hist)
 	section(w, fmt.Sprintf("history · %d %s, %s … %s", n, unit(sd.freq), sd.hist[0].period.Format(dateFmt), sd.hist[n-1].period.Format(dateFmt)))
 	st := summarise(sd.hist, sd.season)
-	pairs(w, "observed", strconv.Itoa(st.observed), "missing", strconv.Itoa(st.missing), "zeros", strconv.Itoa(st.zeros))
+	pairs(w, "values", strconv.Itoa(st.observed), "missing", strconv.Itoa(st.missing), "zeros", strconv.Itoa(st.zeros))
 	pairs(w, "min", fv(st.min), "max", fv(st.max), "mean", fv(st.mean), "median", fv(st.median), "sd", fv(st.sd))
 	kv := []string{"last", fv(st.last)}
 	if st.hasLastSeason {
@@ -319,10 +321,17 @@ func renderHistory(w io.Writer, sd *seriesData, shownFC []*methodFC, seasons, sp
 	}
 
 	m := max(1, sd.season)
-	start := max(0, n-seasons*m)
 	per := perLine(m)
-	shownSeasons := (n - start + m - 1) / m
-	fmt.Fprintf(w, "\n  observed, last %d season(s):\n", shownSeasons)
+	span := seasons * m
+	if m < 2 {
+		span = max(span, per) // no season: the last line's worth of periods
+	}
+	start := max(0, n-span)
+	if m >= 2 {
+		fmt.Fprintf(w, "\n  observed, last %d season(s):\n", (n-start+m-1)/m)
+	} else {
+		fmt.Fprintf(w, "\n  observed, last %d %s:\n", n-start, unit(sd.freq))
+	}
 	g := &grid{left: 1}
 	linesPerSeason := 0
 	if m > per && m%per == 0 {
@@ -435,7 +444,7 @@ func renderBacktest(w io.Writer, sd *seriesData, opt Options) {
 		return
 	}
 	other := sd.metric != "" && sd.metric != "mase"
-	g := &grid{left: 1}
+	g := &grid{left: 1, lastLeft: true}
 	head := []string{"method"}
 	origins := []string{"origin"}
 	train := []string{"trained on"}

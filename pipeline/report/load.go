@@ -128,25 +128,26 @@ type change struct {
 
 // model is everything the page shows.
 type model struct {
-	opt      Options
-	run      *runfolder.Run
-	spec     *runfolder.CanonicalSpec
-	specX    specExtras
-	extra    extras
-	keys     []string
-	levels   []int // interval levels with lower_/upper_ columns in forecasts
-	problems []problemRow
-	choices  []choice // in table order; nil without a backtest
-	metric   string
-	series   []*seriesData
-	missing  []string // requested series not in the run
-	worst    []choice
-	changes  []change // most changed first; nil without a previous run
-	prevDir  string
-	prevOnly int // series only in the previous run
-	newOnly  int // series only in this run
-	prevErr  string
-	noPickBy string // why the automatic picks fell back to the first series
+	opt        Options
+	run        *runfolder.Run
+	spec       *runfolder.CanonicalSpec
+	specX      specExtras
+	extra      extras
+	keys       []string
+	levels     []int // interval levels with lower_/upper_ columns in forecasts
+	problems   []problemRow
+	choices    []choice // in table order; nil without a backtest
+	metric     string
+	series     []*seriesData
+	missing    []string // requested series not in the run
+	worst      []choice
+	changes    []change // most changed first; nil without a previous run
+	prevDir    string
+	prevOnly   int // series only in the previous run
+	newOnly    int // series only in this run
+	prevErr    string
+	noPickBy   string // why the automatic picks fell back to the first series
+	methodNote string // Options.Method named no method of the run
 }
 
 // errStop ends a Scan early.
@@ -168,6 +169,16 @@ func load(runDir string, opt Options) (*model, error) {
 	if len(r.Manifest.Spec.Canonical) > 0 {
 		if err := json.Unmarshal(r.Manifest.Spec.Canonical, &m.specX); err != nil {
 			return nil, fmt.Errorf("%s: canonical spec: %v", runDir, err)
+		}
+	}
+	if opt.Method != "" && !r.HasTable("choices") {
+		known := false
+		for _, me := range r.Manifest.Methods {
+			known = known || me.Label == opt.Method
+		}
+		if !known {
+			m.methodNote = fmt.Sprintf("The method %q asked for is not one of this run's methods; the charts show the spec's first method instead.", opt.Method)
+			m.opt.Method = ""
 		}
 	}
 	if r.HasTable("problems") {
@@ -211,6 +222,7 @@ func load(runDir string, opt Options) (*model, error) {
 		}
 		picks = append(picks, pick{key: key, reasons: []string{why}})
 	}
+	opt = m.opt
 	for _, k := range opt.Series {
 		add(k, "asked for")
 	}

@@ -36,6 +36,24 @@ func niceStep(span float64, n int) float64 {
 	return 10 * mag
 }
 
+// closestStep is the round step (1, 2, 2.5 or 5 times a power of ten)
+// that cuts span into the number of pieces closest to n.
+func closestStep(span float64, n int) float64 {
+	if span <= 0 || math.IsNaN(span) || math.IsInf(span, 0) || n < 1 {
+		return 1
+	}
+	raw := span / float64(n)
+	mag := math.Pow(10, math.Floor(math.Log10(raw)))
+	best, bestD := mag, math.Inf(1)
+	for _, m := range []float64{1, 2, 2.5, 5, 10} {
+		d := math.Abs(span/(m*mag) - float64(n))
+		if d < bestD {
+			best, bestD = m*mag, d
+		}
+	}
+	return best
+}
+
 // niceTicks returns the round values from below lo to above hi, about n
 // intervals apart, and the step between them.
 func niceTicks(lo, hi float64, n int) ([]float64, float64) {
@@ -63,6 +81,35 @@ func niceTicks(lo, hi float64, n int) ([]float64, float64) {
 			v = 0
 		}
 		out = append(out, v)
+	}
+	return out, step
+}
+
+// countTicks are whole-number ticks from 0 to at least hi, at most about
+// n intervals (steps of 1, 2 or 5 times a power of ten).
+func countTicks(hi float64, n int) ([]float64, float64) {
+	if hi < 1 {
+		hi = 1
+	}
+	step := 1.0
+	for mag := 1.0; ; mag *= 10 {
+		found := false
+		for _, m := range []float64{1, 2, 5} {
+			if math.Ceil(hi/(m*mag)) <= float64(n) {
+				step, found = m*mag, true
+				break
+			}
+		}
+		if found {
+			break
+		}
+	}
+	var out []float64
+	for v := 0.0; v < hi+step; v += step {
+		out = append(out, v)
+		if v >= hi {
+			break
+		}
 	}
 	return out, step
 }

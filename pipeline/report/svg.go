@@ -177,10 +177,7 @@ func leaderboardChart(id string, entries []lbEntry) string {
 	}
 	ticks, step := niceTicks(0, maxV*1.08, 6)
 	xs := linear{0, ticks[len(ticks)-1], ax0, ax1}
-	cticks, cstep := niceTicks(0, float64(maxC), 4)
-	if cstep < 1 {
-		cticks, cstep = niceTicks(0, float64(max(maxC, 4)), 4)
-	}
+	cticks, cstep := countTicks(float64(maxC), 4)
 	cs := linear{0, cticks[len(cticks)-1], bx0, bx1}
 
 	var desc strings.Builder
@@ -203,7 +200,7 @@ func leaderboardChart(id string, entries []lbEntry) string {
 	s.line(ax0+76, 26, ax0+76, 40, colInk, 2.5, "")
 	s.text(ax0+84, 37, "start", "small", "median")
 	s.line(ax0+146, 26, ax0+146, 40, colAxis, 1, "4 3")
-	s.text(ax0+154, 37, "start", "small", "MASE 1: as large as the scaling error")
+	s.text(ax0+154, 37, "start", "small", "MASE 1: the benchmark's in-sample error")
 
 	for _, t := range ticks {
 		x := xs.at(t)
@@ -273,26 +270,26 @@ func histogramChart(id, metric string, scores []float64) string {
 	}
 	// A few very bad series would squeeze the rest into one bar: past
 	// three times the 95th percentile, values share an overflow bin.
-	cap := math.Inf(1)
+	overAt := math.Inf(1)
 	if n >= 10 {
 		q95 := v[int(math.Ceil(0.95*float64(n)))-1]
 		if q95 > 0 && hi > 3*q95 {
-			cap = q95 * 1.5
+			overAt = q95 * 1.5
 		}
 	}
 	top := hi
-	if !math.IsInf(cap, 1) {
-		top = cap
+	if !math.IsInf(overAt, 1) {
+		top = overAt
 	}
-	bins := int(math.Round(math.Sqrt(float64(n)) * 1.5))
-	bins = max(6, min(bins, 30))
-	step := niceStep(top-lo, bins)
+	bins := int(math.Round(math.Sqrt(float64(n)) * 2))
+	bins = max(8, min(bins, 40))
+	step := closestStep(top-lo, bins)
 	start := math.Floor(lo/step) * step
 	nb := int(math.Ceil((top-start)/step + 1e-9))
 	if nb < 1 {
 		nb = 1
 	}
-	if top == start+float64(nb)*step && math.IsInf(cap, 1) {
+	if top == start+float64(nb)*step && math.IsInf(overAt, 1) {
 		nb++ // the maximum itself needs a bin
 	}
 	counts := make([]int, nb)
@@ -317,10 +314,7 @@ func histogramChart(id, metric string, scores []float64) string {
 	for _, c := range counts {
 		maxC = max(maxC, c)
 	}
-	yt, ystep := niceTicks(0, float64(maxC), 4)
-	if ystep < 1 {
-		yt, ystep = niceTicks(0, 4, 4)
-	}
+	yt, ystep := countTicks(float64(maxC), 5)
 	ys := linear{0, yt[len(yt)-1], y0, y1}
 	bw := (x1 - x0) / float64(total)
 	dec := decimalsFor(step)
@@ -390,7 +384,15 @@ func median(sorted []float64) float64 {
 
 // seriesChart draws a series' history, trend, drawn forecast with its
 // interval bands, and the previous run's forecast when there is one.
-func seriesChart(id string, d *seriesData, levels []int, freq string) string {
+// At most maxHist periods of history are drawn (0: all), the latest.
+func seriesChart(id string, d *seriesData, levels []int, freq string, maxHist int) string {
+	allPeriods := len(d.periods)
+	if maxHist > 0 && len(d.periods) > maxHist {
+		cut := len(d.periods) - maxHist
+		dd := *d
+		dd.periods, dd.observed, dd.trend = d.periods[cut:], d.observed[cut:], d.trend[cut:]
+		d = &dd
+	}
 	const (
 		W, H   = 1000.0, 360.0
 		x0, x1 = 78.0, 980.0
@@ -456,6 +458,9 @@ func seriesChart(id string, d *seriesData, levels []int, freq string) string {
 			obsLo, obsHi = math.Min(obsLo, v), math.Max(obsHi, v)
 		}
 	}
+	if len(d.periods) < allPeriods {
+		fmt.Fprintf(&desc, "The last %d of %d periods of history are drawn. ", len(d.periods), allPeriods)
+	}
 	if len(d.periods) > 0 {
 		fmt.Fprintf(&desc, "History: %d periods from %s to %s, %d observed values from %s to %s. ",
 			len(d.periods), isoDate(d.periods[0]), isoDate(d.periods[len(d.periods)-1]), obsN, fmtAuto(obsLo), fmtAuto(obsHi))
@@ -496,7 +501,8 @@ func seriesChart(id string, d *seriesData, levels []int, freq string) string {
 		s.line(x0, y, x1, y, stroke, 1, "")
 		s.text(x0-8, y+4, "end", "tick", fmtNum(t, decimalsFor(ystep)))
 	}
-	for _, t := range dateTicks(tmin, tmax, 9) {
+	padDur := time.Duration(pad * 24 * float64(time.Hour))
+	for _, t := range dateTicks(tmin.Add(-padDur), tmax.Add(padDur), 9) {
 		x := xs.at(days(t.at))
 		s.line(x, y0, x, y0+5, colAxis, 1, "")
 		s.line(x, y1, x, y0, colGrid, 1, "2 4")
@@ -539,7 +545,12 @@ func seriesChart(id string, d *seriesData, levels []int, freq string) string {
 		// where the forecast starts
 		fs := xs.at(days(d.forecast[0].period)) - (xs.at(days(d.forecast[0].period))-xs.at(days(d.forecast[0].period)-periodDays(freq)))/2
 		s.line(fs, y1-6, fs, y0, colAxis, 1, "3 3")
-		s.text(fs+4, y1-8, "start", "small", "forecast from "+isoDate(d.forecast[0].period))
+		label := "forecast from " + isoDate(d.forecast[0].period)
+		if fs+4+float64(textWidth(label, 12)) > W-4 {
+			s.text(fs-4, y1-8, "end", "small", label)
+		} else {
+			s.text(fs+4, y1-8, "start", "small", label)
+		}
 	}
 
 	if len(d.periods) > 0 {
@@ -700,52 +711,56 @@ func periodDays(freq string) float64 {
 func isoDate(t time.Time) string { return t.Format("2006-01-02") }
 
 // positionLabels names the season positions 1…m for the axis of the
-// factor chart, "" where a position gets no label.
-func positionLabels(freq string, m int, lastPeriod time.Time, hasLast bool) []string {
-	out := make([]string, m+1)
+// factor chart, "" where a position gets no label. For weekly data a second
+// row names months.
+func positionLabels(freq string, m int, lastPeriod time.Time, hasLast bool) (names, months []string) {
+	names = make([]string, m+1)
 	switch {
 	case freq == "month" && m == 12:
 		for i := 1; i <= 12; i++ {
-			out[i] = monthAbbr[i-1]
+			names[i] = monthAbbr[i-1]
 		}
+		return names, nil
 	case freq == "quarter" && m == 4:
 		for i := 1; i <= 4; i++ {
-			out[i] = fmt.Sprintf("Q%d", i)
+			names[i] = fmt.Sprintf("Q%d", i)
 		}
+		return names, nil
 	case freq == "day" && m == 7:
 		for i, d := range []string{"Mon", "Tue", "Wed", "Thu", "Fri", "Sat", "Sun"} {
-			out[i+1] = d
+			names[i+1] = d
 		}
-	case freq == "week" && hasLast:
-		// Positions count ISO weeks from Monday 1969-12-29 modulo m, so they
-		// need not start in January: label each position with the month its
-		// week began in during the last season of the history, at the first
-		// position of each month.
-		month := make([]int, m+1)
-		for k := 0; k < m; k++ {
-			t := lastPeriod.AddDate(0, 0, -7*k)
-			month[weekPosition(t, m)] = int(t.Month())
-		}
-		for p := 1; p <= m; p++ {
-			prev := p - 1
-			if prev < 1 {
-				prev = m
-			}
-			if month[p] != 0 && (month[p] != month[prev] || p == 1) {
-				out[p] = monthAbbr[month[p]-1]
-			}
-		}
-		// Position 1 is labelled by number too, so the order reads right.
-		if out[1] != "" {
-			out[1] = "1 · " + out[1]
-		}
-	default:
-		step := max(1, int(math.Ceil(float64(m)/16)))
-		for p := 1; p <= m; p += step {
-			out[p] = fmt.Sprint(p)
-		}
+		return names, nil
 	}
-	return out
+	step := max(1, int(math.Ceil(float64(m)/14)))
+	for p := 1; p <= m; p += step {
+		names[p] = fmt.Sprint(p)
+	}
+	if freq != "week" || !hasLast {
+		return names, nil
+	}
+	// Positions count ISO weeks from Monday 1969-12-29 modulo m, so they
+	// need not start in January: name, at the first position of each month,
+	// the month its week began in during the last season of the history.
+	month := make([]int, m+1)
+	for k := 0; k < m; k++ {
+		t := lastPeriod.AddDate(0, 0, -7*k)
+		month[weekPosition(t, m)] = int(t.Month())
+	}
+	months = make([]string, m+1)
+	last := -100
+	minGap := max(2, int(math.Ceil(float64(m)/20)))
+	for p := 1; p <= m; p++ {
+		if month[p] == 0 || (p > 1 && month[p] == month[p-1]) {
+			continue
+		}
+		if p-last < minGap {
+			continue
+		}
+		months[p] = monthAbbr[month[p]-1]
+		last = p
+	}
+	return names, months
 }
 
 // weekPosition is the season position of the week starting on Monday t, as
@@ -784,18 +799,32 @@ func factorChart(id string, d *seriesData, freq string, season int) string {
 		}
 	}
 	const (
-		W, H   = 1000.0, 200.0
+		W      = 1000.0
 		x0, x1 = 78.0, 980.0
 		y0, y1 = 150.0, 28.0
 	)
+	bw := (x1 - x0) / float64(m)
+	if bw >= 40 {
+		// room for the value labels above and below the bars
+		pad := (hi - lo) * 0.15
+		if lo < neutral {
+			lo -= pad
+		}
+		if hi > neutral {
+			hi += pad
+		}
+	}
 	yt, ystep := niceTicks(lo, hi, 4)
 	ys := linear{yt[0], yt[len(yt)-1], y0, y1}
-	bw := (x1 - x0) / float64(m)
 	var last time.Time
 	if len(d.periods) > 0 {
 		last = d.periods[len(d.periods)-1]
 	}
-	labels := positionLabels(freq, m, last, len(d.periods) > 0)
+	labels, months := positionLabels(freq, m, last, len(d.periods) > 0)
+	H := 200.0
+	if months != nil {
+		H = 222
+	}
 
 	var maxF, minF factor
 	maxF.value, minF.value = math.Inf(-1), math.Inf(1)
@@ -850,9 +879,16 @@ func factorChart(id string, d *seriesData, freq string, season int) string {
 		s.line(x, y0, x, y0+4, colAxis, 1, "")
 		s.text(x, y0+17, "middle", "tick", labels[p])
 	}
+	for p := 1; p < len(months); p++ {
+		if months[p] != "" {
+			x := x0 + bw*float64(p-1)
+			s.line(x, y0+22, x, y0+34, colAxis, 1, "")
+			s.text(x+3, y0+33, "start", "small", months[p])
+		}
+	}
 	axis := "season position"
-	if freq == "week" && len(d.periods) > 0 {
-		axis = fmt.Sprintf("season position 1–%d (month: when the position fell in the last year of history)", m)
+	if months != nil {
+		axis = fmt.Sprintf("season position 1–%d; below it, the month in which each position fell in the last year of history", m)
 	}
 	s.text((x0+x1)/2, H-8, "middle", "axis", axis)
 	return s.String()

@@ -253,6 +253,8 @@ func (d *Diff) specLines(code func(string) string) []string {
 			out = append(out, fmt.Sprintf("input %s added (%d rows)", code(in.Path), in.HeadRows))
 		case "removed":
 			out = append(out, fmt.Sprintf("input %s removed (had %d rows)", code(in.Path), in.BaseRows))
+		case "moved":
+			out = append(out, fmt.Sprintf("input %s is now read from %s (same content)", code(in.From), code(in.Path)))
 		default:
 			out = append(out, fmt.Sprintf("input %s changed: %s → %s, rows %d → %d, bytes %d → %d", code(in.Path),
 				code(shortHash(in.BaseSHA256)), code(shortHash(in.HeadSHA256)), in.BaseRows, in.HeadRows, in.BaseSize, in.HeadSize))
@@ -278,10 +280,10 @@ func (d *Diff) WriteText(w io.Writer) {
 	writeTextGrid(w, d.countsGrid())
 	p("\n")
 	writeTextGrid(w, d.changesGrid())
-	p("\nLargest movers (top %d by relative change of the forecast total)\n", len(d.Movers))
 	if len(d.Movers) == 0 {
-		p("  none\n")
+		p("\nLargest movers: none (no forecast total changed)\n")
 	} else {
+		p("\nLargest movers (top %d by relative change of the forecast total)\n", len(d.Movers))
 		writeTextGrid(w, d.moversGrid(" -> "))
 	}
 	if d.Mode == ModeChosen {

@@ -152,10 +152,10 @@ type Counts struct {
 	Rows                       int // rows of the diff (series, or series × method)
 	Added, Removed             int // rows only in head / only in base
 	Changed, Unchanged         int
-	TotalsChanged              int // rows in both whose forecast total differs
-	Switched                   int // series that switched chosen entry
-	ScoresCompared             int // rows in both with a score on each side (same metric)
-	MeanScoreChange            float64
+	TotalsChanged              int     // rows in both whose forecast total differs
+	Switched                   int     // series that switched chosen entry
+	ScoresCompared             int     // rows in both with a score on each side (same metric)
+	MeanScoreChange            float64 // mean ScoreChange over those rows; NaN when none
 	BaseSum, HeadSum           float64 // sum of totals over rows in both with both totals defined
 	ScoreWorse, ScoreBetter    int     // rows whose score rose / fell
 	FromZero                   int     // rows in both whose total changed from a zero base (±Inf relative change)
@@ -168,9 +168,12 @@ type FieldChange struct {
 }
 
 // InputChange is one input file that differs between the manifests.
+// Inputs are matched by path; an input only in base and one only in head
+// with the same content (SHA-256) are one "moved" input.
 type InputChange struct {
-	Path                   string
-	Change                 string // added | removed | changed
+	Path                   string // head's path (base's for a removed input)
+	From                   string // base's path of a moved input
+	Change                 string // added | removed | changed | moved
 	BaseSHA256, HeadSHA256 string
 	BaseRows, HeadRows     int64
 	BaseSize, HeadSize     int64
@@ -761,4 +764,28 @@ func (d *Diff) inputChanges(b, h *side) {
 		}
 		d.Inputs = append(d.Inputs, c)
 	}
+	// Pair removed and added inputs with the same content, in path order.
+	var kept []InputChange
+	used := map[int]bool{}
+	for i, a := range d.Inputs {
+		if a.Change != "added" {
+			continue
+		}
+		for j, r := range d.Inputs {
+			if r.Change == "removed" && !used[j] && r.BaseSHA256 == a.HeadSHA256 {
+				used[i], used[j] = true, true
+				a.Change, a.From = "moved", r.Path
+				a.BaseSHA256, a.BaseRows, a.BaseSize = r.BaseSHA256, r.BaseRows, r.BaseSize
+				d.Inputs[i] = a
+				break
+			}
+		}
+	}
+	for j, c := range d.Inputs {
+		if c.Change == "removed" && used[j] {
+			continue
+		}
+		kept = append(kept, c)
+	}
+	d.Inputs = kept
 }

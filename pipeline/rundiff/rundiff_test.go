@@ -695,6 +695,48 @@ func TestPerMethodRowsWithoutBacktest(t *testing.T) {
 	if r := d.Exceeds(Thresholds{MaxAdded: -1, MaxRemoved: -1}); len(r) != 0 {
 		t.Errorf("Exceeds = %q", r)
 	}
+	// Parquet: the method column names each row; added rows have no base.
+	pq := filepath.Join(t.TempDir(), "m.parquet")
+	if err := d.WriteParquet(pq); err != nil {
+		t.Fatal(err)
+	}
+	tb, err := runfolder.ReadTable(pq)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if tb.Rows != len(d.Rows) || tb.Meta["almanac.rundiff.mode"] != "per_method" {
+		t.Fatalf("%d rows, mode %q", tb.Rows, tb.Meta["almanac.rundiff.mode"])
+	}
+	for i := 0; i < tb.Rows; i++ {
+		r, _ := tb.Str("region", i)
+		it, _ := tb.Str("item", i)
+		m, _ := tb.Str("method", i)
+		st, _ := tb.Str("status", i)
+		_, hasBase := tb.Str("base_method", i)
+		k := r + "/" + it + "/" + m
+		if !near(tb.Float("head_total", i), ht[k]) || !math.IsNaN(tb.Float("base_score", i)) {
+			t.Errorf("parquet row %d (%s): head_total %v want %v, base_score %v", i, k, tb.Float("head_total", i), ht[k], tb.Float("base_score", i))
+		}
+		if m == "drift" {
+			if st != "added" || hasBase || !math.IsNaN(tb.Float("base_total", i)) || !math.IsNaN(tb.Float("rel_change", i)) {
+				t.Errorf("parquet row %d (%s): status %s, base method set %v", i, k, st, hasBase)
+			}
+		} else if st != "unchanged" || !near(tb.Float("base_total", i), bt[k]) || tb.Float("rel_change", i) != 0 {
+			t.Errorf("parquet row %d (%s): status %s base %v rel %v", i, k, st, tb.Float("base_total", i), tb.Float("rel_change", i))
+		}
+	}
+
+	// A backtest on one side only: still per method, and said so.
+	withBT := sharedRun(t, "base", specText(baseMethods, true), panel)
+	mixed, err := Compare(withBT, head, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if mixed.Mode != ModePerMethod || mixed.Counts.Unchanged != 15 || mixed.Counts.Added != 5 || mixed.Counts.Switched != 0 ||
+		!strings.Contains(strings.Join(mixed.Notes, "\n"), "head has no backtest") {
+		t.Errorf("mixed: mode %s counts %+v notes %q", mixed.Mode, mixed.Counts, mixed.Notes)
+	}
+
 	var buf bytes.Buffer
 	d.WriteMarkdown(&buf)
 	if md := buf.String(); strings.Contains(md, "#### Method switches") || !strings.Contains(md, "| added | 5 |") {
@@ -725,5 +767,70 @@ func TestBadFolders(t *testing.T) {
 	}
 	if _, err := Compare(base, out, Options{}); err == nil || !strings.Contains(err.Error(), "different key columns") {
 		t.Errorf("Compare across key columns: %v", err)
+	}
+}
+
+// The movers order on rows made by hand: a change from zero first, then by
+// |relative change|, ties in key order; unchanged and undefined rows are
+// never movers.
+func TestMoversOrder(t *testing.T) {
+	row := func(k string, base, head float64) Row {
+		r := Row{Key: []string{k}, BaseTotal: base, HeadTotal: head, BaseScore: math.NaN(), HeadScore: math.NaN()}
+		inB, inH := true, k != "gone"
+		(&Diff{}).finishRow(&r, inB, inH, true)
+		return r
+	}
+	d := &Diff{Keys: []string{"k"}, Mode: ModeChosen, Rows: []Row{
+		row("a", 100, 150),      // +50%
+		row("b", 10, 5),         // -50%, ties with a
+		row("c", 0, 3),          // from zero
+		row("d", 40, 40),        // unchanged
+		row("e", 200, 201),      // +0.5%
+		row("f", 8, math.NaN()), // undefined head total
+		row("g", -20, -10),      // +50% of |base|
+		row("gone", 5, math.NaN()),
+	}}
+	if d.Rows[3].Status != Unchanged || d.Rows[5].Status != Changed || d.Rows[7].Status != Removed {
+		t.Fatalf("statuses %s %s %s", d.Rows[3].Status, d.Rows[5].Status, d.Rows[7].Status)
+	}
+	if !math.IsInf(d.Rows[2].RelChange, 1) || d.Rows[6].RelChange != 0.5 || d.Rows[1].RelChange != -0.5 {
+		t.Fatalf("relative changes %v %v %v", d.Rows[2].RelChange, d.Rows[6].RelChange, d.Rows[1].RelChange)
+	}
+	d.movers(4)
+	var got []string
+	for _, r := range d.Movers {
+		got = append(got, r.Key[0])
+	}
+	if want := []string{"c", "a", "b", "g"}; !slices.Equal(got, want) {
+		t.Errorf("movers %v, want %v", got, want)
+	}
+	th := NoLimits()
+	th.MaxRelChange = 0.5
+	if r := d.Exceeds(th); len(r) != 1 || !strings.HasPrefix(r[0], "1 series changed the forecast total by more than 50.0%; largest from 0 on k=c") {
+		t.Errorf("Exceeds = %q", r)
+	}
+}
+
+// The same data read from another path is a moved input, not an added and
+// a removed one; the forecasts do not change.
+func TestMovedInput(t *testing.T) {
+	base := sharedRun(t, "base", specText(baseMethods, true), panel)
+	data := filepath.Join(filepath.Dir(base), "data", "sales.csv")
+	text := strings.Replace(specText(baseMethods, true), "sources: [data/sales.csv]", "sources: ['"+data+"']", 1)
+	head := runPipeline(t, t.TempDir(), text, panel[:1]) // its own data folder is not read
+	d, err := Compare(base, head, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(d.Inputs) != 1 || d.Inputs[0].Change != "moved" || d.Inputs[0].From != "data/sales.csv" || d.Inputs[0].Path != data {
+		t.Fatalf("inputs %+v", d.Inputs)
+	}
+	if d.Counts.Unchanged != len(panel) || len(d.SpecFields) != 1 || d.SpecFields[0].Field != "sources" {
+		t.Errorf("counts %+v, spec fields %+v", d.Counts, d.SpecFields)
+	}
+	var buf bytes.Buffer
+	d.WriteMarkdown(&buf)
+	if want := "- input `data/sales.csv` is now read from `" + data + "` (same content)\n"; !strings.Contains(buf.String(), want) {
+		t.Errorf("markdown lacks %q:\n%s", want, buf.String())
 	}
 }
