@@ -25,6 +25,7 @@ import (
 	"golang.org/x/term"
 
 	"almanac/pipeline"
+	"almanac/pipeline/rundiff"
 	"almanac/pipeline/synth"
 	"almanac/spec"
 )
@@ -127,6 +128,22 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 				ArgsUsage: "SPEC",
 				Flags:     []cli.Flag{outFlag()},
 				Action:    planCmd,
+			},
+			{
+				Name:      "diff",
+				Usage:     "compare two run folders for review: forecast totals, method switches, score changes (exit 1 when a threshold is passed)",
+				ArgsUsage: "BASE_RUN HEAD_RUN",
+				Flags: []cli.Flag{
+					&cli.StringFlag{Name: "format", Value: "text", Usage: "text (terminal table) or markdown (for a pull-request comment)"},
+					&cli.StringFlag{Name: "parquet", Usage: "also write the per-series diff as a Parquet file"},
+					&cli.IntFlag{Name: "top", Value: 10, Usage: "how many of the largest movers to list"},
+					&cli.Float64Flag{Name: "max-rel-change", Value: -1, Usage: "fail when any series' forecast total moves by more than this fraction (0.2 = 20%)"},
+					&cli.Float64Flag{Name: "max-switch-share", Value: -1, Usage: "fail when more than this share of series switch chosen method"},
+					&cli.Float64Flag{Name: "max-score-worsening", Value: -1, Usage: "fail when the mean backtest score worsens by more than this"},
+					&cli.IntFlag{Name: "max-added", Value: -1, Usage: "fail when more series than this are only in HEAD"},
+					&cli.IntFlag{Name: "max-removed", Value: -1, Usage: "fail when more series than this are only in BASE"},
+				},
+				Action: diffCmd,
 			},
 			{
 				Name:      "panel",
@@ -279,6 +296,42 @@ func runCmd(c *cli.Context) error {
 		return &exitError{exitRun, fmt.Errorf("almanac run %s: %v", path, err)}
 	}
 	printSummary(c.App.Writer, sum)
+	return nil
+}
+
+func diffCmd(c *cli.Context) error {
+	if c.NArg() != 2 {
+		return &exitError{exitSpec, fmt.Errorf("almanac diff: expected BASE_RUN and HEAD_RUN, got %d argument(s)", c.NArg())}
+	}
+	top := c.Int("top")
+	if top == 0 {
+		top = -1
+	}
+	d, err := rundiff.Compare(c.Args().Get(0), c.Args().Get(1), rundiff.Options{Top: top})
+	if err != nil {
+		return &exitError{exitSpec, fmt.Errorf("almanac diff: %v", err)}
+	}
+	switch c.String("format") {
+	case "text":
+		d.WriteText(c.App.Writer)
+	case "markdown", "md":
+		d.WriteMarkdown(c.App.Writer)
+	default:
+		return &exitError{exitSpec, fmt.Errorf("almanac diff: --format %q: want text or markdown", c.String("format"))}
+	}
+	if p := c.String("parquet"); p != "" {
+		if err := d.WriteParquet(p); err != nil {
+			return &exitError{exitRun, fmt.Errorf("almanac diff: %v", err)}
+		}
+	}
+	th := rundiff.Thresholds{MaxRelChange: c.Float64("max-rel-change"), MaxSwitchShare: c.Float64("max-switch-share"),
+		MaxMeanScoreWorsening: c.Float64("max-score-worsening"), MaxAdded: c.Int("max-added"), MaxRemoved: c.Int("max-removed")}
+	if reasons := d.Exceeds(th); len(reasons) > 0 {
+		for _, r := range reasons {
+			fmt.Fprintln(c.App.ErrWriter, "almanac diff: threshold passed:", r)
+		}
+		return &exitError{exitRun, nil}
+	}
 	return nil
 }
 
