@@ -25,6 +25,7 @@ import (
 	"golang.org/x/term"
 
 	"almanac/pipeline"
+	"almanac/pipeline/explain"
 	"almanac/pipeline/rundiff"
 	"almanac/pipeline/synth"
 	"almanac/spec"
@@ -76,7 +77,7 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 // boolFlags are the flags that take no value, in every spelling; every
 // other flag written without "=" takes the next argument as its value.
 var boolFlags = map[string]bool{"--quiet": true, "-quiet": true, "-q": true, "--help": true, "-help": true, "-h": true,
-	"--markdown": true, "-markdown": true, "--all": true, "-all": true}
+	"--all-forecasts": true, "-all-forecasts": true}
 
 // flagsFirst moves a command's flags in front of its arguments, so that
 // "almanac run spec.yaml --workers 2" works as people type it (urfave/cli
@@ -144,6 +145,18 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 					&cli.IntFlag{Name: "max-removed", Value: -1, Usage: "fail when more series than this are only in BASE"},
 				},
 				Action: diffCmd,
+			},
+			{
+				Name:      "explain",
+				Usage:     "show one series of a run: history, decomposition, backtest scores, the choice and why, the forecast with intervals",
+				ArgsUsage: "RUN_DIR [KEY_VALUE...]",
+				Flags: []cli.Flag{
+					&cli.StringFlag{Name: "methods", Usage: "comma-separated method labels to show (default all)"},
+					&cli.BoolFlag{Name: "all-forecasts", Usage: "every method's forecast, not only the chosen entry's"},
+					&cli.IntFlag{Name: "seasons", Value: 2, Usage: "seasons of history to tabulate"},
+					&cli.StringFlag{Name: "png", Usage: "also draw the series as a PNG chart at this path"},
+				},
+				Action: explainCmd,
 			},
 			{
 				Name:      "panel",
@@ -331,6 +344,32 @@ func diffCmd(c *cli.Context) error {
 			fmt.Fprintln(c.App.ErrWriter, "almanac diff: threshold passed:", r)
 		}
 		return &exitError{exitRun, nil}
+	}
+	return nil
+}
+
+func explainCmd(c *cli.Context) error {
+	if c.NArg() < 1 {
+		return &exitError{exitSpec, errors.New("almanac explain: expected RUN_DIR and the series' key values")}
+	}
+	opt := explain.Options{AllForecasts: c.Bool("all-forecasts"), Seasons: c.Int("seasons"), PNG: c.String("png")}
+	if m := c.String("methods"); m != "" {
+		opt.Methods = strings.Split(m, ",")
+	}
+	// Fitted parameters are not stored in the tables: refit the run's
+	// methods on this series (from the manifest's spec and inputs).
+	if params, err := pipeline.SeriesParams(c.Context, c.Args().First(), c.Args().Slice()[1:]); err == nil {
+		opt.Params = params
+	} else {
+		fmt.Fprintf(c.App.ErrWriter, "almanac explain: fitted parameters not shown: %v\n", err)
+	}
+	err := explain.Explain(c.Args().First(), c.Args().Slice()[1:], c.App.Writer, opt)
+	var nf *explain.NotFoundError
+	switch {
+	case errors.As(err, &nf):
+		return &exitError{exitRun, fmt.Errorf("almanac explain: %v", err)}
+	case err != nil:
+		return &exitError{exitSpec, fmt.Errorf("almanac explain: %v", err)}
 	}
 	return nil
 }

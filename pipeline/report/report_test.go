@@ -521,7 +521,7 @@ func TestPreviousRun(t *testing.T) {
 				t.Error("band without opacity")
 			}
 		}
-		if !strings.Contains(d.Desc.Text, "previous run's forecast") || !strings.Contains(d.Desc.Text, "Shaded: 90% intervals") {
+		if !strings.Contains(d.Desc.Text, "previous run's forecast") || !strings.Contains(d.Desc.Text, "Shaded: the 90% interval.") {
 			t.Errorf("B's description: %q", d.Desc.Text)
 		}
 	}
@@ -633,5 +633,60 @@ func TestHistogramOverflow(t *testing.T) {
 	}
 	if !strings.HasPrefix(d.Desc.Text, "41 series scored.") {
 		t.Errorf("desc %q", d.Desc.Text)
+	}
+}
+
+// Scan reads only the columns asked for, and skips the row groups whose
+// key statistics rule the wanted keys out.
+func TestScanFilter(t *testing.T) {
+	dir := gardenRun(t)
+	r, err := runfolder.Open(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	whole, err := r.Table("components")
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := 0
+	for i := 0; i < whole.Rows; i++ {
+		if d, _ := whole.Str("depot", i); d == "brindle" {
+			want++
+		}
+	}
+	count := func(values map[string]bool) (rows, matched int) {
+		err := r.Scan("components", runfolder.ScanFilter{Columns: []string{"depot", "observed"}, KeyColumn: "depot", KeyValues: values}, func(b *runfolder.Table) error {
+			if b.Has("trend") || !b.Has("observed") {
+				t.Error("batch should hold exactly the columns asked for")
+			}
+			rows += b.Rows
+			for i := 0; i < b.Rows; i++ {
+				if d, _ := b.Str("depot", i); d == "brindle" {
+					matched++
+				}
+			}
+			return nil
+		})
+		if err != nil {
+			t.Fatal(err)
+		}
+		return rows, matched
+	}
+	if rows, matched := count(map[string]bool{"brindle": true}); matched != want || rows < want || want == 0 {
+		t.Errorf("brindle: %d rows read, %d matched, want %d", rows, matched, want)
+	}
+	// "zzz" sorts after every depot: no row group can hold it.
+	if rows, _ := count(map[string]bool{"zzz": true}); rows != 0 {
+		t.Errorf("a key outside every row group's range still read %d rows", rows)
+	}
+	if rows, _ := count(nil); rows != whole.Rows {
+		t.Errorf("no filter: %d rows, want %d", rows, whole.Rows)
+	}
+	if err := r.Scan("components", runfolder.ScanFilter{Columns: []string{"no_such"}}, func(*runfolder.Table) error { return nil }); err == nil {
+		t.Error("an unknown column should be an error")
+	}
+	cols, err := r.Columns("forecasts")
+	if err != nil || !slices.Contains(cols, "lower_95") || intervalLevels(cols)[0] != 80 {
+		t.Errorf("forecast columns %v (%v), levels %v", cols, err, intervalLevels(cols))
 	}
 }

@@ -481,7 +481,7 @@ func seriesChart(id string, d *seriesData, levels []int, freq string, maxHist in
 		}
 		desc.WriteString(". ")
 		if lv := drawnLevels(d, levels); len(lv) > 0 {
-			fmt.Fprintf(&desc, "Shaded: %s intervals. ", joinLevels(lv))
+			fmt.Fprintf(&desc, "Shaded: the %s interval%s. ", joinLevels(lv), map[bool]string{true: "s", false: ""}[len(lv) > 1])
 		}
 	} else {
 		desc.WriteString("No forecast. ")
