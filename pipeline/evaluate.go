@@ -1,6 +1,7 @@
 package pipeline
 
 import (
+	"encoding/json"
 	"fmt"
 	"math"
 	"slices"
@@ -418,7 +419,10 @@ func (e *evaluation) intervals(f *methodForecast, scale float64, levels []int, s
 		}
 		return
 	}
-	if e == nil || e.quantiles == nil {
+	if source == "model" || e == nil || e.quantiles == nil {
+		// Model-based intervals only where the method has a variance: an
+		// empirical stand-in would pool errors across the run's series and
+		// make a sharded run differ from a whole one.
 		return
 	}
 	q := e.quantiles[f.label]
@@ -449,11 +453,34 @@ type Leaderboard struct {
 
 // LeaderboardRow is one method's line of the leaderboard.
 type LeaderboardRow struct {
-	Method     string  `json:"method"`
-	Series     int     `json:"series_scored"`
-	MeanMASE   float64 `json:"mean_mase"`
-	MedianMASE float64 `json:"median_mase"`
-	WinShare   float64 `json:"win_share"`
+	Method     string    `json:"method"`
+	Series     int       `json:"series_scored"`
+	MeanMASE   jsonFloat `json:"mean_mase"`
+	MedianMASE jsonFloat `json:"median_mase"`
+	WinShare   float64   `json:"win_share"`
+}
+
+// jsonFloat is a float64 that encodes NaN as null (encoding/json refuses NaN).
+type jsonFloat float64
+
+func (f jsonFloat) MarshalJSON() ([]byte, error) {
+	if math.IsNaN(float64(f)) || math.IsInf(float64(f), 0) {
+		return []byte("null"), nil
+	}
+	return json.Marshal(float64(f))
+}
+
+func (f *jsonFloat) UnmarshalJSON(b []byte) error {
+	if string(b) == "null" {
+		*f = jsonFloat(math.NaN())
+		return nil
+	}
+	var v float64
+	if err := json.Unmarshal(b, &v); err != nil {
+		return err
+	}
+	*f = jsonFloat(v)
+	return nil
 }
 
 // choiceFor is the label a series without a scored entry falls back to, or
@@ -469,18 +496,18 @@ func (e *evaluation) leaderboard(series int) *Leaderboard {
 	lb := &Leaderboard{Metric: e.metric, Chosen: map[string]int{}}
 	for _, l := range e.labels {
 		v := append([]float64(nil), e.mase[l]...)
-		row := LeaderboardRow{Method: l, Series: len(v), MeanMASE: math.NaN(), MedianMASE: math.NaN()}
+		row := LeaderboardRow{Method: l, Series: len(v), MeanMASE: jsonFloat(math.NaN()), MedianMASE: jsonFloat(math.NaN())}
 		if len(v) > 0 {
 			sort.Float64s(v)
 			sum := 0.0
 			for _, x := range v {
 				sum += x
 			}
-			row.MeanMASE = sum / float64(len(v))
+			row.MeanMASE = jsonFloat(sum / float64(len(v)))
 			if len(v)%2 == 1 {
-				row.MedianMASE = v[len(v)/2]
+				row.MedianMASE = jsonFloat(v[len(v)/2])
 			} else {
-				row.MedianMASE = (v[len(v)/2-1] + v[len(v)/2]) / 2
+				row.MedianMASE = jsonFloat((v[len(v)/2-1] + v[len(v)/2]) / 2)
 			}
 		}
 		if series > 0 {

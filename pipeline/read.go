@@ -57,6 +57,9 @@ type rowSet struct {
 	rowCount  int64
 	panelLast int64
 	order     []int32 // key ids in sorted key order, once batched
+
+	// With sharding, only keys of this shard are kept (see ShardOf).
+	shardIndex, shardCount int
 }
 
 func newRowSet() *rowSet {
@@ -74,6 +77,9 @@ func (r *rowSet) internKey(parts []string) int32 {
 	if id, ok := r.keyIndex[string(r.keyBuf)]; ok {
 		return id
 	}
+	if r.shardCount > 1 && int(ShardOf(r.keyBuf, r.shardCount)) != r.shardIndex {
+		return -1
+	}
 	id := int32(len(r.keys))
 	r.keyIndex[string(r.keyBuf)] = id
 	r.keys = append(r.keys, append([]string(nil), parts...))
@@ -82,6 +88,10 @@ func (r *rowSet) internKey(parts []string) int32 {
 }
 
 func (r *rowSet) add(key int32, period int64, value float64, file int32, line int64) {
+	if key < 0 { // another shard's series: it still marks the panel's end
+		r.panelLast = max(r.panelLast, period)
+		return
+	}
 	r.rowCount++
 	r.keyRows[key]++
 	r.panelLast = max(r.panelLast, period)
@@ -189,10 +199,13 @@ func relTo(dir, path string) string {
 }
 
 // readInputs reads every input file into one rowSet.
-func readInputs(ctx context.Context, s *spec.Spec, files []InputFile, cal calendar, batchRows int64) (*rowSet, error) {
+func readInputs(ctx context.Context, s *spec.Spec, files []InputFile, cal calendar, batchRows int64, shard ...Shard) (*rowSet, error) {
 	rs := newRowSet()
 	rs.files_ = files
 	rs.batchRows = batchRows
+	if len(shard) > 0 {
+		rs.shardIndex, rs.shardCount = shard[0].Index, shard[0].Count
+	}
 	for i := range files {
 		if err := ctx.Err(); err != nil {
 			return nil, err

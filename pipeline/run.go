@@ -43,6 +43,15 @@ type Options struct {
 	// DefaultBatchRows); larger inputs are spilled to a temporary folder
 	// and processed in key-range batches.
 	BatchRows int64
+	// Shard, when Count > 1, runs only this shard's series and writes its
+	// part files into the dataset folder (see commitShard and Combine).
+	Shard Shard
+
+	// Finish, when set, runs once the tables, manifest and lineage are
+	// staged and before the run folder is committed, with the staging
+	// folder and the target (which still holds the previous run, if any);
+	// an error fails the run. The CLI writes the HTML report here.
+	Finish func(staging, target string) error
 
 	// beforeCommit, when set, runs after every table is written and before
 	// the run folder is committed; tests use it to inject a failure.
@@ -168,7 +177,15 @@ func Run(ctx context.Context, s *spec.Spec, opts Options) (*Summary, error) {
 	if err != nil {
 		return nil, err
 	}
-	if err := checkTarget(target, files); err != nil {
+	sharded := opts.Shard.Count > 1
+	if sharded {
+		if opts.Shard.Index < 0 || opts.Shard.Index >= opts.Shard.Count {
+			return nil, fmt.Errorf("shard index %d is outside 0…%d", opts.Shard.Index, opts.Shard.Count-1)
+		}
+		if err := prepareDataset(target, files); err != nil {
+			return nil, err
+		}
+	} else if err := checkTarget(target, files); err != nil {
 		return nil, err
 	}
 	clock.lap("plan")
@@ -177,7 +194,7 @@ func Run(ctx context.Context, s *spec.Spec, opts Options) (*Summary, error) {
 	if batchRows <= 0 {
 		batchRows = DefaultBatchRows
 	}
-	rs, err := readInputs(ctx, s, files, cal, batchRows)
+	rs, err := readInputs(ctx, s, files, cal, batchRows, opts.Shard)
 	if err != nil {
 		return nil, err
 	}
@@ -224,7 +241,17 @@ func Run(ctx context.Context, s *spec.Spec, opts Options) (*Summary, error) {
 	}
 	clock.lap("shape")
 
-	staging, err := makeStaging(target)
+	var staging string
+	if sharded {
+		// A killed earlier run of this shard may have left its staging.
+		stale, _ := filepath.Glob(filepath.Join(target, tmpPrefix+shardName(opts.Shard.Index)+"-*"))
+		for _, d := range stale {
+			os.RemoveAll(d)
+		}
+		staging, err = os.MkdirTemp(target, tmpPrefix+shardName(opts.Shard.Index)+"-")
+	} else {
+		staging, err = makeStaging(target)
+	}
 	if err != nil {
 		return nil, err
 	}
@@ -336,6 +363,9 @@ func Run(ctx context.Context, s *spec.Spec, opts Options) (*Summary, error) {
 	if work.eval != nil {
 		man.Leaderboard = work.eval.leaderboard(w.series)
 	}
+	if sharded {
+		man.Shard = &ShardInfo{Index: opts.Shard.Index, Count: opts.Shard.Count}
+	}
 	for _, m := range methods {
 		man.Methods = append(man.Methods, ManifestMethod{Label: m.spec.Label, Method: m.spec.Method, Options: m.spec.Options,
 			Series: w.methodSeries[m.spec.Label]})
@@ -360,8 +390,24 @@ func Run(ctx context.Context, s *spec.Spec, opts Options) (*Summary, error) {
 	if err := writeManifest(filepath.Join(staging, "manifest.json"), man); err != nil {
 		return nil, err
 	}
+	if sharded {
+		var names []string
+		for _, t := range man.Tables {
+			names = append(names, t.Name)
+		}
+		if err := commitShard(staging, target, opts.Shard, names); err != nil {
+			return nil, err
+		}
+		committed = true
+		return &Summary{Dir: target, Manifest: man}, nil
+	}
 	if err := writeLineage(filepath.Join(staging, LineageFile), man, target); err != nil {
 		return nil, err
+	}
+	if opts.Finish != nil {
+		if err := opts.Finish(staging, target); err != nil {
+			return nil, err
+		}
 	}
 	stallPoint("commit")
 	if err := commitStaging(staging, target); err != nil {
@@ -864,6 +910,7 @@ type Manifest struct {
 	Tables        []TableInfo      `json:"tables"`
 	Problems      ProblemCounts    `json:"problems"`
 	Leaderboard   *Leaderboard     `json:"leaderboard,omitempty"`
+	Shard         *ShardInfo       `json:"shard,omitempty"`
 	Workers       int              `json:"workers"`
 	Stages        []StageTiming    `json:"stages"`
 	StartedAt     string           `json:"started_at"`

@@ -24,6 +24,12 @@ type canonicalSpec struct {
 	Backtest      *canonicalBacktest  `json:"backtest,omitempty"`
 	Selection     *canonicalSelect    `json:"selection,omitempty"`
 	Intervals     *canonicalIntervals `json:"intervals,omitempty"`
+	Report        *canonicalReport    `json:"report,omitempty"`
+}
+
+type canonicalReport struct {
+	Series []string `json:"series"`
+	Picks  int      `json:"picks"`
 }
 
 type canonicalBacktest struct {
@@ -117,6 +123,12 @@ func (s *Spec) Canonical() []byte {
 	}
 	if len(s.Intervals.Levels) > 0 {
 		c.Intervals = &canonicalIntervals{Levels: s.Intervals.Levels, Source: s.Intervals.Source, AllMethods: s.Intervals.AllMethods}
+	}
+	if r := s.Report; r != nil {
+		c.Report = &canonicalReport{Series: r.Series, Picks: r.Picks}
+		if c.Report.Series == nil {
+			c.Report.Series = []string{}
+		}
 	}
 	if c.Columns.Keys == nil {
 		c.Columns.Keys = []string{}

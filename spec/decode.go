@@ -387,6 +387,34 @@ func (d *decoder) spec(root *yaml.Node) *Spec {
 			intervalsNode = n
 			d.intervals(n, p, &s.Intervals)
 		}},
+		{"report", false, func(n *yaml.Node, p string) {
+			r := &Report{Picks: 6}
+			d.mapping(n, p, "report", []field{
+				{"series", false, func(n *yaml.Node, p string) {
+					n = d.resolve(n)
+					if n == nil {
+						return
+					}
+					if n.Kind != yaml.SequenceNode {
+						d.errAt(n, p, "expected a list of series keys (key values joined by \" / \")")
+						return
+					}
+					for i, item := range n.Content {
+						var k string
+						d.str(item, fmt.Sprintf("%s[%d]", p, i), "a series key", &k)
+						if k != "" {
+							r.Series = append(r.Series, k)
+						}
+					}
+				}},
+				{"picks", false, func(n *yaml.Node, p string) {
+					if d.integer(n, p, "how many series to pick automatically", &r.Picks) && (r.Picks < 0 || r.Picks > 100) {
+						d.errAt(n, p, "picks must be between 0 and 100, found %d", r.Picks)
+					}
+				}},
+			})
+			s.Report = r
+		}},
 		{"limits", false, func(n *yaml.Node, p string) {
 			d.mapping(n, p, "limits", []field{
 				{"max_series", false, func(n *yaml.Node, p string) {

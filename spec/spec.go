@@ -27,6 +27,7 @@ type Spec struct {
 	Backtest      Backtest  // Folds == 0: no backtest
 	Selection     Selection // used when there is a backtest
 	Intervals     Intervals // no Levels: no intervals
+	Report        *Report   // nil: no HTML report
 
 	// File is the path the spec was loaded from, Dir its folder. Neither is
 	// part of the canonical form.
@@ -189,6 +190,14 @@ type Limits struct {
 // DefaultLimits: ten million series, and 100,000 periods (about 270 years
 // of days).
 var DefaultLimits = Limits{MaxSeries: 10_000_000, MaxPeriods: 100_000}
+
+// Report asks for report.html beside the tables: a self-contained page
+// with the leaderboard, the distribution of scores, the worst and most
+// changed series, and a chart per listed series.
+type Report struct {
+	Series []string // keys to chart, the key columns' values joined by " / "
+	Picks  int      // worst-scoring (and most-changed) series added automatically; default 6
+}
 
 // DefaultOutputRoot is where the run folder goes when the spec names none:
 // runs/<name> beside the spec.

@@ -14,8 +14,10 @@ import (
 	"math"
 	"os"
 	"os/signal"
+	"path/filepath"
 	"runtime"
 	"runtime/pprof"
+	"strconv"
 	"strings"
 	"syscall"
 	"time"
@@ -26,6 +28,7 @@ import (
 
 	"almanac/pipeline"
 	"almanac/pipeline/explain"
+	"almanac/pipeline/report"
 	"almanac/pipeline/rundiff"
 	"almanac/pipeline/synth"
 	"almanac/spec"
@@ -176,6 +179,12 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 				Action: panelCmd,
 			},
 			{
+				Name:      "combine",
+				Usage:     "check that every shard of a sharded run is present and complete, and write the dataset's combined manifest",
+				ArgsUsage: "DATASET_DIR",
+				Action:    combineCmd,
+			},
+			{
 				Name:      "verify",
 				Usage:     "rerun a stored run from its manifest and compare every table byte for byte (exit 0 identical, 1 differs, 2 inputs changed or missing)",
 				ArgsUsage: "RUN_DIR",
@@ -192,6 +201,8 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 					outFlag(),
 					&cli.IntFlag{Name: "workers", Aliases: []string{"w"}, Value: runtime.NumCPU(), Usage: "series processed in parallel"},
 					&cli.BoolFlag{Name: "quiet", Aliases: []string{"q"}, Usage: "no progress output"},
+					&cli.IntFlag{Name: "shard-count", Usage: "split the run into this many shards by a stable hash of each series' key; this process does one"},
+					&cli.IntFlag{Name: "shard-index", Value: -1, Usage: "the shard this process does, 0-based (default: $JOB_COMPLETION_INDEX, as Kubernetes Indexed Jobs set it)"},
 					&cli.Int64Flag{Name: "batch-rows", Value: pipeline.DefaultBatchRows, Usage: "input rows held in memory at once; larger inputs are spilled to a temporary folder and processed in key-range batches"},
 					&cli.StringFlag{Name: "cpuprofile", Usage: "write a CPU profile (pprof) of the run to this file"},
 				},
@@ -285,12 +296,40 @@ func runCmd(c *cli.Context) error {
 		return &exitError{exitSpec, fmt.Errorf("almanac run: --workers must be at least 1, got %d", workers)}
 	}
 	opts := pipeline.Options{Out: c.String("out"), Workers: workers, BatchRows: c.Int64("batch-rows")}
+	if n := c.Int("shard-count"); n > 1 {
+		idx := c.Int("shard-index")
+		if idx < 0 {
+			env := os.Getenv("JOB_COMPLETION_INDEX")
+			v, err := strconv.Atoi(env)
+			if err != nil {
+				return &exitError{exitSpec, fmt.Errorf("almanac run: --shard-count %d needs --shard-index or JOB_COMPLETION_INDEX (found %q)", n, env)}
+			}
+			idx = v
+		}
+		if idx < 0 || idx >= n {
+			return &exitError{exitSpec, fmt.Errorf("almanac run: shard index %d is outside 0…%d", idx, n-1)}
+		}
+		opts.Shard = pipeline.Shard{Index: idx, Count: n}
+	}
 	if !c.Bool("quiet") {
 		if f, ok := c.App.ErrWriter.(*os.File); ok && term.IsTerminal(int(f.Fd())) {
 			opts.Progress = &barProgress{out: f}
 		} else {
 			opts.Progress = &lineProgress{out: c.App.ErrWriter}
 			opts.Log = c.App.ErrWriter
+		}
+	}
+	if r := s.Report; r != nil {
+		opts.Finish = func(staging, target string) error {
+			prev := ""
+			if _, err := os.Stat(filepath.Join(target, "manifest.json")); err == nil {
+				prev = target
+			}
+			picks := r.Picks
+			if picks == 0 {
+				picks = -1
+			}
+			return report.Write(staging, report.Options{Series: r.Series, Picks: picks, Previous: prev})
 		}
 	}
 	if p := c.String("cpuprofile"); p != "" {
@@ -387,6 +426,16 @@ func panelCmd(c *cli.Context) error {
 	return nil
 }
 
+func combineCmd(c *cli.Context) error {
+	if c.NArg() != 1 {
+		return &exitError{exitSpec, fmt.Errorf("almanac combine: expected one DATASET_DIR argument, got %d", c.NArg())}
+	}
+	if _, err := pipeline.Combine(c.Args().First(), c.App.Writer); err != nil {
+		return &exitError{exitRun, fmt.Errorf("almanac combine: %v", err)}
+	}
+	return nil
+}
+
 func verifyCmd(c *cli.Context) error {
 	if c.NArg() != 1 {
 		return &exitError{exitSpec, fmt.Errorf("almanac verify: expected one RUN_DIR argument, got %d", c.NArg())}
@@ -417,7 +466,7 @@ func printSummary(w io.Writer, sum *pipeline.Summary) {
 		fmt.Fprintf(w, "\nbacktest leaderboard (mean MASE per series over the folds; chosen by %s):\n", lb.Metric)
 		fmt.Fprintf(w, "  %-28s %8s %10s %12s %8s\n", "method", "series", "mean MASE", "median MASE", "won")
 		for _, r := range lb.Entries {
-			fmt.Fprintf(w, "  %-28s %8d %10s %12s %7.1f%%\n", r.Method, r.Series, num(r.MeanMASE), num(r.MedianMASE), 100*r.WinShare)
+			fmt.Fprintf(w, "  %-28s %8d %10s %12s %7.1f%%\n", r.Method, r.Series, num(float64(r.MeanMASE)), num(float64(r.MedianMASE)), 100*r.WinShare)
 		}
 		if lb.NoScore > 0 {
 			fmt.Fprintf(w, "  %d series could not be backtested and fell back to %s (see choices.parquet)\n", lb.NoScore, lb.Fallback)
