@@ -329,6 +329,9 @@ func Run(ctx context.Context, s *spec.Spec, opts Options) (*Summary, error) {
 		}
 		if i == nSeries/2 {
 			stallPoint("forecast")
+			if midRunHook != nil {
+				midRunHook()
+			}
 		}
 		return w.write(res.(*seriesResult), cal)
 	})
@@ -430,6 +433,9 @@ func stallPoint(name string) {
 	fmt.Fprintf(os.Stderr, "almanac: stalled at %s\n", name)
 	select {}
 }
+
+// midRunHook, when set (by tests), runs halfway through the final pass.
+var midRunHook func()
 
 // forEachOrdered runs work(i) for i in [0, n) on the given number of
 // goroutines and calls emit(i, result) in index order from the calling

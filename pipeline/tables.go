@@ -29,7 +29,7 @@ const (
 // Parquet writer; rowGroupRows is the largest row group written.
 const (
 	flushRows    = 64 * 1024
-	rowGroupRows = 1 << 20
+	rowGroupRows = 128 * 1024
 )
 
 // colKind is the type of a fixed (non-key) column.
