@@ -16,6 +16,7 @@ import (
 	"os/signal"
 	"path/filepath"
 	"runtime"
+	"runtime/debug"
 	"runtime/pprof"
 	"strconv"
 	"strings"
@@ -204,6 +205,7 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 					&cli.IntFlag{Name: "shard-count", Usage: "split the run into this many shards by a stable hash of each series' key; this process does one"},
 					&cli.IntFlag{Name: "shard-index", Value: -1, Usage: "the shard this process does, 0-based (default: $JOB_COMPLETION_INDEX, as Kubernetes Indexed Jobs set it)"},
 					&cli.Int64Flag{Name: "batch-rows", Value: pipeline.DefaultBatchRows, Usage: "input rows held in memory at once; larger inputs are spilled to a temporary folder and processed in key-range batches"},
+					&cli.StringFlag{Name: "memory-limit", Value: "3GiB", Usage: "soft memory limit for the Go runtime (e.g. 3GiB, 800MiB; 0 for none); the environment's GOMEMLIMIT wins when set"},
 					&cli.StringFlag{Name: "cpuprofile", Usage: "write a CPU profile (pprof) of the run to this file"},
 				},
 				Action: runCmd,
@@ -330,6 +332,17 @@ func runCmd(c *cli.Context) error {
 				picks = -1
 			}
 			return report.Write(staging, report.Options{Series: r.Series, Picks: picks, Previous: prev})
+		}
+	}
+	if os.Getenv("GOMEMLIMIT") == "" {
+		limit, err := parseBytes(c.String("memory-limit"))
+		if err != nil {
+			return &exitError{exitSpec, fmt.Errorf("almanac run: --memory-limit: %v", err)}
+		}
+		if limit > 0 {
+			// A soft limit: the garbage collector works harder as the heap
+			// nears it, instead of letting the heap double past what is live.
+			debug.SetMemoryLimit(limit)
 		}
 	}
 	if p := c.String("cpuprofile"); p != "" {
@@ -478,6 +491,29 @@ func printSummary(w io.Writer, sum *pipeline.Summary) {
 		fmt.Fprintf(w, " — see problems.parquet")
 	}
 	fmt.Fprintf(w, "\ntables:   %s\n", sum.Dir)
+}
+
+// parseBytes reads sizes such as 3GiB, 800MiB, 512MB or a plain byte count.
+func parseBytes(s string) (int64, error) {
+	s = strings.TrimSpace(s)
+	units := []struct {
+		suffix string
+		mult   int64
+	}{{"GiB", 1 << 30}, {"MiB", 1 << 20}, {"KiB", 1 << 10}, {"GB", 1e9}, {"MB", 1e6}, {"KB", 1e3}, {"B", 1}}
+	for _, u := range units {
+		if strings.HasSuffix(s, u.suffix) {
+			v, err := strconv.ParseFloat(strings.TrimSpace(strings.TrimSuffix(s, u.suffix)), 64)
+			if err != nil || v < 0 {
+				return 0, fmt.Errorf("%q is not a size such as 3GiB", s)
+			}
+			return int64(v * float64(u.mult)), nil
+		}
+	}
+	v, err := strconv.ParseInt(s, 10, 64)
+	if err != nil || v < 0 {
+		return 0, fmt.Errorf("%q is not a size such as 3GiB", s)
+	}
+	return v, nil
 }
 
 func num(v float64) string {

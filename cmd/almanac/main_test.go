@@ -176,3 +176,17 @@ func TestExamplesRun(t *testing.T) {
 		}
 	}
 }
+
+func TestParseBytes(t *testing.T) {
+	for in, want := range map[string]int64{"3GiB": 3 << 30, "800MiB": 800 << 20, "1.5GiB": 3 << 29, "512MB": 512e6, "0": 0, "4096": 4096} {
+		got, err := parseBytes(in)
+		if err != nil || got != want {
+			t.Errorf("parseBytes(%q) = %d, %v; want %d", in, got, err, want)
+		}
+	}
+	for _, bad := range []string{"", "lots", "-1GiB", "3 furlongs"} {
+		if _, err := parseBytes(bad); err == nil {
+			t.Errorf("parseBytes(%q) accepted", bad)
+		}
+	}
+}
