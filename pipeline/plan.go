@@ -8,6 +8,7 @@ import (
 	"sort"
 	"strings"
 
+	"almanac/pipeline/runfolder"
 	"almanac/spec"
 )
 
@@ -44,19 +45,8 @@ func MakePlan(ctx context.Context, s *spec.Spec, opts Options) (*Plan, error) {
 		return nil, err
 	}
 	cal := calendar{freq: s.Calendar.Frequency, season: s.Calendar.SeasonLength}
-	batchRows := opts.BatchRows
-	if batchRows <= 0 {
-		batchRows = DefaultBatchRows
-	}
-	rs, err := readInputs(ctx, s, files, cal, batchRows)
+	rs, src, err := openBatches(ctx, s, files, cal, opts)
 	if err != nil {
-		return nil, err
-	}
-	src, err := newBatchSource(rs, batchRows, func(b *rowSet) ([]*Series, error) {
-		return shapeRows(b, s.Shaping, s.Limits, cal, s.Columns.Keys)
-	})
-	if err != nil {
-		rs.spill.close()
 		return nil, err
 	}
 	defer src.close()
@@ -92,7 +82,7 @@ func (p *Plan) Print(w io.Writer) {
 	fmt.Fprintf(w, "output   %s\n\n", p.Out)
 	fmt.Fprintf(w, "1. read      %d file(s), %d rows\n", len(p.Inputs), p.Rows)
 	for _, f := range p.Inputs {
-		fmt.Fprintf(w, "               %s  (%s, %s)\n", f.Path, f.Format, humanBytes(f.Size))
+		fmt.Fprintf(w, "               %s  (%s, %s)\n", f.Path, f.Format, runfolder.HumanBytes(f.Size))
 	}
 	fmt.Fprintf(w, "             columns: time %q, value %q, keys %s\n", s.Columns.Time, s.Columns.Value, listOrNone(s.Columns.Keys))
 	fmt.Fprintf(w, "2. shape     %s periods, season length %d; rows in one period: %s; missing periods: %s; series end at the %s end\n",
@@ -147,16 +137,4 @@ func listOrNone(xs []string) string {
 		q[i] = fmt.Sprintf("%q", x)
 	}
 	return strings.Join(q, ", ")
-}
-
-func humanBytes(n int64) string {
-	switch {
-	case n >= 1<<30:
-		return fmt.Sprintf("%.1f GiB", float64(n)/(1<<30))
-	case n >= 1<<20:
-		return fmt.Sprintf("%.1f MiB", float64(n)/(1<<20))
-	case n >= 1<<10:
-		return fmt.Sprintf("%.1f KiB", float64(n)/(1<<10))
-	}
-	return fmt.Sprintf("%d B", n)
 }

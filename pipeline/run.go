@@ -190,33 +190,18 @@ func Run(ctx context.Context, s *spec.Spec, opts Options) (*Summary, error) {
 	}
 	clock.lap("plan")
 
-	batchRows := opts.BatchRows
-	if batchRows <= 0 {
-		batchRows = DefaultBatchRows
-	}
-	rs, err := readInputs(ctx, s, files, cal, batchRows, opts.Shard)
+	rs, src, err := openBatches(ctx, s, files, cal, opts)
 	if err != nil {
 		return nil, err
 	}
 	logf("read %d rows from %d file(s)", rs.rowCount, len(files))
 	clock.lap("read")
 	stallPoint("read")
-	if n := len(rs.keys); n > s.Limits.MaxSeries {
-		rs.spill.close()
-		return nil, fmt.Errorf("the input holds %d series; limits.max_series is %d (raise it in the spec if this is right)", n, s.Limits.MaxSeries)
-	}
-	src, err := newBatchSource(rs, batchRows, func(b *rowSet) ([]*Series, error) {
-		return shapeRows(b, s.Shaping, s.Limits, cal, s.Columns.Keys)
-	})
-	if err != nil {
-		rs.spill.close()
-		return nil, err
-	}
 	defer src.close()
 	nSeries := len(rs.keys)
 	rowsRead, missing, keyBlanks, notes := rs.rowCount, rs.missing, rs.keyBlanks, rs.notes
 	if src.batches() > 1 {
-		logf("%d series in %d batches of about %d rows", nSeries, src.batches(), batchRows)
+		logf("%d series in %d batches", nSeries, src.batches())
 	}
 	// forEachSeries runs one pass over every series, batch by batch, with
 	// global series indexes.
@@ -432,6 +417,31 @@ func stallPoint(name string) {
 	}
 	fmt.Fprintf(os.Stderr, "almanac: stalled at %s\n", name)
 	select {}
+}
+
+// openBatches reads the inputs (spilling past the batch size), checks the
+// series limit and lays out the key-range batches that plan and run walk.
+func openBatches(ctx context.Context, s *spec.Spec, files []InputFile, cal calendar, opts Options) (*rowSet, *batchSource, error) {
+	batchRows := opts.BatchRows
+	if batchRows <= 0 {
+		batchRows = DefaultBatchRows
+	}
+	rs, err := readInputs(ctx, s, files, cal, batchRows, opts.Shard)
+	if err != nil {
+		return nil, nil, err
+	}
+	if n := len(rs.keys); n > s.Limits.MaxSeries {
+		rs.spill.close()
+		return nil, nil, fmt.Errorf("the input holds %d series; limits.max_series is %d (raise it in the spec if this is right)", n, s.Limits.MaxSeries)
+	}
+	src, err := newBatchSource(rs, batchRows, func(b *rowSet) ([]*Series, error) {
+		return shapeRows(b, s.Shaping, s.Limits, cal, s.Columns.Keys)
+	})
+	if err != nil {
+		rs.spill.close()
+		return nil, nil, err
+	}
+	return rs, src, nil
 }
 
 // midRunHook, when set (by tests), runs halfway through the final pass.

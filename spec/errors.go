@@ -78,7 +78,7 @@ func (l ErrorList) Pretty(src []byte) string {
 func suggest(s string, candidates []string) string {
 	best, bestD := "", 1<<30
 	for _, c := range candidates {
-		d := editDistance(strings.ToLower(s), strings.ToLower(c))
+		d := EditDistance(strings.ToLower(s), strings.ToLower(c))
 		if d < bestD {
 			best, bestD = c, d
 		}
@@ -93,8 +93,9 @@ func suggest(s string, candidates []string) string {
 	return ""
 }
 
-// editDistance is the Levenshtein distance between a and b.
-func editDistance(a, b string) int {
+// EditDistance is the Levenshtein distance between a and b, by rune. The
+// "did you mean" suggestions of the spec and the CLI use it.
+func EditDistance(a, b string) int {
 	ra, rb := []rune(a), []rune(b)
 	prev := make([]int, len(rb)+1)
 	cur := make([]int, len(rb)+1)

@@ -15,6 +15,7 @@
 package explain
 
 import (
+	"almanac/spec"
 	"fmt"
 	"io"
 	"math"
@@ -484,7 +485,7 @@ func nearest(key []string, all [][]string, n int) [][]string {
 	for _, k := range all {
 		d, same := 0, 0
 		for i := range key {
-			d += editDistance(strings.ToLower(key[i]), strings.ToLower(k[i]))
+			d += spec.EditDistance(strings.ToLower(key[i]), strings.ToLower(k[i]))
 			if key[i] == k[i] {
 				same++
 			}
@@ -499,26 +500,4 @@ func nearest(key []string, all [][]string, n int) [][]string {
 		out = append(out, cs[i].k)
 	}
 	return out
-}
-
-// editDistance is the Levenshtein distance between a and b, by rune.
-func editDistance(a, b string) int {
-	ra, rb := []rune(a), []rune(b)
-	prev := make([]int, len(rb)+1)
-	cur := make([]int, len(rb)+1)
-	for j := range prev {
-		prev[j] = j
-	}
-	for i := 1; i <= len(ra); i++ {
-		cur[0] = i
-		for j := 1; j <= len(rb); j++ {
-			cost := 1
-			if ra[i-1] == rb[j-1] {
-				cost = 0
-			}
-			cur[j] = min(prev[j]+1, cur[j-1]+1, prev[j-1]+cost)
-		}
-		prev, cur = cur, prev
-	}
-	return prev[len(rb)]
 }

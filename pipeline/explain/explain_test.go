@@ -1089,8 +1089,8 @@ func TestEditDistance(t *testing.T) {
 		a, b string
 		d    int
 	}{{"", "", 0}, {"widget", "widgt", 1}, {"kitten", "sitting", 3}, {"ünï", "uni", 2}, {"abc", "", 3}} {
-		if got := editDistance(c.a, c.b); got != c.d {
-			t.Errorf("editDistance(%q, %q) = %d, want %d", c.a, c.b, got, c.d)
+		if got := spec.EditDistance(c.a, c.b); got != c.d {
+			t.Errorf("spec.EditDistance(%q, %q) = %d, want %d", c.a, c.b, got, c.d)
 		}
 	}
 }

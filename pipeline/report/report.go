@@ -12,6 +12,8 @@ import (
 	"path/filepath"
 	"sort"
 	"strings"
+
+	"almanac/pipeline/runfolder"
 )
 
 // FileName is the report's file name inside the run folder.
@@ -221,18 +223,6 @@ func shortTime(rfc string) string {
 	return s
 }
 
-func humanBytes(n int64) string {
-	switch {
-	case n >= 1<<30:
-		return fmt.Sprintf("%.1f GiB", float64(n)/(1<<30))
-	case n >= 1<<20:
-		return fmt.Sprintf("%.1f MiB", float64(n)/(1<<20))
-	case n >= 1<<10:
-		return fmt.Sprintf("%.1f KiB", float64(n)/(1<<10))
-	}
-	return fmt.Sprintf("%d B", n)
-}
-
 func (m *model) renderSummary(p *page) {
 	man := &m.run.Manifest
 	p.f("<section id=\"summary\">\n<h2>%s</h2>\n<dl class=\"facts\">\n", HeadSummary)
@@ -297,7 +287,7 @@ func (m *model) renderSummary(p *page) {
 		p.f("<table class=\"inputs\">\n<caption class=\"note\" style=\"text-align:left\">Inputs</caption>\n<thead><tr><th>path</th><th>format</th><th class=\"num\">rows</th><th class=\"num\">size</th><th>SHA-256</th></tr></thead>\n<tbody>\n")
 		for _, in := range man.Inputs {
 			p.f("<tr><td><code>%s</code></td><td>%s</td><td class=\"num\">%s</td><td class=\"num\">%s</td><td><code title=\"%s\">%s…</code></td></tr>\n",
-				esc(in.Path), esc(in.Format), fmtNum(float64(in.Rows), 0), humanBytes(in.Size), esc(in.SHA256), esc(prefix(in.SHA256, 12)))
+				esc(in.Path), esc(in.Format), fmtNum(float64(in.Rows), 0), runfolder.HumanBytes(in.Size), esc(in.SHA256), esc(prefix(in.SHA256, 12)))
 		}
 		p.f("</tbody>\n</table>\n")
 	}
