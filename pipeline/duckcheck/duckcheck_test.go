@@ -728,9 +728,9 @@ var columns = map[string][][2]string{
 	"accuracy": {
 		{"method", "VARCHAR"}, {"fold", "INTEGER"}, {"origin", "DATE"}, {"train_start", "DATE"},
 		{"train_periods", "INTEGER"}, {"test_periods", "INTEGER"},
-		{"mae", "DOUBLE"}, {"rmse", "DOUBLE"}, {"mape", "DOUBLE"}, {"smape", "DOUBLE"}, {"mase", "DOUBLE"},
-		{"rmsse", "DOUBLE"}, {"wape", "DOUBLE"}, {"bias", "DOUBLE"},
-		{"mape_zeros", "INTEGER"}, {"status", "VARCHAR"},
+		{"mae", "DOUBLE"}, {"rmse", "DOUBLE"}, {"mape", "DOUBLE"}, {"mape_zeros", "INTEGER"},
+		{"smape", "DOUBLE"}, {"mase", "DOUBLE"}, {"rmsse", "DOUBLE"}, {"wape", "DOUBLE"}, {"bias", "DOUBLE"},
+		{"status", "VARCHAR"},
 	},
 	"choices": {
 		{"chosen", "VARCHAR"}, {"metric", "VARCHAR"}, {"score", "DOUBLE"}, {"runner_up", "VARCHAR"}, {"runner_up_score", "DOUBLE"},
