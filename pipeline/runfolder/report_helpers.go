@@ -7,7 +7,6 @@ package runfolder
 
 import (
 	"context"
-	"encoding/json"
 	"fmt"
 	"os"
 	"path/filepath"
@@ -32,15 +31,7 @@ func OpenStaged(dir string) (*Run, error) {
 	if err1 != nil && err2 != nil {
 		return nil, fmt.Errorf("%s is not an almanac run folder (no %s)", dir, Marker)
 	}
-	raw, err := os.ReadFile(filepath.Join(dir, "manifest.json"))
-	if err != nil {
-		return nil, err
-	}
-	r := &Run{Dir: dir, Raw: raw}
-	if err := json.Unmarshal(raw, &r.Manifest); err != nil {
-		return nil, fmt.Errorf("%s: %v", filepath.Join(dir, "manifest.json"), err)
-	}
-	return r, nil
+	return readRun(dir)
 }
 
 // Columns lists the named table's columns, in file order, reading only

@@ -99,6 +99,11 @@ func Open(dir string) (*Run, error) {
 	if _, err := os.Stat(filepath.Join(dir, Marker)); err != nil {
 		return nil, fmt.Errorf("%s is not an almanac run folder (no %s)", dir, Marker)
 	}
+	return readRun(dir)
+}
+
+// readRun reads dir's manifest.json into a Run.
+func readRun(dir string) (*Run, error) {
 	raw, err := os.ReadFile(filepath.Join(dir, "manifest.json"))
 	if err != nil {
 		return nil, err
