@@ -1,0 +1,298 @@
+package main
+
+import (
+	"fmt"
+	"math"
+	"sort"
+	"strings"
+
+	"almanac/engines"
+	"almanac/pipeline/bench/m1/m1data"
+)
+
+// deseasonalized wraps a method: when the seasonality test (90%, at least
+// three seasons) says seasonal, the series is divided by its classical
+// multiplicative factors, the method forecasts the adjusted series, and
+// the forecasts are multiplied back (the M4 practice for SES, Holt and
+// damped Holt).
+type deseasonalized struct{ inner engines.Method }
+
+func (d deseasonalized) Name() string { return "ds_" + d.inner.Name() }
+
+type reseasoned struct {
+	f       engines.Fitted
+	factors []float64
+	n       int
+}
+
+func (r reseasoned) Forecast(h int) []float64 {
+	fc := r.f.Forecast(h)
+	for i := range fc {
+		fc[i] *= r.factors[(r.n+i)%len(r.factors)]
+	}
+	return fc
+}
+
+func (d deseasonalized) Fit(y []float64, m int) (engines.Fitted, error) {
+	if m < 2 || len(y) < 3*m {
+		return d.inner.Fit(y, m)
+	}
+	if _, ok := engines.SeasonalityTest(y, m); !ok {
+		return d.inner.Fit(y, m)
+	}
+	for _, v := range y {
+		if !(v > 0) {
+			return d.inner.Fit(y, m)
+		}
+	}
+	f := m1data.SeasonalIndices(y, m)
+	x := make([]float64, len(y))
+	for i, v := range y {
+		x[i] = v / f[i%m]
+	}
+	inner, err := d.inner.Fit(x, m)
+	if err != nil {
+		return nil, err
+	}
+	return reseasoned{inner, f, len(y)}, nil
+}
+
+type rule struct {
+	name string
+	fc   func(r *result) []float64
+}
+
+func evaluate(res []*result, labels []string) {
+	idx := map[string]int{}
+	for i, l := range labels {
+		idx[l] = i
+	}
+	has := func(l string) bool { _, ok := idx[l]; return ok }
+	member := func(r *result, l string) ([]float64, [][]float64) {
+		i, ok := idx[l]
+		if !ok {
+			return nil, nil
+		}
+		return r.full[i], r.fold[i]
+	}
+	// pool members that apply to r: seasonal-only ones need m ≥ 2.
+	poolOf := func(r *result, pool []string) []string {
+		var out []string
+		for _, l := range pool {
+			if f, _ := member(r, l); f != nil {
+				out = append(out, l)
+			}
+		}
+		return out
+	}
+	fixed := func(kind string, pool []string) func(*result) []float64 {
+		return func(r *result) []float64 {
+			var fcs [][]float64
+			for _, l := range poolOf(r, pool) {
+				f, _ := member(r, l)
+				fcs = append(fcs, f)
+			}
+			return combine(kind, fcs)
+		}
+	}
+	foldCombo := func(r *result, kind string, ls []string) [][]float64 {
+		out := make([][]float64, len(r.actual))
+		for k := range r.actual {
+			var fcs [][]float64
+			for _, l := range ls {
+				_, fo := member(r, l)
+				if fo == nil || fo[k] == nil {
+					continue
+				}
+				fcs = append(fcs, fo[k])
+			}
+			out[k] = combine(kind, fcs)
+		}
+		return out
+	}
+	ranked := func(r *result, pool []string) []string {
+		ls := poolOf(r, pool)
+		sc := map[string]float64{}
+		for _, l := range ls {
+			_, fo := member(r, l)
+			sc[l] = foldMASE(r, fo)
+			if math.IsNaN(sc[l]) {
+				sc[l] = math.Inf(1)
+			}
+		}
+		sort.SliceStable(ls, func(a, b int) bool { return sc[ls[a]] < sc[ls[b]] })
+		return ls
+	}
+	topK := func(kind string, pool []string, k int) func(*result) []float64 {
+		return func(r *result) []float64 {
+			if len(r.actual) == 0 {
+				return fixed(kind, pool)(r)
+			}
+			ls := ranked(r, pool)
+			if len(ls) > k {
+				ls = ls[:k]
+			}
+			var fcs [][]float64
+			for _, l := range ls {
+				f, _ := member(r, l)
+				fcs = append(fcs, f)
+			}
+			return combine(kind, fcs)
+		}
+	}
+	// comboOrSingle: the fixed combination, unless the best single member
+	// beats it on the folds by more than margin (relative), on every fold
+	// when strict.
+	comboOrSingle := func(kind string, pool, singles []string, margin float64) func(*result) []float64 {
+		return func(r *result) []float64 {
+			combo := fixed(kind, pool)(r)
+			if len(r.actual) == 0 {
+				return combo
+			}
+			cf := foldCombo(r, kind, poolOf(r, pool))
+			cs := foldMASE(r, cf)
+			best, bs := "", math.Inf(1)
+			for _, l := range poolOf(r, singles) {
+				_, fo := member(r, l)
+				if s := foldMASE(r, fo); s < bs {
+					best, bs = l, s
+				}
+			}
+			if best != "" && bs < cs*(1-margin) {
+				f, _ := member(r, best)
+				return f
+			}
+			return combo
+		}
+	}
+	// select: best by fold MASE among singles and the top-3 mean (today's
+	// pipeline rule).
+	selectBest := func(pool []string) func(*result) []float64 {
+		return func(r *result) []float64 {
+			ls := poolOf(r, pool)
+			if len(r.actual) == 0 {
+				if f, _ := member(r, "naive"); f != nil {
+					return f
+				}
+				return fixed("mean", pool)(r)
+			}
+			rk := ranked(r, pool)
+			top := rk
+			if len(top) > 3 {
+				top = top[:3]
+			}
+			cs := foldMASE(r, foldCombo(r, "mean", top))
+			bestL, bs := "", math.Inf(1)
+			for _, l := range ls {
+				_, fo := member(r, l)
+				if s := foldMASE(r, fo); s < bs {
+					bestL, bs = l, s
+				}
+			}
+			if cs <= bs {
+				var fcs [][]float64
+				for _, l := range top {
+					f, _ := member(r, l)
+					fcs = append(fcs, f)
+				}
+				return combine("mean", fcs)
+			}
+			f, _ := member(r, bestL)
+			return f
+		}
+	}
+
+	var rules []rule
+	for _, l := range labels {
+		l := l
+		rules = append(rules, rule{l, func(r *result) []float64 { f, _ := member(r, l); return f }})
+	}
+	rules = append(rules, rule{"Naive2", func(r *result) []float64 { return m1data.Naive2(r.s.Train, r.s.Period, len(r.s.Test)) }})
+	pools := [][]string{
+		{"ses", "holt_damped", "theta"},
+		{"smoothing_auto", "holt_damped", "theta"},
+		{"smoothing_auto", "theta", "stl_auto"},
+		{"smoothing_auto", "holt_damped", "theta", "stl_auto"},
+		{"smoothing_auto", "holt_damped", "theta", "stl_auto", "ses"},
+		{"ds_ses", "ds_holt", "ds_holt_damped"},
+		{"ds_ses", "ds_holt_damped", "theta"},
+		{"ds_ses", "ds_holt_damped", "theta", "smoothing_auto"},
+		{"ds_ses", "ds_holt_damped", "theta", "smoothing_auto", "stl_auto"},
+		{"smoothing_auto", "theta", "arima"},
+		{"smoothing_auto", "theta", "arima", "ds_holt_damped"},
+		{"ets", "theta", "arima"},
+		{"ets", "theta", "arima", "ds_holt_damped"},
+		{"ets", "theta", "arima", "ds_ses", "ds_holt_damped"},
+		{"ets", "theta", "arima", "stl_auto"},
+		{"ets", "theta", "ds_holt_damped"},
+	}
+	for _, p := range pools {
+		ok := true
+		for _, l := range p {
+			ok = ok && has(l)
+		}
+		if !ok {
+			continue
+		}
+		name := strings.Join(p, "+")
+		for _, kind := range []string{"mean", "median", "trimmed"} {
+			if kind == "trimmed" && len(p) < 4 {
+				continue
+			}
+			rules = append(rules, rule{kind + "(" + name + ")", fixed(kind, p)})
+		}
+		rules = append(rules, rule{"top2 mean(" + name + ")", topK("mean", p, 2)})
+		for _, mg := range []float64{0.1, 0.25} {
+			rules = append(rules, rule{fmt.Sprintf("mean or single>%.0f%%(%s)", mg*100, name), comboOrSingle("mean", p, p, mg)})
+		}
+	}
+	var allPool []string
+	for _, l := range labels {
+		allPool = append(allPool, l)
+	}
+	rules = append(rules, rule{"select best or top3 (all candidates)", selectBest(allPool)})
+
+	fmt.Println("| rule | sMAPE Y | sMAPE Q | sMAPE M | **sMAPE all** | MASE Y | MASE Q | MASE M | **MASE all** | missing |")
+	fmt.Println("|---|---:|---:|---:|---:|---:|---:|---:|---:|---:|")
+	type row struct {
+		name      string
+		sm, ma    map[string]float64
+		n         map[string]int
+		missing   int
+		allSMAPE  float64
+		allCovers bool
+	}
+	var rows []row
+	for _, ru := range rules {
+		rw := row{name: ru.name, sm: map[string]float64{}, ma: map[string]float64{}, n: map[string]int{}}
+		for _, r := range res {
+			f := ru.fc(r)
+			if f == nil {
+				f, _ = member(r, "naive")
+				rw.missing++
+				if f == nil {
+					continue
+				}
+			}
+			s := r.s
+			sm := m1data.SMAPE(s.Test, f)
+			ma := m1data.MASE(s.Test, f, s.Train, s.Period)
+			for _, k := range []string{s.Subset, "all"} {
+				rw.sm[k] += sm
+				rw.ma[k] += ma
+				rw.n[k]++
+			}
+		}
+		for k, c := range rw.n {
+			rw.sm[k] /= float64(c)
+			rw.ma[k] /= float64(c)
+		}
+		rows = append(rows, rw)
+	}
+	sort.SliceStable(rows, func(i, j int) bool { return rows[i].sm["all"] < rows[j].sm["all"] })
+	for _, rw := range rows {
+		fmt.Printf("| %s | %.2f | %.2f | %.2f | **%.2f** | %.3f | %.3f | %.3f | **%.3f** | %d |\n", rw.name,
+			rw.sm["yearly"], rw.sm["quarterly"], rw.sm["monthly"], rw.sm["all"],
+			rw.ma["yearly"], rw.ma["quarterly"], rw.ma["monthly"], rw.ma["all"], rw.missing)
+	}
+}
