@@ -52,6 +52,15 @@ import (
 //	         Describe.
 //	trend    adjusted_line (default), trend_line, trend_step or trend_flat
 //	average  mean (default) or median
+//	seasonal auto (default): when SeasonalityTest (the lag-m autocorrelation
+//	         test at 90%) finds no season, the forecast uses the
+//	         non-seasonal form — factors 1 (multiplicative) or 0
+//	         (additive), so the projected trend alone, through the series
+//	         itself for adjusted_line — and Describe says so, e.g.
+//	         "classical(no season by the seasonality test; multiplicative,
+//	         trend=adjusted_line, average=mean)"; always:
+//	         the seasonal form without testing. Decompose (the
+//	         decomposition stage) never tests.
 //
 // The season length must be at least 2 and the series must hold at least
 // two full seasons of observed values (as stats::decompose demands);
@@ -70,6 +79,10 @@ type Classical struct {
 	form    classicalForm
 	trend   classicalTrend
 	average classicalAverage
+
+	// always: fit the seasonal form without the seasonality test
+	// (seasonal: always); false is seasonal: auto.
+	always bool
 
 	// Precomputed Describe strings: as asked, and after falling back from
 	// multiplicative to additive.
@@ -117,9 +130,13 @@ var classicalAverageNames = []string{"mean", "median"}
 func init() {
 	Register("classical", func(o Options) (Method, error) {
 		for k := range o {
-			if k != "form" && k != "trend" && k != "average" {
-				return nil, fmt.Errorf("classical: unknown option %q (want form, trend or average)", k)
+			if k != "form" && k != "trend" && k != "average" && k != "seasonal" {
+				return nil, fmt.Errorf("classical: unknown option %q (want form, trend, average or seasonal)", k)
 			}
+		}
+		always, err := seasonalMode("classical", o)
+		if err != nil {
+			return nil, err
 		}
 		var opt [3]string
 		for i, k := range []string{"form", "trend", "average"} {
@@ -133,15 +150,21 @@ func init() {
 			}
 			opt[i] = s
 		}
-		return NewClassical(opt[0], opt[1], opt[2])
+		c, err := NewClassical(opt[0], opt[1], opt[2])
+		if err != nil {
+			return nil, err
+		}
+		c.always = always // the registered method defaults to seasonal: auto
+		return c, nil
 	})
 }
 
 // NewClassical returns the classical method with the given form, trend
 // projection and averaging (see Classical); an empty string selects the
-// default.
+// default. It always fits the seasonal form (seasonal: always); the method
+// registered as "classical" defaults to seasonal: auto.
 func NewClassical(form, trend, average string) (*Classical, error) {
-	c := new(Classical)
+	c := &Classical{always: true}
 	var err error
 	if c.form, err = classicalPick[classicalForm]("form", form, classicalFormNames); err != nil {
 		return nil, err
@@ -192,6 +215,10 @@ func (c *Classical) Fit(y []float64, season int) (Fitted, error) {
 	f.mult = f.d.Form == FormMultiplicative
 	if c.form == classicalMultiplicative && !f.mult {
 		f.describe = c.describeFallback
+	}
+	if !c.always && noSeason(y, season) {
+		dropSeason(&f.d, y)
+		f.describe = "classical(no season by the seasonality test; " + strings.TrimPrefix(f.describe, "classical(")
 	}
 	f.project(c.trend)
 	return f, nil

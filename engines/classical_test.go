@@ -680,7 +680,7 @@ func TestClassicalRegistryAndOptions(t *testing.T) {
 		{Options{"form": "additve"}, `classical: unknown form "additve" (want multiplicative, additive)`},
 		{Options{"trend": "line"}, `classical: unknown trend "line" (want adjusted_line, trend_line, trend_step, trend_flat)`},
 		{Options{"average": "mode"}, `classical: unknown average "mode" (want mean, median)`},
-		{Options{"shape": "x"}, `classical: unknown option "shape" (want form, trend or average)`},
+		{Options{"shape": "x"}, `classical: unknown option "shape" (want form, trend, average or seasonal)`},
 		{Options{"form": 2}, `classical: option form must be a string, got int`},
 	} {
 		if _, err := New("classical", tc.o); err == nil || err.Error() != tc.want {

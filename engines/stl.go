@@ -122,6 +122,13 @@ import (
 //	outer            int; 0 when not robust, 1…100 when robust (default
 //	                 0, or 15 when robust): the number of robustness passes
 //	adjusted_method  drift or ses (default ses)
+//	seasonal         auto (default): when SeasonalityTest (the lag-m
+//	                 autocorrelation test at 90%) finds no season, the
+//	                 forecast drops the seasonal component (S ≡ 0, the
+//	                 adjusted series is y itself, forecast by drift or
+//	                 SES) and Describe says "stl(no season; seasonality
+//	                 test; adjusted=…)"; always: the seasonal form
+//	                 without testing. Decompose never tests.
 //
 // References:
 //   - R. B. Cleveland, W. S. Cleveland, J. E. McRae and I. Terpenning
@@ -147,6 +154,7 @@ type STL struct {
 	outer    int
 	adjusted stlAdjusted
 	swDescr  string // "periodic" or the window
+	always   bool   // seasonal: always (false: auto)
 }
 
 var (
@@ -169,7 +177,7 @@ var stlAdjustedNames = []string{"ses", "drift"}
 // stlOptionNames lists the options NewSTL accepts.
 var stlOptionNames = []string{
 	"seasonal_window", "seasonal_degree", "trend_window", "trend_degree",
-	"lowpass_window", "robust", "inner", "outer", "adjusted_method",
+	"lowpass_window", "robust", "inner", "outer", "adjusted_method", "seasonal",
 }
 
 func init() {
@@ -181,7 +189,7 @@ func init() {
 func NewSTL(o Options) (*STL, error) {
 	for k := range o {
 		if !slices.Contains(stlOptionNames, k) {
-			return nil, fmt.Errorf("stl: unknown option %q (want one of seasonal_window, seasonal_degree, trend_window, trend_degree, lowpass_window, robust, inner, outer, adjusted_method)", k)
+			return nil, fmt.Errorf("stl: unknown option %q (want one of seasonal_window, seasonal_degree, trend_window, trend_degree, lowpass_window, robust, inner, outer, adjusted_method, seasonal)", k)
 		}
 	}
 	s := &STL{periodic: true, tDegree: 1, swDescr: "periodic"}
@@ -258,6 +266,9 @@ func NewSTL(o Options) (*STL, error) {
 		case s.robust && (s.outer < 1 || s.outer > 100):
 			return nil, fmt.Errorf("stl: outer %d: want an integer from 1 to 100 when robust", s.outer)
 		}
+	}
+	if s.always, err = seasonalMode("stl", o); err != nil {
+		return nil, err
 	}
 	if v, ok := o["adjusted_method"]; ok {
 		str, isStr := v.(string)
@@ -389,6 +400,11 @@ func (s *STL) Fit(y []float64, season int) (Fitted, error) {
 	p := s.resolve(len(y), season)
 	f := &stlFit{}
 	stlDecompose(&f.d, y, p, nil)
+	season0 := ""
+	if !s.always && noSeason(y, season) {
+		dropSeason(&f.d, y)
+		season0 = "no season; "
+	}
 	a := f.d.Adjusted
 	n := len(a)
 	var adj string
@@ -402,6 +418,10 @@ func (s *STL) Fit(y []float64, season int) (Fitted, error) {
 		adj = "ses(alpha=" + strconv.FormatFloat(alpha, 'g', 4, 64) + ")"
 	default:
 		panic(fmt.Sprintf("engines: stl: unknown adjusted method %d", s.adjusted))
+	}
+	if season0 != "" {
+		f.describe = "stl(no season; seasonality test; adjusted=" + adj + ")"
+		return f, nil
 	}
 	f.describe = fmt.Sprintf("stl(seasonal_window=%s, seasonal_degree=%d, trend_window=%d, trend_degree=%d, lowpass_window=%d, robust=%t, inner=%d, outer=%d; adjusted=%s)",
 		s.swDescr, p.sDegree, p.tWindow, p.tDegree, p.lWin, s.robust, p.inner, p.outer, adj)

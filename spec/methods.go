@@ -43,6 +43,10 @@ type methodDef struct {
 
 var trendOptions = []string{"adjusted_line", "trend_line", "trend_step", "trend_flat"}
 
+// seasonalAuto is the seasonal option of classical and stl.
+var seasonalAuto = optionDef{Kind: kindEnum, Allowed: []string{"auto", "always"}, Default: "auto", ForecastOnly: true,
+	Doc: "auto: the seasonal form only when the lag-m autocorrelation test (90%) finds a season, else the non-seasonal form (the model column says no season); always: without testing"}
+
 var smoothingAlpha = optionDef{Kind: kindFloat, Min: 0.01, Max: 1, Default: 0.1,
 	Doc: "smoothing constant, fixed (common practice for intermittent demand)"}
 
@@ -56,6 +60,9 @@ var catalog = map[string]methodDef{
 	"seasonal_naive": {
 		Doc:      "value of the same season position one season earlier",
 		Seasonal: true,
+	},
+	"naive2": {
+		Doc: "naive forecast of the seasonally adjusted series (classical multiplicative factors when the 90% autocorrelation test finds a season), re-seasonalised: the M-competition Naive2 benchmark",
 	},
 	"drift": {
 		Doc: "last value plus the average change per period between the first and last values",
@@ -74,6 +81,7 @@ var catalog = map[string]methodDef{
 				Doc: "how the trend is projected: least-squares line through the seasonally adjusted series (adjusted_line), least-squares line through the moving-average trend (trend_line), average change per period of the moving-average trend stepped from its last value (trend_step), or the last moving-average value held flat (trend_flat)"},
 			"average": {Kind: kindEnum, Allowed: []string{"mean", "median"}, Default: "mean",
 				Doc: "how detrended values are averaged per season position"},
+			"seasonal": seasonalAuto,
 		},
 	},
 	"stl": {
@@ -93,6 +101,7 @@ var catalog = map[string]methodDef{
 			"outer":          {Kind: kindInt, Min: 0, Max: 100, Doc: "robustness passes; default 0, or 15 when robust (must be 0 when not robust)"},
 			"adjusted_method": {Kind: kindEnum, Allowed: []string{"ses", "drift"}, Default: "ses", ForecastOnly: true,
 				Doc: "how the seasonally adjusted series is forecast: simple exponential smoothing or drift"},
+			"seasonal": seasonalAuto,
 		},
 		Check: func(o map[string]any) string {
 			if w, ok := o["seasonal_window"].(string); ok && w == "periodic" && o["seasonal_degree"] == 1 {
