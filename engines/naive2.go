@@ -10,6 +10,7 @@ import "fmt"
 //  1. The series counts as seasonal when m ≥ 2, it holds at least three
 //     seasons of observed values (3m), every observed value is > 0, and
 //     SeasonalityTest (the lag-m autocorrelation test at 90%) says so.
+//
 //  2. Seasonal: F_j are the factors of the classical multiplicative
 //     decomposition (Classical, form=multiplicative, average=mean; R's
 //     stats::decompose), and with L the last t with y_t observed
