@@ -122,10 +122,6 @@ const (
 
 var thetaDeseasonNames = []string{"auto", "always", "never"}
 
-// thetaZ90 is the 95% quantile of the standard normal: the two-sided 90%
-// critical value of the seasonality test.
-const thetaZ90 = 1.6448536269514722
-
 func init() {
 	Register("theta", func(o Options) (Method, error) {
 		var des string
@@ -250,7 +246,7 @@ func (th *Theta) deseasonalize(f *thetaFit, y []float64, m, observed, nonPositiv
 		return nil
 	}
 	if th.deseason == thetaAuto {
-		if _, seasonal := thetaSeasonalityTest(y, m); !seasonal {
+		if _, seasonal := SeasonalityTest(y, m); !seasonal {
 			return nil
 		}
 	}
@@ -264,49 +260,6 @@ func (th *Theta) deseasonalize(f *thetaFit, y []float64, m, observed, nonPositiv
 		return nil
 	}
 	return d
-}
-
-// thetaSeasonalityTest returns the statistic |r_m| / sqrt((1 + 2·Σ_{k<m}
-// r_k²)/n) of the seasonality test of Theta (n = number of observed values)
-// and whether it exceeds the 90% critical value. It returns 0, false when
-// the observed values do not vary.
-func thetaSeasonalityTest(y []float64, m int) (stat float64, seasonal bool) {
-	var s float64
-	k := 0
-	for _, v := range y {
-		if v == v {
-			s += v
-			k++
-		}
-	}
-	mean := s / float64(k)
-	var c0 float64
-	for _, v := range y {
-		if v == v {
-			c0 += (v - mean) * (v - mean)
-		}
-	}
-	if !(c0 > 0) {
-		return 0, false
-	}
-	var sum2, rm float64
-	for lag := 1; lag <= m; lag++ {
-		var c float64
-		for i := lag; i < len(y); i++ {
-			// NaN products drop out: NaN == NaN is false.
-			if p := (y[i] - mean) * (y[i-lag] - mean); p == p {
-				c += p
-			}
-		}
-		r := c / c0
-		if lag < m {
-			sum2 += r * r
-		} else {
-			rm = r
-		}
-	}
-	stat = math.Abs(rm) / math.Sqrt((1+2*sum2)/float64(k))
-	return stat, stat > thetaZ90
 }
 
 // Bounds of the smoothing constant of thetaSES.
