@@ -6,20 +6,22 @@ import (
 )
 
 // esBenchSeries reads a benchmark series of testdata/reference/bench (the
-// deterministic series of bench/time_r.R).
+// deterministic series of bench/time_r.R), or "monthly120": the first 120
+// values of R's AirPassengers (data/AirPassengers.json, m = 12).
 func esBenchSeries(b *testing.B, name string) ([]float64, int) {
 	b.Helper()
+	if name == "monthly120" {
+		y, m := esDataset(b, "AirPassengers")
+		return y[:120], m
+	}
 	var fx struct {
 		Frequency int      `json:"frequency"`
 		X         esFloats `json:"x"`
 	}
-	b.StopTimer()
-	t := &testing.T{}
-	esReadJSON(t, filepath.Join("testdata", "reference", "bench", name+".json"), &fx)
-	if t.Failed() || len(fx.X) == 0 {
+	esReadJSON(b, filepath.Join("testdata", "reference", "bench", name+".json"), &fx)
+	if len(fx.X) == 0 {
 		b.Fatalf("cannot read bench/%s.json", name)
 	}
-	b.StartTimer()
 	return fx.X, fx.Frequency
 }
 
@@ -27,8 +29,7 @@ func esBenchSeries(b *testing.B, name string) ([]float64, int) {
 func esBenchFit(b *testing.B, series string, method Method, h int) {
 	y, m := esBenchSeries(b, series)
 	b.ReportAllocs()
-	b.ResetTimer()
-	for i := 0; i < b.N; i++ {
+	for b.Loop() {
 		f, err := method.Fit(y, m)
 		if err != nil {
 			b.Fatal(err)
@@ -39,17 +40,40 @@ func esBenchFit(b *testing.B, series string, method Method, h int) {
 	}
 }
 
-func esMustHW(b *testing.B, seasonal string, trend, damped bool) *HoltWinters {
-	h, err := NewHoltWinters(seasonal, trend, damped)
-	if err != nil {
-		b.Fatal(err)
+// BenchmarkSmoothingForm fits each of the 15 forms of smoothing_auto, one
+// at a time, to the monthly 120-point series (fit only: parameters and
+// initial states by maximum likelihood, admissibility check included).
+func BenchmarkSmoothingForm(b *testing.B) {
+	y, m := esBenchSeries(b, "monthly120")
+	for _, form := range esAutoForms {
+		b.Run(esShort(form), func(b *testing.B) {
+			mm := m
+			if form.season == esSeasonNone {
+				mm = 1
+			}
+			b.ReportAllocs()
+			for b.Loop() {
+				if _, err := esFitForm("bench", y, mm, form); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
 	}
-	return h
 }
 
-// Holt-Winters (additive, optimised) fit plus a 13-step forecast on the
-// weekly series (n = 156, m = 52). R 4.2.2 HoltWinters() takes a median
-// 3.47 ms per fit on this series (bench/r_timings.json).
+// The methods, fit plus a 12-step forecast, on the monthly 120-point series.
+func BenchmarkSmoothingAutoMonthly120(b *testing.B) {
+	esBenchFit(b, "monthly120", SmoothingAuto{}, 12)
+}
+func BenchmarkHoltWintersMonthly120(b *testing.B) {
+	esBenchFit(b, "monthly120", esMustHW(b, "", true, false), 12)
+}
+func BenchmarkSESMonthly120(b *testing.B)  { esBenchFit(b, "monthly120", SES{}, 12) }
+func BenchmarkHoltMonthly120(b *testing.B) { esBenchFit(b, "monthly120", Holt{}, 12) }
+
+// Holt-Winters (seasonal: auto, the default) fit plus a 13-step forecast
+// on the weekly series (m = 52): beside R's HoltWinters(x) in
+// testdata/reference/bench/compare.sh.
 func BenchmarkHoltWintersWeekly156(b *testing.B) {
 	esBenchFit(b, "weekly156", esMustHW(b, "", true, false), 13)
 }
@@ -62,8 +86,7 @@ func BenchmarkHoltWintersWeekly156Damped(b *testing.B) {
 	esBenchFit(b, "weekly156", esMustHW(b, "", true, true), 13)
 }
 
-// Holt-Winters (additive, optimised) on the monthly series (n = 60,
-// m = 12). R: median 2.78 ms per fit (bench/r_timings.json).
+// Holt-Winters fit plus a 12-step forecast on the monthly series (m = 12).
 func BenchmarkHoltWintersMonthly60(b *testing.B) {
 	esBenchFit(b, "monthly60", esMustHW(b, "", true, false), 12)
 }
@@ -81,8 +104,8 @@ func BenchmarkDampedMonthly60(b *testing.B) { esBenchFit(b, "monthly60", Holt{Da
 func BenchmarkAutoWeekly156(b *testing.B)   { esBenchFit(b, "weekly156", SmoothingAuto{}, 13) }
 func BenchmarkAutoMonthly60(b *testing.B)   { esBenchFit(b, "monthly60", SmoothingAuto{}, 12) }
 
-// esBenchEval times one SSE evaluation of form on the weekly series: the
-// inner loop of every fit.
+// esBenchEval times one likelihood evaluation of form on the weekly
+// series: the inner loop of the simplex search.
 func esBenchEval(b *testing.B, form esForm) {
 	y, m := esBenchSeries(b, "weekly156")
 	var f esFitter
@@ -93,20 +116,15 @@ func esBenchEval(b *testing.B, form esForm) {
 	f.setSlots(form)
 	u := []float64{-1, -2, -2, 0}[:f.d]
 	b.ReportAllocs()
-	b.ResetTimer()
-	for i := 0; i < b.N; i++ {
+	for b.Loop() {
 		f.eval(u)
 	}
 }
 
 func BenchmarkSmoothingEvalWeeklyAdditive(b *testing.B) {
-	esBenchEval(b, esForm{esTrendAdditive, esSeasonAdditive})
+	esBenchEval(b, esForm{trend: esTrendAdditive, season: esSeasonAdditive})
 }
 
 func BenchmarkSmoothingEvalWeeklyMultiplicative(b *testing.B) {
-	esBenchEval(b, esForm{esTrendAdditive, esSeasonMultiplicative})
-}
-
-func BenchmarkSmoothingEvalWeeklyHoltConcentrated(b *testing.B) {
-	esBenchEval(b, esForm{esTrendAdditive, esSeasonNone})
+	esBenchEval(b, esForm{err: esErrorMultiplicative, trend: esTrendAdditive, season: esSeasonMultiplicative})
 }
