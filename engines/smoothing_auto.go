@@ -123,6 +123,13 @@ var esAutoForms = [...]esForm{
 	{esErrorMultiplicative, esTrendDamped, esSeasonMultiplicative},
 }
 
+// esWarmFrom gives, for each candidate of esAutoForms, the index of the
+// earlier candidate whose solution starts its fit (esFitter.optimiseFrom),
+// or −1 for a fit from the start values: a damped trend starts from the
+// undamped one, a multiplicative error from the additive error with the
+// same trend and season (the same recursions).
+var esWarmFrom = [len(esAutoForms)]int{-1, -1, 1, -1, -1, 4, 0, 1, 2, 3, 4, 5, -1, -1, 13}
+
 // Fit fits the admissible forms to y and keeps the best by AICc (see
 // SmoothingAuto).
 func (SmoothingAuto) Fit(y []float64, season int) (Fitted, error) {
@@ -145,7 +152,8 @@ func (SmoothingAuto) Fit(y []float64, season int) (Fitted, error) {
 	var best, first esSolution
 	bestAICc := 0.0
 	haveBest, haveFirst := false, false
-	for _, form := range esAutoForms {
+	var done [len(esAutoForms)]*esSolution
+	for i, form := range esAutoForms {
 		k := form.nParams(m)
 		switch {
 		case form.season != esSeasonNone && !seasonal,
@@ -159,8 +167,17 @@ func (SmoothingAuto) Fit(y []float64, season int) (Fitted, error) {
 		if f.initStates(form) != nil {
 			continue
 		}
-		sol := f.optimise()
-		if !sol.finite() || !sol.admiss {
+		var sol esSolution
+		if w := esWarmFrom[i]; w >= 0 && done[w] != nil {
+			sol = f.optimiseFrom(done[w])
+		} else {
+			sol = f.optimise()
+		}
+		if !sol.finite() {
+			continue
+		}
+		done[i] = &sol
+		if !sol.admiss {
 			continue
 		}
 		if !haveFirst {

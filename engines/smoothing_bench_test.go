@@ -2,8 +2,33 @@ package engines
 
 import (
 	"path/filepath"
+	"syscall"
 	"testing"
+	"time"
 )
+
+// esCPUTime is the CPU time (user + system) the process has used so far.
+func esCPUTime(b *testing.B) time.Duration {
+	var ru syscall.Rusage
+	if err := syscall.Getrusage(syscall.RUSAGE_SELF, &ru); err != nil {
+		b.Fatal(err)
+	}
+	return time.Duration(ru.Utime.Nano() + ru.Stime.Nano())
+}
+
+// esLoop runs body b.N times and reports, beside the wall time, the CPU
+// time per operation (cpu-ns/op): on a shared machine the wall time
+// includes waiting for a core, the CPU time does not.
+func esLoop(b *testing.B, body func()) {
+	b.ReportAllocs()
+	c0 := esCPUTime(b)
+	n := 0
+	for b.Loop() {
+		body()
+		n++
+	}
+	b.ReportMetric(float64(esCPUTime(b)-c0)/float64(n), "cpu-ns/op")
+}
 
 // esBenchSeries reads a benchmark series of testdata/reference/bench (the
 // deterministic series of bench/time_r.R), or "monthly120": the first 120
@@ -28,8 +53,7 @@ func esBenchSeries(b *testing.B, name string) ([]float64, int) {
 // esBenchFit fits method to the series and forecasts h steps, b.N times.
 func esBenchFit(b *testing.B, series string, method Method, h int) {
 	y, m := esBenchSeries(b, series)
-	b.ReportAllocs()
-	for b.Loop() {
+	esLoop(b, func() {
 		f, err := method.Fit(y, m)
 		if err != nil {
 			b.Fatal(err)
@@ -37,7 +61,7 @@ func esBenchFit(b *testing.B, series string, method Method, h int) {
 		if len(f.Forecast(h)) != h {
 			b.Fatal("short forecast")
 		}
-	}
+	})
 }
 
 // BenchmarkSmoothingForm fits each of the 15 forms of smoothing_auto, one
@@ -51,12 +75,11 @@ func BenchmarkSmoothingForm(b *testing.B) {
 			if form.season == esSeasonNone {
 				mm = 1
 			}
-			b.ReportAllocs()
-			for b.Loop() {
+			esLoop(b, func() {
 				if _, err := esFitForm("bench", y, mm, form); err != nil {
 					b.Fatal(err)
 				}
-			}
+			})
 		})
 	}
 }

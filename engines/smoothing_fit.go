@@ -6,6 +6,7 @@ import (
 	"math"
 	"math/cmplx"
 
+	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 )
 
@@ -45,8 +46,8 @@ const (
 	esFTol        = 1e-9  // spread of the simplex values, relative to |f|+1 (f is −2 log L + const)
 	esXTol        = 1e-3  // spread of the vertices on the (0, 1) scale of the parameters
 	esEvalsPerDim = 300   // evaluation budget per free parameter and simplex run
-	esRounds      = 4     // at most this many alternations of the two steps
-	esRoundTol    = 1e-5  // stop alternating when −2 log L improves by less (absolute)
+	esRounds      = 2     // at most this many alternations of the two steps
+	esRoundTol    = 1e-3  // stop alternating when −2 log L improves by less (absolute)
 	esLMIter      = 60    // Levenberg–Marquardt iterations per round
 	esUSaturated  = 15    // |u| beyond which a smoothing parameter sits at its bound
 	esUStep       = 2     // largest refinement step of a smoothing parameter on the logit scale
@@ -131,15 +132,14 @@ type esFitter struct {
 
 	// Levenberg–Marquardt scratch, for d smoothing parameters and k free
 	// initial states.
-	k                  int
-	dl, db, dbase, dmu []float64
-	dq, dr, de, g      []float64
-	ds                 []float64 // m·k: derivatives of the seasonal ring
-	res, rtmp, jac     []float64 // residuals, nobs × (d+k) Jacobian
-	nres               int
-	ata, atb, sol      []float64
-	chol               []float64
-	theta, trial       []float64
+	k               int
+	dl, db, zero, g []float64
+	ds              []float64 // m·k: derivatives of the seasonal ring
+	res, rtmp, jac  []float64 // residuals, nobs × (d+k) Jacobian
+	nres            int
+	ata, atb, sol   []float64
+	chol            []float64
+	theta, trial    []float64
 
 	// Classical decompositions of the first seasons, by form, computed once.
 	dec    [2]*Decomposition
@@ -420,7 +420,8 @@ func (f *esFitter) residuals(st esStats, r []float64) int {
 }
 
 // jacobian fills f.res with the residuals at (f.p, initial states) and
-// f.jac (row-major, nobs × (d+k)) with their derivatives: by finite
+// f.jac (column by column, len(y) apart: d+k columns of nobs values) with
+// their derivatives: by finite
 // differences with respect to the d smoothing parameters on the optimiser's
 // scale u, and exactly (the recursions of esFilter differentiated term by
 // term, forward mode) with respect to the k free initial states. It
@@ -445,7 +446,7 @@ func (f *esFitter) jacobian(u []float64) bool {
 			// At its bound: the logistic map is flat to rounding, and
 			// the simplex, not the refinement, moves it.
 			for t := 0; t < nobs; t++ {
-				f.jac[t*P+c] = 0
+				f.jac[c*n+t] = 0
 			}
 			continue
 		}
@@ -456,21 +457,21 @@ func (f *esFitter) jacobian(u []float64) bool {
 		f.evals++
 		if !sp.ok || sp.nobs != nobs {
 			for t := 0; t < nobs; t++ {
-				f.jac[t*P+c] = 0
+				f.jac[c*n+t] = 0
 			}
 			continue
 		}
 		f.residuals(sp, f.rtmp)
 		for t := 0; t < nobs; t++ {
-			f.jac[t*P+c] = (f.rtmp[t] - f.res[t]) / h
+			f.jac[c*n+t] = (f.rtmp[t] - f.res[t]) / h
 		}
 	}
 	// Initial states: forward mode.
 	a, be, ge, phi := f.p.ec(form)
-	for _, b := range []*[]float64{&f.dl, &f.db, &f.dbase, &f.dmu, &f.dq, &f.dr, &f.de, &f.g} {
+	for _, b := range []*[]float64{&f.dl, &f.db, &f.zero, &f.g} {
 		*b = esGrow(*b, k)
 	}
-	dl, db, dbase, dmu, dq, dr, de, g := f.dl, f.db, f.dbase, f.dmu, f.dq, f.dr, f.de, f.g
+	dl, db, g := f.dl, f.db, f.g
 	dl[0] = 1
 	off := 1
 	if form.trend != esTrendNone {
@@ -494,81 +495,69 @@ func (f *esFitter) jacobian(u []float64) bool {
 	row := 0
 	j := 0
 	for i := f.start; i < n; i++ {
-		var sj float64
-		var dsj []float64
+		sj, dsj := 0.0, f.zero // without a season: zeros that nothing writes
 		if seasonal {
 			sj, dsj = f.ring[j], f.ds[j*k:(j+1)*k]
 		}
 		base := l + phi*b
-		for x := range k {
-			dbase[x] = dl[x] + phi*db[x]
-		}
 		mu := base
 		switch form.season {
-		case esSeasonNone:
-			copy(dmu, dbase)
 		case esSeasonAdditive:
 			mu = base + sj
-			for x := range k {
-				dmu[x] = dbase[x] + dsj[x]
-			}
-		default:
+		case esSeasonMultiplicative:
 			mu = base * sj
-			for x := range k {
-				dmu[x] = sj*dbase[x] + base*dsj[x]
-			}
 		}
 		yv := f.y[i]
 		if yv != yv {
+			// Missing: the states move on without an update.
 			l, b = base, phi*b
-			copy(dl, dbase)
 			for x := range k {
+				dl[x] += phi * db[x]
 				db[x] *= phi
 			}
 		} else {
 			e := yv - mu
-			for x := range k {
-				de[x] = -dmu[x]
-			}
-			jr := f.jac[row*P+d : row*P+P]
-			if multErr {
-				// ∂(e/μ) = −y·∂μ/μ²; the G factor is applied below.
-				c := -yv / (mu * mu)
-				for x := range k {
-					jr[x] = c * dmu[x]
-					g[x] += dmu[x] / mu
-				}
-			} else {
-				copy(jr, de)
-			}
+			jr := f.jac[d*n+row:] // column x of the states at jr[x*n]
 			row++
-			q := e
-			if form.season == esSeasonMultiplicative {
-				q = e / sj
-				for x := range k {
-					dq[x] = (de[x] - q*dsj[x]) / sj
-				}
-				r := e / base
-				for x := range k {
-					dr[x] = (de[x] - r*dbase[x]) / base
-				}
+			// ∂ε_t = −∂μ_t (additive error) or −y·∂μ_t/μ² (multiplicative;
+			// the G factor is applied below).
+			c, cg := -1.0, 0.0
+			if multErr {
+				c, cg = -yv/(mu*mu), 1/mu
+			}
+			switch form.season {
+			case esSeasonMultiplicative:
+				q, r := e/sj, e/base
+				l, b = base+a*q, phi*b+be*q
 				f.ring[j] = sj + ge*r
+				isj, ibase := 1/sj, 1/base
 				for x := range k {
-					dsj[x] += ge * dr[x]
+					dbx := dl[x] + phi*db[x]
+					dsx := dsj[x]
+					dmx := sj*dbx + base*dsx
+					jr[x*n] = c * dmx
+					g[x] += cg * dmx
+					dqx := (-dmx - q*dsx) * isj
+					dsj[x] = dsx + ge*(-dmx-r*dbx)*ibase
+					dl[x] = dbx + a*dqx
+					db[x] = phi*db[x] + be*dqx
 				}
-			} else {
-				copy(dq, de)
+			default:
+				l, b = base+a*e, phi*b+be*e
 				if seasonal {
 					f.ring[j] = sj + ge*e
-					for x := range k {
-						dsj[x] += ge * de[x]
-					}
 				}
-			}
-			l, b = base+a*q, phi*b+be*q
-			for x := range k {
-				dl[x] = dbase[x] + a*dq[x]
-				db[x] = phi*db[x] + be*dq[x]
+				for x := range k {
+					dbx := dl[x] + phi*db[x]
+					dmx := dbx + dsj[x]
+					jr[x*n] = c * dmx
+					g[x] += cg * dmx
+					if seasonal {
+						dsj[x] -= ge * dmx
+					}
+					dl[x] = dbx - a*dmx
+					db[x] = phi*db[x] - be*dmx
+				}
 			}
 		}
 		if seasonal {
@@ -583,10 +572,10 @@ func (f *esFitter) jacobian(u []float64) bool {
 		for x := range k {
 			g[x] /= float64(nobs)
 		}
-		for t := 0; t < nobs; t++ {
-			jr := f.jac[t*P+d : t*P+P]
-			for x := range k {
-				jr[x] = G*jr[x] + f.res[t]*g[x]
+		for x := range k {
+			col := f.jac[(d+x)*n : (d+x)*n+nobs]
+			for t := range col {
+				col[t] = G*col[t] + f.res[t]*g[x]
 			}
 		}
 	}
@@ -600,18 +589,16 @@ func (f *esFitter) normal() bool {
 	P := f.d + f.k
 	f.ata = esGrow(f.ata, P*P)
 	f.atb = esGrow(f.atb, P)
-	for t := 0; t < f.nres; t++ {
-		jr := f.jac[t*P : t*P+P]
-		r := f.res[t]
-		for x, jx := range jr {
-			if jx == 0 {
-				continue
-			}
-			f.atb[x] += jx * r
-			row := f.ata[x*P:]
-			for z := x; z < P; z++ {
-				row[z] += jx * jr[z]
-			}
+	// J′J (upper triangle) and J′r as dot products of the columns of J
+	// (stored column by column, len(y) apart), by gonum's vectorised
+	// floats.Dot.
+	n, nr := len(f.y), f.nres
+	res := f.res[:nr]
+	for x := 0; x < P; x++ {
+		cx := f.jac[x*n : x*n+nr]
+		f.atb[x] = floats.Dot(cx, res)
+		for z := x; z < P; z++ {
+			f.ata[x*P+z] = floats.Dot(cx, f.jac[z*n:z*n+nr])
 		}
 	}
 	for x := 0; x < P; x++ {
@@ -795,6 +782,12 @@ func (f *esFitter) optimise() esSolution {
 func (f *esFitter) search(p0 esParams) esSolution {
 	f.p = p0
 	obj, conv := f.simplex(esSimplexStep, esFTolStart, esXTolStart, false)
+	return f.rounds(obj, conv)
+}
+
+// rounds alternates refine and a short simplex search from the current
+// point, whose objective is obj, and returns the solution.
+func (f *esFitter) rounds(obj float64, conv bool) esSolution {
 	for round := 0; round < esRounds && !math.IsInf(obj, 1); round++ {
 		o := f.refine(obj)
 		if round > 0 && !(obj-o > esRoundTol) {
@@ -810,6 +803,40 @@ func (f *esFitter) search(p0 esParams) esSolution {
 		obj = o
 	}
 	return f.solution(obj, conv)
+}
+
+// optimiseFrom fits f.form starting from the smoothing parameters and
+// initial states of a related solution (warm start): the same form with
+// the other error (same recursions), or the undamped form for a damped one
+// (φ = esPhiMax). It skips the first simplex search; when the start has no
+// finite likelihood it falls back to optimise.
+func (f *esFitter) optimiseFrom(from *esSolution) esSolution {
+	f.setSlots(f.form)
+	f.evals = 0
+	f.p = from.p
+	if f.form.trend == esTrendDamped && from.form.trend != esTrendDamped {
+		f.p.phi = esPhiMax
+	}
+	f.l0, f.b0 = from.l0, from.b0
+	if f.form.season != esSeasonNone {
+		copy(f.s0, from.s0)
+	}
+	obj := f.run(f.p).objective(f.form, f.scale)
+	if math.IsInf(obj, 1) {
+		if err := f.initStates(f.form); err != nil {
+			return esSolution{form: f.form, obj: math.Inf(1)}
+		}
+		return f.optimise()
+	}
+	sol := f.rounds(obj, true)
+	if !sol.admiss && sol.finite() && esAdmissible(f.form, f.m, esStartParams) {
+		if err := f.initStates(f.form); err == nil {
+			f.admis = true
+			sol = f.search(esStartParams)
+			f.admis = false
+		}
+	}
+	return sol
 }
 
 // solution records the current point of f.
