@@ -5,6 +5,8 @@ import (
 	"syscall"
 	"testing"
 	"time"
+
+	"gonum.org/v1/gonum/optimize"
 )
 
 // esCPUTime is the CPU time (user + system) the process has used so far.
@@ -150,4 +152,57 @@ func BenchmarkSmoothingEvalWeeklyAdditive(b *testing.B) {
 
 func BenchmarkSmoothingEvalWeeklyMultiplicative(b *testing.B) {
 	esBenchEval(b, esForm{err: esErrorMultiplicative, trend: esTrendAdditive, season: esSeasonMultiplicative})
+}
+
+// The optimiser of the smoothing parameters, measured: the same search
+// (ETS(A,A,A) on the monthly 120-point series, initial states fixed at
+// their start values, from esStartParams on the logit scale, initial
+// simplex size 1) by the package's simplex (esSimplex, used by the fit)
+// and by gonum.org/v1/gonum/optimize.NelderMead through optimize.Minimize.
+// Each reports the evaluations per search and the −2·log L reached
+// (best-f), so that speed is compared at equal quality.
+func esBenchSearchSetup(b *testing.B) (*esFitter, []float64) {
+	y, m := esBenchSeries(b, "monthly120")
+	f := new(esFitter)
+	f.reset(y, m)
+	form := esForm{trend: esTrendAdditive, season: esSeasonAdditive}
+	if err := f.initStates(form); err != nil {
+		b.Fatal(err)
+	}
+	f.setSlots(form)
+	f.p = esStartParams
+	u := make([]float64, f.d)
+	f.toU(u)
+	return f, u
+}
+
+func BenchmarkSmoothingSearchSimplex(b *testing.B) {
+	f, u0 := esBenchSearchSetup(b)
+	u := make([]float64, len(u0))
+	var res esSimplexResult
+	esLoop(b, func() {
+		copy(u, u0)
+		res = f.nm.minimize(f, u, esSimplexStep, esFTol, esXTol, esEvalsPerDim*f.d, false)
+	})
+	b.ReportMetric(float64(res.Evals), "evals/op")
+	b.ReportMetric(res.F, "best-f")
+}
+
+func BenchmarkSmoothingSearchGonum(b *testing.B) {
+	f, u0 := esBenchSearchSetup(b)
+	p := optimize.Problem{Func: func(u []float64) float64 { return f.eval(u) }}
+	var res *optimize.Result
+	esLoop(b, func() {
+		settings := &optimize.Settings{
+			Converger:       &optimize.FunctionConverge{Relative: esFTol, Iterations: 3 * f.d},
+			FuncEvaluations: esEvalsPerDim * f.d,
+		}
+		var err error
+		res, err = optimize.Minimize(p, u0, settings, &optimize.NelderMead{SimplexSize: esSimplexStep})
+		if err != nil && res == nil {
+			b.Fatal(err)
+		}
+	})
+	b.ReportMetric(float64(res.Stats.FuncEvaluations), "evals/op")
+	b.ReportMetric(res.F, "best-f")
 }

@@ -25,19 +25,27 @@ type esObjective interface {
 // bounded parameters the callers optimise, so that a parameter running off
 // to its bound, u → ±∞, still converges), or after maxEval evaluations, or
 // at once when no vertex of the first simplex has a finite value. With
-// restart, after a converged run the method is restarted once from the best vertex with a fresh simplex of the initial
-// size, a common guard against a simplex that collapsed early; the restart
-// is kept only if it improves the value.
+// restart, after a converged run the method is restarted once from the
+// best vertex with a fresh simplex of the initial size, a common guard
+// against a simplex that collapsed early; the restart is kept only if it
+// improves the value.
 //
 // It allocates nothing: the simplex lives in fixed arrays, so one value can
 // be reused for any number of minimisations (not concurrently).
 //
-// gonum.org/v1/gonum/optimize.NelderMead implements the same algorithm, but
-// its Minimize driver runs the method in goroutines that exchange every
-// evaluation over channels; for the SSE of a short series that costs about
-// three times the evaluation itself (measured: 1.5 µs vs 0.37 µs per
-// evaluation for 156 points), and importing the package also needs a
-// go.sum entry the module does not have.
+// gonum.org/v1/gonum/optimize.NelderMead implements the same algorithm
+// and was measured first (BenchmarkSmoothingSearchSimplex and
+// BenchmarkSmoothingSearchGonum: the same search of the smoothing
+// parameters of ETS(A,A,A) on a monthly 120-point series, same start,
+// simplex size and tolerance). Both reach the same −2·log L; gonum takes
+// 217 evaluations and 0.52–0.75 ms of CPU per search, esSimplex 195
+// evaluations and 0.13 ms, with no allocation. The difference is
+// optimize.Minimize's driver, which runs the method in a goroutine and
+// exchanges every evaluation over channels: about 2 µs per evaluation on
+// top of an objective that costs about 0.6 µs. The fit runs several such
+// searches per form and smoothing_auto fits 15 forms, so the package keeps
+// this one simplex, the only optimiser of the smoothing family, theta and
+// stl.
 //
 // References:
 //   - J. A. Nelder and R. Mead (1965), A simplex method for function
