@@ -624,3 +624,123 @@ func TestSmoothingEvalAllocates(t *testing.T) {
 		}
 	}
 }
+
+// TestSmoothingMultErrVariance checks the class 2 forecast variance of the
+// multiplicative-error forms against the closed form for ETS(M,N,N),
+// v_h = ℓ²·((1+σ²)·(1+α²σ²)^{h−1} − 1), which follows from the recursion
+// θ_h = μ_h² + σ²·Σ_{j<h} c_j²·θ_{h−j} with c_j = α and μ_h = ℓ (from memory
+// of Hyndman et al. 2008, ch. 6, derived here by induction: θ_h/ℓ² =
+// (1+α²σ²)^{h−1}); tolerance 1e-12 relative.
+func TestSmoothingMultErrVariance(t *testing.T) {
+	const l, a, s2 = 250.0, 0.35, 0.004
+	mu := make([]float64, 15)
+	for i := range mu {
+		mu[i] = l
+	}
+	got := make([]float64, len(mu))
+	esForecastVarianceMultErr(esForm{err: esErrorMultiplicative}, 1, esParams{alpha: a, phi: 1}, s2, mu, got)
+	for i, g := range got {
+		want := l * l * ((1+s2)*math.Pow(1+a*a*s2, float64(i)) - 1)
+		if math.Abs(g-want) > 1e-12*want {
+			t.Errorf("h=%d: %v, want %v", i+1, g, want)
+		}
+	}
+	// A fitted M,N,N model uses it with σ² = Σ(e/μ)²/(n−k).
+	y, _ := esDataset(t, "Nile")
+	mod, err := esFitForm("test", y, 1, esForm{err: esErrorMultiplicative})
+	if err != nil {
+		t.Fatal(err)
+	}
+	v := mod.ForecastVariance(3)
+	lv, sr := mod.final.level, mod.relVariance()
+	for i, g := range v {
+		want := lv * lv * ((1+sr)*math.Pow(1+mod.p.alpha*mod.p.alpha*sr, float64(i)) - 1)
+		if math.Abs(g-want) > 1e-9*want {
+			t.Errorf("fitted M,N,N h=%d: %v, want %v", i+1, g, want)
+		}
+	}
+}
+
+// TestSmoothingNonPositiveState checks the positivity rule: a form with a
+// multiplicative part that finds no point where every level, seasonal
+// factor and one-step forecast stays > 0 returns an error wrapping
+// ErrNonPositiveState (common practice). Here a season of values far below
+// zero is given directly to two multiplicative forms: to follow it the
+// level or the forecasts would have to go ≤ 0, where the recursion is
+// refused.
+func TestSmoothingNonPositiveState(t *testing.T) {
+	y, m := esDataset(t, "AirPassengers")
+	y = slices.Clone(y)
+	for i := 60; i < 72; i++ {
+		y[i] = -500 // a whole season far below zero: the level must follow
+	}
+	for _, form := range []esForm{
+		{err: esErrorMultiplicative},
+		{err: esErrorMultiplicative, trend: esTrendAdditive, season: esSeasonMultiplicative},
+	} {
+		mm := m
+		if form.season == esSeasonNone {
+			mm = 1
+		}
+		_, err := esFitForm("test", y, mm, form)
+		if !errors.Is(err, ErrNonPositiveState) {
+			t.Errorf("%s: error %v, want ErrNonPositiveState", form.describe(), err)
+		}
+	}
+	// The methods never reach it for such data: holt_winters falls back to
+	// the additive form, smoothing_auto leaves the multiplicative forms out.
+	for _, meth := range []Method{SmoothingAuto{}, esMustHW(t, FormMultiplicative, true, false)} {
+		fit, err := meth.Fit(y, m)
+		if err != nil {
+			t.Errorf("%s: %v", meth.Name(), err)
+			continue
+		}
+		if fit.(*esModel).form.positive() {
+			t.Errorf("%s: fitted %s", meth.Name(), fit.(Described).Describe())
+		}
+	}
+}
+
+// TestHoltWintersSeasonalAuto checks seasonal: auto (the default): with no
+// season found by SeasonalityTest the non-seasonal form with the same trend
+// is fitted and Describe says so; with a season, a seasonal form (common
+// practice; the test itself is checked in seasonality_test.go).
+func TestHoltWintersSeasonalAuto(t *testing.T) {
+	hw := esNew(t, "holt_winters", nil)
+	air, m := esDataset(t, "AirPassengers")
+	if _, seasonal := SeasonalityTest(air, m); !seasonal {
+		t.Fatal("AirPassengers not seasonal by the test")
+	}
+	fit, err := hw.Fit(air, m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if d := fit.(Described).Describe(); fit.(*esModel).form.season == esSeasonNone || strings.Contains(d, "no season") {
+		t.Errorf("AirPassengers: %s", d)
+	}
+	// Invented: 60 values of 100 plus uniform noise in [−5, 5) from a
+	// linear congruential generator (no season by construction).
+	noise := make([]float64, 60)
+	state := uint32(12345)
+	for i := range noise {
+		state = state*1664525 + 1013904223
+		noise[i] = 100 + 10*(float64(state)/(1<<32)-0.5)
+	}
+	if stat, seasonal := SeasonalityTest(noise, 12); seasonal {
+		t.Fatalf("invented noise seasonal at lag 12 by the test (stat %v)", stat)
+	}
+	fit, err = hw.Fit(noise, 12)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got, want := fit.(Described).Describe(), "holt_winters(error=additive, trend=additive, season=none; no season found)"; got != want {
+		t.Errorf("invented noise, m = 12: %q, want %q", got, want)
+	}
+	fit, err = esNew(t, "holt_winters", Options{"damped": true}).Fit(air[:20], 12)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got, want := fit.(Described).Describe(), "holt_winters(error=additive, trend=damped, season=none; too short to test for a season)"; got != want {
+		t.Errorf("20 values, m = 12: %q, want %q", got, want)
+	}
+}
