@@ -237,7 +237,7 @@ func TestThetaAlphaMatchesTightOptimum(t *testing.T) {
 			if sf, ok := f.(*thetaSeasonalFit); ok {
 				x = sf.Components().Adjusted
 			}
-			sse, _ := thetaSES(x, p.alpha)
+			sse, _ := esLevelFilter(x, p.alpha, x[0])
 			if !(sse <= fx.SES.SSEAtTightAlpha*(1+1e-12)) || !(sse <= fx.SES.SSEAtAlpha) {
 				t.Errorf("%sSSE %.17g at alpha %.12g; scipy %.17g, statsmodels %.17g", src, sse, p.alpha, fx.SES.SSEAtTightAlpha, fx.SES.SSEAtAlpha)
 			}
@@ -293,14 +293,14 @@ func TestThetaByHand(t *testing.T) {
 	decompClose(t, "inner NaN", f.Forecast(2), []float64{8 + 0.5*1.9375, 8 + 0.5*2.9375}, 1e-12)
 }
 
-// TestThetaSESRecursion pins thetaSES by hand (common practice): x = 10,
+// TestThetaSESRecursion pins esLevelFilter, the level-only recursion Theta smooths with, by hand (common practice): x = 10,
 // 12, 11, α = 0.25: errors 0, 2, 0.5 (ℓ = 10, 10, 10.5, 10.625), SSE 4.25.
 func TestThetaSESRecursion(t *testing.T) {
-	sse, level := thetaSES([]float64{10, 12, 11}, 0.25)
+	sse, level := esLevelFilter([]float64{10, 12, 11}, 0.25, 10)
 	if sse != 4.25 || level != 10.625 {
 		t.Errorf("sse %v, level %v; want 4.25, 10.625", sse, level)
 	}
-	sse, level = thetaSES([]float64{10, math.NaN(), 12, 11}, 0.25)
+	sse, level = esLevelFilter([]float64{10, math.NaN(), 12, 11}, 0.25, 10)
 	if sse != 4.25 || level != 10.625 {
 		t.Errorf("with NaN: sse %v, level %v; want 4.25, 10.625", sse, level)
 	}
@@ -323,7 +323,7 @@ func TestThetaBrent(t *testing.T) {
 		{"at upper end", func(x float64) float64 { return -x }, 0, 1, 1},
 		{"at lower end", func(x float64) float64 { return x }, 0.2, 0.4, 0.2},
 	} {
-		x, fx, ok := thetaBrent(tc.f, tc.a, tc.b, 100)
+		x, fx, ok := esBrent(tc.f, tc.a, tc.b, 100)
 		tol := 1e-7
 		if tc.name == "quartic" {
 			tol = 2e-4 // flat: f − f* ~ 1e-16 already at |x − x*| ~ 1e-4
@@ -332,7 +332,7 @@ func TestThetaBrent(t *testing.T) {
 			t.Errorf("%s: x %v (f %v, converged %v), want %v ± %g", tc.name, x, fx, ok, tc.want, tol)
 		}
 	}
-	if _, _, ok := thetaBrent(math.Cos, 2, 4, 2); ok {
+	if _, _, ok := esBrent(math.Cos, 2, 4, 2); ok {
 		t.Error("2 iterations reported convergence")
 	}
 }

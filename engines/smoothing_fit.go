@@ -1,0 +1,957 @@
+package engines
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"math/cmplx"
+
+	"gonum.org/v1/gonum/floats"
+	"gonum.org/v1/gonum/mat"
+)
+
+// This file estimates the smoothing parameters and the initial states of
+// a form by maximum likelihood (esStats.objective). The search alternates
+// two steps until the likelihood stops improving:
+//
+//  1. the smoothing parameters, initial states fixed: the Nelder–Mead
+//     simplex (esSimplex) on logistic-transformed parameters, which keeps
+//     them inside the usual region;
+//  2. the initial states, smoothing parameters fixed: Levenberg–Marquardt
+//     on the likelihood written as a sum of squares, with the exact
+//     Jacobian carried through the recursions (forward mode). For a linear
+//     form one step solves the least-squares problem exactly.
+//
+// Step 2 makes the initial states free parameters at the cost of one pass
+// per iteration, where a simplex over all of them (17 numbers for a monthly
+// form, 55 for a weekly one) would need thousands of passes and converge
+// poorly.
+
+// Bounds enforced on the smoothing parameters while fitting. The open
+// intervals 0 < α, beta, gamma < 1 are kept away from their ends by
+// esEdge.
+const (
+	esEdge   = 1e-4
+	esPhiMin = 0.8
+	esPhiMax = 0.98
+)
+
+// Starting values of the fit, and the Nelder–Mead settings.
+var esStartParams = esParams{alpha: 0.3, beta: 0.1, gamma: 0.1, phi: 0.9}
+
+const (
+	esSimplexStep = 1.0  // initial simplex size, on the logit scale
+	esFTolStart   = 1e-6 // the same for the first search, which the joint refinement follows
+	esXTolStart   = 1e-2
+	esFTol        = 1e-9  // spread of the simplex values, relative to |f|+1 (f is −2 log L + const)
+	esXTol        = 1e-3  // spread of the vertices on the (0, 1) scale of the parameters
+	esEvalsPerDim = 300   // evaluation budget per free parameter and simplex run
+	esRounds      = 2     // at most this many alternations of the two steps
+	esRoundTol    = 1e-3  // stop alternating when −2 log L improves by less (absolute)
+	esLMIter      = 60    // Levenberg–Marquardt iterations per round
+	esUSaturated  = 15    // |u| beyond which a smoothing parameter sits at its bound
+	esUStep       = 2     // largest refinement step of a smoothing parameter on the logit scale
+	esAdmissTol   = 1e-10 // a root of modulus above 1 − esAdmissTol is not admissible
+)
+
+// esLogistic maps u ∈ ℝ into (lo, hi).
+func esLogistic(u, lo, hi float64) float64 {
+	return lo + (hi-lo)/(1+math.Exp(-u))
+}
+
+// esLogit is the inverse of esLogistic.
+func esLogit(p, lo, hi float64) float64 {
+	return math.Log((p - lo) / (hi - p))
+}
+
+// esSlot is a smoothing parameter the optimiser varies.
+type esSlot uint8
+
+const (
+	esSlotAlpha esSlot = iota
+	esSlotBeta
+	esSlotGamma
+	esSlotPhi
+)
+
+func (s esSlot) bounds() (lo, hi float64) {
+	if s == esSlotPhi {
+		return esPhiMin, esPhiMax
+	}
+	return esEdge, 1 - esEdge
+}
+
+func (s esSlot) get(p *esParams) float64 {
+	switch s {
+	case esSlotAlpha:
+		return p.alpha
+	case esSlotBeta:
+		return p.beta
+	case esSlotGamma:
+		return p.gamma
+	}
+	return p.phi
+}
+
+func (s esSlot) set(p *esParams, v float64) {
+	switch s {
+	case esSlotAlpha:
+		p.alpha = v
+	case esSlotBeta:
+		p.beta = v
+	case esSlotGamma:
+		p.gamma = v
+	default:
+		p.phi = v
+	}
+}
+
+// esFitter fits smoothing forms to one series. It owns the scratch buffers
+// of the fit, so that an evaluation allocates nothing; one fitter can fit
+// several forms of the same series in turn (smoothing_auto does). It is not
+// safe for concurrent use.
+type esFitter struct {
+	y     []float64
+	m     int
+	start int // first index of y that is forecast and enters the likelihood
+	scale float64
+
+	form   esForm
+	p      esParams
+	l0, b0 float64
+	s0     []float64 // initial seasonal terms, len m (seasonal forms)
+
+	slots [esMaxDim]esSlot
+	d     int
+	admis bool // reject parameters that are not admissible (esAdmissible) in eval
+
+	ring   []float64 // len m
+	fitted []float64 // len(y)
+	nm     esSimplex
+	evals  int
+
+	// Levenberg–Marquardt scratch, for d smoothing parameters and k free
+	// initial states.
+	k               int
+	dl, db, zero, g []float64
+	ds              []float64 // m·k: derivatives of the seasonal ring
+	res, rtmp, jac  []float64 // residuals, nobs × (d+k) Jacobian
+	nres            int
+	ata, atb, sol   []float64
+	chol            []float64
+	theta, trial    []float64
+
+	// Classical decompositions of the first seasons, by form, computed once.
+	dec    [2]*Decomposition
+	decErr [2]error
+}
+
+// esSolution is the outcome of fitting one form.
+type esSolution struct {
+	form   esForm
+	p      esParams
+	l0, b0 float64
+	s0     []float64 // a copy; nil without a season
+	stats  esStats
+	obj    float64
+	evals  int
+	conv   bool // the last simplex run converged
+	admiss bool // the parameters are admissible (always true without a season)
+}
+
+// finite reports whether the solution has a finite likelihood.
+func (s *esSolution) finite() bool { return !math.IsInf(s.obj, 0) && s.obj == s.obj }
+
+// reset prepares f for the series y with season length m (m ≥ 1), reusing
+// its buffers.
+func (f *esFitter) reset(y []float64, m int) {
+	f.y, f.m, f.start = y, m, 0
+	f.scale = esScale(y)
+	f.dec, f.decErr = [2]*Decomposition{}, [2]error{}
+	f.admis = false
+	if cap(f.fitted) < len(y) {
+		f.fitted = make([]float64, len(y))
+	}
+	f.fitted = f.fitted[:len(y)]
+	if m > 1 {
+		if cap(f.ring) < 2*m {
+			f.ring = make([]float64, 2*m)
+		}
+		f.s0 = f.ring[m : 2*m : 2*m]
+		f.ring = f.ring[:m:m]
+	} else {
+		f.s0, f.ring = nil, nil
+	}
+}
+
+var (
+	esClassicalAdditive       = esMustClassical(FormAdditive)
+	esClassicalMultiplicative = esMustClassical(FormMultiplicative)
+)
+
+func esMustClassical(form string) *Classical {
+	c, err := NewClassical(form, "", "mean")
+	if err != nil {
+		panic("engines: " + err.Error())
+	}
+	return c
+}
+
+// decomposition returns the classical decomposition (mean factors) of the
+// first seasons of y: the first 2m values, or as many further whole seasons
+// as missing values make necessary, up to the whole series.
+func (f *esFitter) decomposition(mult bool) (*Decomposition, error) {
+	k := 0
+	c := esClassicalAdditive
+	if mult {
+		k, c = 1, esClassicalMultiplicative
+	}
+	if f.dec[k] != nil || f.decErr[k] != nil {
+		return f.dec[k], f.decErr[k]
+	}
+	n, m := len(f.y), f.m
+	for w := 2 * m; ; w += m {
+		if w > n {
+			w = n
+		}
+		d, err := c.Decompose(f.y[:w], m)
+		if err == nil || !errors.Is(err, ErrTooShort) || w == n {
+			f.dec[k], f.decErr[k] = d, err
+			return d, err
+		}
+	}
+}
+
+// initStates sets the starting values of the initial states of form, at
+// time 0 (just before y[0]); the fit then estimates them. Without a season:
+// the least-squares line through the first (up to) ten observed values,
+// t = index + 1, read at t = 0 (the level alone: the first observed value).
+// With a season: a classical decomposition of the first two seasons gives
+// the seasonal terms (normalised) and the line through its adjusted values
+// the level and trend (without a trend, the mean of the first season).
+func (f *esFitter) initStates(form esForm) error {
+	f.form = form
+	if form.season == esSeasonNone {
+		var st, sv, stt, stv float64
+		k := 0
+		for i, v := range f.y {
+			if v != v {
+				continue
+			}
+			if k == 0 && form.trend == esTrendNone {
+				f.l0, f.b0 = v, 0
+				return nil
+			}
+			t := float64(i + 1)
+			st += t
+			sv += v
+			stt += t * t
+			stv += t * v
+			if k++; k == 10 {
+				break
+			}
+		}
+		kf := float64(k)
+		f.b0 = 0
+		if den := kf*stt - st*st; k > 1 && den > 0 {
+			f.b0 = (kf*stv - st*sv) / den
+		}
+		f.l0 = (sv - f.b0*st) / kf
+		return nil
+	}
+	d, err := f.decomposition(form.season == esSeasonMultiplicative)
+	if err != nil {
+		return err
+	}
+	copy(f.s0, d.Factors)
+	t0, base, slope := classicalLine(d.Adjusted)
+	if form.trend == esTrendNone {
+		var s float64
+		k := 0
+		for _, v := range d.Adjusted[:f.m] {
+			if v == v {
+				s += v
+				k++
+			}
+		}
+		f.l0, f.b0 = base, 0
+		if k > 0 {
+			f.l0 = s / float64(k)
+		}
+		return nil
+	}
+	f.l0, f.b0 = base-slope*t0, slope
+	return nil
+}
+
+// setSlots lists the parameters of form that the fit varies.
+func (f *esFitter) setSlots(form esForm) {
+	f.d = 0
+	add := func(s esSlot) { f.slots[f.d] = s; f.d++ }
+	add(esSlotAlpha)
+	if form.trend != esTrendNone {
+		add(esSlotBeta)
+	}
+	if form.season != esSeasonNone {
+		add(esSlotGamma)
+	}
+	if form.trend == esTrendDamped {
+		add(esSlotPhi)
+	}
+}
+
+// params maps the optimiser's point u to smoothing parameters.
+func (f *esFitter) params(u []float64) esParams {
+	p := esParams{phi: 1}
+	for k := 0; k < f.d; k++ {
+		s := f.slots[k]
+		lo, hi := s.bounds()
+		s.set(&p, esLogistic(u[k], lo, hi))
+	}
+	return p
+}
+
+// run runs the recursions of f.form at p from f's initial states.
+func (f *esFitter) run(p esParams) esStats {
+	copy(f.ring, f.s0)
+	st := esState{level: f.l0, slope: f.b0, season: f.ring}
+	return esFilter(f.y, f.start, f.form, p, &st, f.fitted)
+}
+
+// eval is the simplex's objective: −2 log L (up to constants) at the
+// smoothing parameters u, the initial states fixed; +Inf where the
+// recursion fails (or, with f.admis, where u is not admissible).
+func (f *esFitter) eval(u []float64) float64 {
+	f.evals++
+	p := f.params(u)
+	if f.admis && !esAdmissible(f.form, f.m, p) {
+		return math.Inf(1)
+	}
+	return f.run(p).objective(f.form, f.scale)
+}
+
+// simplex minimises over the smoothing parameters from f.p, with the
+// initial simplex size step, and leaves the best point in f.p.
+func (f *esFitter) simplex(step, ftol, xtol float64, restart bool) (obj float64, converged bool) {
+	var u [esMaxDim]float64
+	f.toU(u[:f.d])
+	res := f.nm.minimize(f, u[:f.d], step, ftol, xtol, esEvalsPerDim*f.d, restart)
+	f.p = f.params(u[:f.d])
+	return res.F, res.Converged
+}
+
+// nFree is the number of free initial states of f.form.
+func (f *esFitter) nFree() int { return f.form.nStates(f.m) }
+
+// getTheta writes the free initial states into th: ℓ_0, b_0 (with a
+// trend), s_{1−m}…s_{−1} (with a season; s_0 follows from the
+// normalisation).
+func (f *esFitter) getTheta(th []float64) {
+	th[0] = f.l0
+	i := 1
+	if f.form.trend != esTrendNone {
+		th[i] = f.b0
+		i++
+	}
+	if f.form.season != esSeasonNone {
+		copy(th[i:], f.s0[:f.m-1])
+	}
+}
+
+// setTheta sets the initial states from the free ones in th, completing the
+// seasonal terms so that they sum to 0 (additive) or m (multiplicative).
+func (f *esFitter) setTheta(th []float64) {
+	f.l0 = th[0]
+	i := 1
+	if f.form.trend != esTrendNone {
+		f.b0 = th[i]
+		i++
+	} else {
+		f.b0 = 0
+	}
+	if f.form.season != esSeasonNone {
+		c := 0.0
+		if f.form.season == esSeasonMultiplicative {
+			c = float64(f.m)
+		}
+		for j := 0; j < f.m-1; j++ {
+			f.s0[j] = th[i+j]
+			c -= th[i+j]
+		}
+		f.s0[f.m-1] = c
+	}
+}
+
+// grow returns b resized to n elements, zeroed.
+func esGrow(b []float64, n int) []float64 {
+	if cap(b) < n {
+		b = make([]float64, n)
+	}
+	b = b[:n]
+	clear(b)
+	return b
+}
+
+// residuals writes the least-squares residuals of the likelihood at the
+// last run of the recursions (f.fitted) into r, one per observed value, and
+// returns their count: r_t = e_t for the additive error, r_t = G·e_t/μ_t
+// for the multiplicative error with G the geometric mean of the |μ_t|, so
+// that n·log Σ r_t² is the objective in both cases.
+func (f *esFitter) residuals(st esStats, r []float64) int {
+	g := 1.0
+	mult := f.form.err == esErrorMultiplicative
+	if mult {
+		g = math.Exp(st.logmu / float64(st.nobs))
+	}
+	k := 0
+	for i := f.start; i < len(f.y); i++ {
+		v := f.y[i]
+		if v != v {
+			continue
+		}
+		e := v - f.fitted[i]
+		if mult {
+			e = g * e / f.fitted[i]
+		}
+		r[k] = e
+		k++
+	}
+	return k
+}
+
+// jacobian fills f.res with the residuals at (f.p, initial states) and
+// f.jac (column by column, len(y) apart: d+k columns of nobs values) with
+// their derivatives: by finite
+// differences with respect to the d smoothing parameters on the optimiser's
+// scale u, and exactly (the recursions of esFilter differentiated term by
+// term, forward mode) with respect to the k free initial states. It
+// returns false when the recursion fails at the current point.
+func (f *esFitter) jacobian(u []float64) bool {
+	form, m, k, d := f.form, f.m, f.k, f.d
+	P := d + k
+	n := len(f.y)
+	f.res = esGrow(f.res, n)
+	f.rtmp = esGrow(f.rtmp, n)
+	f.jac = esGrow(f.jac, n*P)
+	st := f.run(f.p)
+	if !st.ok {
+		return false
+	}
+	nobs := f.residuals(st, f.res)
+	// Smoothing parameters: forward differences in u.
+	var uu [esMaxDim]float64
+	copy(uu[:d], u)
+	for c := 0; c < d; c++ {
+		if math.Abs(u[c]) > esUSaturated {
+			// At its bound: the logistic map is flat to rounding, and
+			// the simplex, not the refinement, moves it.
+			for t := 0; t < nobs; t++ {
+				f.jac[c*n+t] = 0
+			}
+			continue
+		}
+		h := 1e-6 * math.Max(1, math.Abs(u[c]))
+		uu[c] = u[c] + h
+		sp := f.run(f.params(uu[:d]))
+		uu[c] = u[c]
+		f.evals++
+		if !sp.ok || sp.nobs != nobs {
+			for t := 0; t < nobs; t++ {
+				f.jac[c*n+t] = 0
+			}
+			continue
+		}
+		f.residuals(sp, f.rtmp)
+		for t := 0; t < nobs; t++ {
+			f.jac[c*n+t] = (f.rtmp[t] - f.res[t]) / h
+		}
+	}
+	// Initial states: forward mode.
+	a, be, ge, phi := f.p.ec(form)
+	for _, b := range []*[]float64{&f.dl, &f.db, &f.zero, &f.g} {
+		*b = esGrow(*b, k)
+	}
+	dl, db, g := f.dl, f.db, f.g
+	dl[0] = 1
+	off := 1
+	if form.trend != esTrendNone {
+		db[1] = 1
+		off = 2
+	}
+	seasonal := form.season != esSeasonNone
+	if seasonal {
+		f.ds = esGrow(f.ds, m*k)
+		for j := 0; j < m-1; j++ {
+			f.ds[j*k+off+j] = 1
+			f.ds[(m-1)*k+off+j] = -1
+		}
+	}
+	copy(f.ring, f.s0)
+	l, b := f.l0, f.b0
+	if form.trend == esTrendNone {
+		b = 0
+	}
+	multErr := form.err == esErrorMultiplicative
+	row := 0
+	j := 0
+	for i := f.start; i < n; i++ {
+		sj, dsj := 0.0, f.zero // without a season: zeros that nothing writes
+		if seasonal {
+			sj, dsj = f.ring[j], f.ds[j*k:(j+1)*k]
+		}
+		base := l + phi*b
+		mu := base
+		switch form.season {
+		case esSeasonAdditive:
+			mu = base + sj
+		case esSeasonMultiplicative:
+			mu = base * sj
+		}
+		yv := f.y[i]
+		if yv != yv {
+			// Missing: the states move on without an update.
+			l, b = base, phi*b
+			for x := range k {
+				dl[x] += phi * db[x]
+				db[x] *= phi
+			}
+		} else {
+			e := yv - mu
+			jr := f.jac[d*n+row:] // column x of the states at jr[x*n]
+			row++
+			// ∂ε_t = −∂μ_t (additive error) or −y·∂μ_t/μ² (multiplicative;
+			// the G factor is applied below).
+			c, cg := -1.0, 0.0
+			if multErr {
+				c, cg = -yv/(mu*mu), 1/mu
+			}
+			switch form.season {
+			case esSeasonMultiplicative:
+				q, r := e/sj, e/base
+				l, b = base+a*q, phi*b+be*q
+				f.ring[j] = sj + ge*r
+				isj, ibase := 1/sj, 1/base
+				for x := range k {
+					dbx := dl[x] + phi*db[x]
+					dsx := dsj[x]
+					dmx := sj*dbx + base*dsx
+					jr[x*n] = c * dmx
+					g[x] += cg * dmx
+					dqx := (-dmx - q*dsx) * isj
+					dsj[x] = dsx + ge*(-dmx-r*dbx)*ibase
+					dl[x] = dbx + a*dqx
+					db[x] = phi*db[x] + be*dqx
+				}
+			default:
+				l, b = base+a*e, phi*b+be*e
+				if seasonal {
+					f.ring[j] = sj + ge*e
+				}
+				for x := range k {
+					dbx := dl[x] + phi*db[x]
+					dmx := dbx + dsj[x]
+					jr[x*n] = c * dmx
+					g[x] += cg * dmx
+					if seasonal {
+						dsj[x] -= ge * dmx
+					}
+					dl[x] = dbx - a*dmx
+					db[x] = phi*db[x] - be*dmx
+				}
+			}
+		}
+		if seasonal {
+			if j++; j == m {
+				j = 0
+			}
+		}
+	}
+	if multErr {
+		// r_t = G·ε_t with log G = Σ log μ_u / n: ∂r_t = G·∂ε_t + r_t·∂log G.
+		G := math.Exp(st.logmu / float64(nobs))
+		for x := range k {
+			g[x] /= float64(nobs)
+		}
+		for x := range k {
+			col := f.jac[(d+x)*n : (d+x)*n+nobs]
+			for t := range col {
+				col[t] = G*col[t] + f.res[t]*g[x]
+			}
+		}
+	}
+	f.nres = nobs
+	return true
+}
+
+// normal forms the normal equations J′J (f.ata) and J′r (f.atb) from f.jac
+// and f.res; false when they are not finite.
+func (f *esFitter) normal() bool {
+	P := f.d + f.k
+	f.ata = esGrow(f.ata, P*P)
+	f.atb = esGrow(f.atb, P)
+	// J′J (upper triangle) and J′r as dot products of the columns of J
+	// (stored column by column, len(y) apart), by gonum's vectorised
+	// floats.Dot.
+	n, nr := len(f.y), f.nres
+	res := f.res[:nr]
+	for x := 0; x < P; x++ {
+		cx := f.jac[x*n : x*n+nr]
+		f.atb[x] = floats.Dot(cx, res)
+		for z := x; z < P; z++ {
+			f.ata[x*P+z] = floats.Dot(cx, f.jac[z*n:z*n+nr])
+		}
+	}
+	for x := 0; x < P; x++ {
+		for z := x + 1; z < P; z++ {
+			f.ata[z*P+x] = f.ata[x*P+z]
+		}
+	}
+	for _, v := range f.ata {
+		if v != v || math.IsInf(v, 0) {
+			return false
+		}
+	}
+	return true
+}
+
+// solveDamped solves (ata + λ·(diag(ata) + ε))·δ = −atb by Cholesky into
+// f.sol; false when the matrix is not positive definite.
+func (f *esFitter) solveDamped(lambda float64) bool {
+	P := f.d + f.k
+	f.chol = esGrow(f.chol, P*P)
+	f.sol = esGrow(f.sol, P)
+	c := f.chol
+	var dmax float64
+	for x := range P {
+		dmax = math.Max(dmax, f.ata[x*P+x])
+	}
+	for x := range P {
+		for z := 0; z <= x; z++ {
+			s := f.ata[x*P+z]
+			if z == x {
+				s += lambda * (f.ata[x*P+x] + 1e-12*dmax)
+			}
+			for w := 0; w < z; w++ {
+				s -= c[x*P+w] * c[z*P+w]
+			}
+			if z == x {
+				if !(s > 0) {
+					return false
+				}
+				c[x*P+x] = math.Sqrt(s)
+			} else {
+				c[x*P+z] = s / c[z*P+z]
+			}
+		}
+	}
+	for x := range P {
+		s := -f.atb[x]
+		for w := 0; w < x; w++ {
+			s -= c[x*P+w] * f.sol[w]
+		}
+		f.sol[x] = s / c[x*P+x]
+	}
+	for x := P - 1; x >= 0; x-- {
+		s := f.sol[x]
+		for w := x + 1; w < P; w++ {
+			s -= c[w*P+x] * f.sol[w]
+		}
+		f.sol[x] = s / c[x*P+x]
+	}
+	return true
+}
+
+// refine minimises the objective jointly over the smoothing parameters
+// (on the optimiser's scale) and the free initial states by
+// Levenberg–Marquardt, from the current point whose objective is obj, and
+// returns the new objective. f.p and the initial states hold the result.
+func (f *esFitter) refine(obj float64) float64 {
+	f.k = f.nFree()
+	d, k := f.d, f.k
+	f.theta = esGrow(f.theta, k)
+	f.trial = esGrow(f.trial, k)
+	f.getTheta(f.theta)
+	var u, ut [esMaxDim]float64
+	f.toU(u[:d])
+	// Marquardt's damping, updated by the gain ratio ρ of actual to
+	// predicted reduction of S = Σ r_t² (Nielsen 1999).
+	lambda, nu := 1e-3, 2.0
+	nf := float64(len(f.y))
+	for it := 0; it < esLMIter; it++ {
+		if !f.jacobian(u[:d]) || !f.normal() {
+			break
+		}
+		nf = float64(f.nres)
+		accepted := false
+		for try := 0; try < 8 && !accepted; try++ {
+			if !f.solveDamped(lambda) {
+				lambda *= nu
+				nu *= 2
+				continue
+			}
+			// Clip the step of each smoothing parameter to ±esUStep on the
+			// logit scale (a parameter heading for its bound gets there
+			// over several steps; the states keep their full step).
+			clipped := false
+			for c := 0; c < d; c++ {
+				if a := math.Abs(f.sol[c]); a > esUStep {
+					f.sol[c] *= esUStep / a
+					clipped = true
+				}
+			}
+			for c := 0; c < d; c++ {
+				ut[c] = u[c] + f.sol[c]
+			}
+			for x := range k {
+				f.trial[x] = f.theta[x] + f.sol[d+x]
+			}
+			f.setTheta(f.trial)
+			p := f.params(ut[:d])
+			f.evals++
+			o := f.run(p).objective(f.form, f.scale)
+			if o < obj {
+				// S_old − S_new relative to S_old, and the predicted
+				// reduction −δ′J′r + λ·δ′Dδ relative to S_old.
+				actual := -math.Expm1(-(obj - o) / nf)
+				var pred float64
+				P := d + k
+				for x := 0; x < P; x++ {
+					pred += f.sol[x] * (lambda*f.sol[x]*f.ata[x*P+x] - f.atb[x])
+				}
+				var sOld float64
+				for t := 0; t < f.nres; t++ {
+					sOld += f.res[t] * f.res[t]
+				}
+				rho := 1.0
+				if pred > 0 && sOld > 0 {
+					rho = actual / (pred / sOld)
+				}
+				gain := obj - o
+				obj = o
+				copy(f.theta, f.trial)
+				u = ut
+				f.p = p
+				accepted = true
+				lambda *= math.Max(1.0/3, 1-math.Pow(2*rho-1, 3))
+				nu = 2
+				if gain < esRoundTol && !clipped {
+					it = esLMIter
+				}
+			} else {
+				lambda *= nu
+				nu *= 2
+			}
+		}
+		f.setTheta(f.theta)
+		if !accepted {
+			break
+		}
+	}
+	return obj
+}
+
+// toU writes f.p on the optimiser's scale into u (len f.d).
+func (f *esFitter) toU(u []float64) {
+	for c := 0; c < f.d; c++ {
+		s := f.slots[c]
+		lo, hi := s.bounds()
+		v := math.Min(math.Max(s.get(&f.p), lo+1e-12*(hi-lo)), hi-1e-12*(hi-lo))
+		u[c] = esLogit(v, lo, hi)
+	}
+}
+
+// optimise fits f.form from f's starting states (set by initStates, or
+// directly by a test) and returns the solution: a first simplex search over
+// the smoothing parameters from esStartParams, then joint refinements
+// (refine), each checked by a short simplex search, until neither improves
+// −2 log L by more than esRoundTol. If the result is not admissible, the
+// search runs again refusing inadmissible points.
+func (f *esFitter) optimise() esSolution {
+	f.setSlots(f.form)
+	f.evals = 0
+	sol := f.search(esStartParams)
+	if !sol.admiss && sol.finite() && esAdmissible(f.form, f.m, esStartParams) {
+		f.admis = true
+		sol = f.search(esStartParams)
+		f.admis = false
+	}
+	return sol
+}
+
+// search runs the searches of optimise from the smoothing parameters p0.
+func (f *esFitter) search(p0 esParams) esSolution {
+	f.p = p0
+	obj, conv := f.simplex(esSimplexStep, esFTolStart, esXTolStart, false)
+	return f.rounds(obj, conv)
+}
+
+// rounds alternates refine and a short simplex search from the current
+// point, whose objective is obj, and returns the solution.
+func (f *esFitter) rounds(obj float64, conv bool) esSolution {
+	for round := 0; round < esRounds && !math.IsInf(obj, 1); round++ {
+		o := f.refine(obj)
+		if round > 0 && !(obj-o > esRoundTol) {
+			obj = o
+			break
+		}
+		obj = o
+		o, conv = f.simplex(esSimplexStep/4, esFTol, esXTol, false)
+		if !(obj-o > esRoundTol) {
+			obj = o
+			break
+		}
+		obj = o
+	}
+	return f.solution(obj, conv)
+}
+
+// optimiseFrom fits f.form starting from the smoothing parameters and
+// initial states of a related solution (warm start): the same form with
+// the other error (same recursions), or the undamped form for a damped one
+// (φ = esPhiMax). It skips the first simplex search; when the start has no
+// finite likelihood it falls back to optimise.
+func (f *esFitter) optimiseFrom(from *esSolution) esSolution {
+	f.setSlots(f.form)
+	f.evals = 0
+	f.p = from.p
+	if f.form.trend == esTrendDamped && from.form.trend != esTrendDamped {
+		f.p.phi = esPhiMax
+	}
+	f.l0, f.b0 = from.l0, from.b0
+	if f.form.season != esSeasonNone {
+		copy(f.s0, from.s0)
+	}
+	obj := f.run(f.p).objective(f.form, f.scale)
+	if math.IsInf(obj, 1) {
+		if err := f.initStates(f.form); err != nil {
+			return esSolution{form: f.form, obj: math.Inf(1)}
+		}
+		return f.optimise()
+	}
+	sol := f.rounds(obj, true)
+	if !sol.admiss && sol.finite() && esAdmissible(f.form, f.m, esStartParams) {
+		if err := f.initStates(f.form); err == nil {
+			f.admis = true
+			sol = f.search(esStartParams)
+			f.admis = false
+		}
+	}
+	return sol
+}
+
+// solution records the current point of f.
+func (f *esFitter) solution(obj float64, conv bool) esSolution {
+	sol := esSolution{form: f.form, p: f.p, l0: f.l0, b0: f.b0, evals: f.evals, conv: conv}
+	if f.form.season != esSeasonNone {
+		sol.s0 = append([]float64(nil), f.s0...)
+	}
+	sol.stats = f.run(f.p)
+	sol.obj = sol.stats.objective(f.form, f.scale)
+	sol.admiss = esAdmissible(f.form, f.m, f.p)
+	return sol
+}
+
+// esAdmissible reports whether the smoothing parameters p make the form
+// forecastable: every eigenvalue of the discount matrix D = F − g·w′ of the
+// linear form with the same trend and season (Hyndman et al. 2008, ch. 10)
+// lies inside the unit circle, apart from the unit eigenvalue that the m
+// seasonal states carry by construction (the direction "level up, every
+// seasonal term down by the same amount", which the normalisation removes).
+// For the forms without a season the usual region (esParams with φ ≤ 0.98)
+// lies inside the admissible one (Hyndman et al. 2008, §10.2), so only
+// seasonal forms are checked. Multiplicative seasons are checked through
+// the additive form, common practice for these nonlinear models.
+func esAdmissible(form esForm, m int, p esParams) bool {
+	if form.season == esSeasonNone || m < 2 {
+		return true
+	}
+	a, be, ge, phi := p.ec(form)
+	// States (ℓ, b, s_{t−1}, …, s_{t−m}); w picks ℓ + φb + s_{t−m}.
+	k := m + 2
+	d := mat.NewDense(k, k, nil)
+	w := make([]float64, k)
+	g := make([]float64, k)
+	w[0], w[1], w[k-1] = 1, phi, 1
+	g[0], g[1], g[2] = a, be, ge
+	// F: ℓ' = ℓ + φb, b' = φb, s'_{t} = s_{t−m}, s'_{t−j} = s_{t−j+1}.
+	d.Set(0, 0, 1)
+	if form.trend != esTrendNone {
+		d.Set(0, 1, phi)
+		d.Set(1, 1, phi)
+	} else {
+		w[1] = 0 // no trend state: b ≡ 0 stays 0
+	}
+	d.Set(2, k-1, 1)
+	for j := 3; j < k; j++ {
+		d.Set(j, j-1, 1)
+	}
+	for r := range k {
+		for c := range k {
+			d.Set(r, c, d.At(r, c)-g[r]*w[c])
+		}
+	}
+	var eig mat.Eigen
+	if !eig.Factorize(d, mat.EigenNone) {
+		return false
+	}
+	vals := eig.Values(nil)
+	// Drop the one eigenvalue closest to 1.
+	skip, best := -1, math.Inf(1)
+	for i, z := range vals {
+		if dd := cmplx.Abs(z - 1); dd < best {
+			skip, best = i, dd
+		}
+	}
+	for i, z := range vals {
+		if i != skip && cmplx.Abs(z) >= 1-esAdmissTol {
+			return false
+		}
+	}
+	return true
+}
+
+// esMinObserved is the fewest observed values a form without a season
+// needs: two for the level alone, three with a trend.
+func esMinObserved(form esForm) int {
+	if form.trend == esTrendNone {
+		return 2
+	}
+	return 3
+}
+
+// esFitForm fits one form to y with season length m. It returns an error
+// wrapping ErrTooShort when the series is too short for the form and one
+// wrapping ErrNonPositiveState when a form with a multiplicative part finds
+// no point where its states stay positive.
+func esFitForm(name string, y []float64, m int, form esForm) (*esModel, error) {
+	nobs, _, err := esCheck(name, y)
+	if err != nil {
+		return nil, err
+	}
+	if form.season != esSeasonNone {
+		if m < 2 {
+			return nil, fmt.Errorf("%s: season length %d; a seasonal form needs a season of at least 2", name, m)
+		}
+		if len(y) < 2*m {
+			return nil, fmt.Errorf("%s: %d values; a seasonal form needs at least %d (2 seasons of %d): %w", name, len(y), 2*m, m, ErrTooShort)
+		}
+	} else if min := esMinObserved(form); nobs < min {
+		return nil, fmt.Errorf("%s: %d observed values; needs at least %d: %w", name, nobs, min, ErrTooShort)
+	}
+	if m < 1 || form.season == esSeasonNone {
+		m = 1
+	}
+	f := new(esFitter)
+	f.reset(y, m)
+	if err := f.initStates(form); err != nil {
+		return nil, fmt.Errorf("%s: start-up values: %w", name, err)
+	}
+	sol := f.optimise()
+	if !sol.finite() {
+		if form.positive() {
+			return nil, fmt.Errorf("%s: %s: no parameters keep the levels, seasonal factors and one-step forecasts > 0: %w", name, form.describe(), ErrNonPositiveState)
+		}
+		return nil, fmt.Errorf("%s: %s: the recursions overflow at every parameter value tried; the values are too large to smooth", name, form.describe())
+	}
+	return f.model(name, sol), nil
+}
