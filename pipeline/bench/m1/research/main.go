@@ -22,6 +22,8 @@ import (
 	"sort"
 	"strings"
 	"sync"
+	"sync/atomic"
+	"time"
 
 	"almanac/engines"
 	"almanac/pipeline/bench/m1/m1data"
@@ -37,6 +39,9 @@ type candidate struct {
 	// seasonality test (90%, two full seasons) says no season.
 	fallback string
 	wrap     bool // deseasonalized (see rules.go)
+	// name1, opts1: the method used instead when the season length is 1.
+	name1 string
+	opts1 engines.Options
 }
 
 var candidates = []candidate{
@@ -59,6 +64,8 @@ var candidates = []candidate{
 	{label: "ds_holt_damped", name: "holt", opts: engines.Options{"damped": true}, wrap: true},
 	{label: "arima", name: "arima"},
 	{label: "ets", name: "ets"},
+	{label: "damped", name: "holt_winters", opts: engines.Options{"seasonal": "auto", "trend": true, "damped": true},
+		name1: "holt", opts1: engines.Options{"damped": true}},
 }
 
 func stlOpts() engines.Options {
@@ -104,7 +111,16 @@ func main() {
 		}
 	}
 	methods := make([]engines.Method, len(cands))
+	methods1 := make([]engines.Method, len(cands))
 	for i, c := range cands {
+		if c.name1 != "" {
+			m, err := engines.New(c.name1, c.opts1)
+			if err != nil {
+				fmt.Fprintln(os.Stderr, c.label, err)
+				os.Exit(1)
+			}
+			methods1[i] = m
+		}
 		m, err := engines.New(c.name, c.opts)
 		if err != nil {
 			fmt.Fprintln(os.Stderr, c.label, err)
@@ -134,7 +150,17 @@ func main() {
 		go func() {
 			defer wg.Done()
 			for i := range next {
-				res[i] = fitSeries(all[i], cands, methods, fallbacks, *folds)
+				ms := methods
+				if all[i].Period < 2 {
+					ms = make([]engines.Method, len(methods))
+					for j := range ms {
+						ms[j] = methods[j]
+						if methods1[j] != nil {
+							ms[j] = methods1[j]
+						}
+					}
+				}
+				res[i] = fitSeries(all[i], cands, ms, fallbacks, *folds)
 			}
 		}()
 	}
@@ -148,6 +174,12 @@ func main() {
 		labels[i] = c.label
 	}
 	evaluate(res, labels)
+	fmt.Println()
+	fmt.Println("| candidate | fit time, ms per series (whole train part + folds) |")
+	fmt.Println("|---|---:|")
+	for i, l := range labels {
+		fmt.Printf("| %s | %.2f |\n", l, float64(cpu[i].Load())/1e6/float64(len(all)))
+	}
 }
 
 func fit(m engines.Method, fb engines.Method, y []float64, season, h int) []float64 {
@@ -183,6 +215,10 @@ func safeFit(m engines.Method, y []float64, season int) (f engines.Fitted, err e
 	return m.Fit(y, season)
 }
 
+// cpu[i] is the wall time spent fitting candidate i, in nanoseconds,
+// summed over workers (a proxy for its CPU cost).
+var cpu [64]atomic.Int64
+
 func fitSeries(s *m1data.Series, cands []candidate, methods []engines.Method, fbs map[string]engines.Method, folds int) *result {
 	h, m := len(s.Test), s.Period
 	r := &result{s: s, full: make([][]float64, len(cands)), fold: make([][][]float64, len(cands))}
@@ -212,11 +248,13 @@ func fitSeries(s *m1data.Series, cands []candidate, methods []engines.Method, fb
 			continue
 		}
 		fb := fbs[c.label]
+		t0 := time.Now()
 		r.full[i] = fit(methods[i], fb, s.Train, m, h)
 		r.fold[i] = make([][]float64, len(origins))
 		for k, o := range origins {
 			r.fold[i][k] = fit(methods[i], fb, s.Train[:o:o], m, h)
 		}
+		cpu[i].Add(int64(time.Since(t0)))
 	}
 	return r
 }

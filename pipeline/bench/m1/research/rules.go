@@ -165,6 +165,40 @@ func evaluate(res []*result, labels []string) {
 			return combo
 		}
 	}
+	// weighted: the pool's forecasts weighted by 1/fold MASE (equal
+	// weights without folds).
+	weighted := func(pool []string) func(*result) []float64 {
+		return func(r *result) []float64 {
+			ls := poolOf(r, pool)
+			var out []float64
+			tot := 0.0
+			for _, l := range ls {
+				f, fo := member(r, l)
+				w := 1.0
+				if len(r.actual) > 0 {
+					s := foldMASE(r, fo)
+					if !(s > 0) || math.IsInf(s, 0) {
+						continue
+					}
+					w = 1 / s
+				}
+				if out == nil {
+					out = make([]float64, len(f))
+				}
+				for j := range f {
+					out[j] += w * f[j]
+				}
+				tot += w
+			}
+			if out == nil {
+				return fixed("mean", pool)(r)
+			}
+			for j := range out {
+				out[j] /= tot
+			}
+			return out
+		}
+	}
 	// select: best by fold MASE among singles and the top-3 mean (today's
 	// pipeline rule).
 	selectBest := func(pool []string) func(*result) []float64 {
@@ -225,6 +259,18 @@ func evaluate(res []*result, labels []string) {
 		{"ets", "theta", "arima", "ds_ses", "ds_holt_damped"},
 		{"ets", "theta", "arima", "stl_auto"},
 		{"ets", "theta", "ds_holt_damped"},
+		{"smoothing_auto", "theta", "arima", "stl_auto"},
+		{"smoothing_auto", "theta", "arima", "ds_holt_damped", "stl_auto"},
+		{"smoothing_auto", "theta", "arima", "ds_ses"},
+		{"smoothing_auto", "theta", "arima", "naive2"},
+		{"ets", "theta", "arima", "naive2"},
+		{"ets", "theta", "arima", "ds_holt_damped", "stl_auto"},
+		{"smoothing_auto", "theta", "damped", "stl_auto"},
+		{"smoothing_auto", "theta", "damped"},
+		{"smoothing_auto", "theta", "ds_holt_damped"},
+		{"smoothing_auto", "theta", "ds_holt_damped", "stl_auto"},
+		{"smoothing_auto", "theta", "arima", "damped", "stl_auto"},
+		{"smoothing_auto", "theta", "arima", "damped"},
 	}
 	for _, p := range pools {
 		ok := true
@@ -242,7 +288,8 @@ func evaluate(res []*result, labels []string) {
 			rules = append(rules, rule{kind + "(" + name + ")", fixed(kind, p)})
 		}
 		rules = append(rules, rule{"top2 mean(" + name + ")", topK("mean", p, 2)})
-		for _, mg := range []float64{0.1, 0.25} {
+		rules = append(rules, rule{"inverse-MASE weighted(" + name + ")", weighted(p)})
+		for _, mg := range []float64{0.1, 0.25, 0.5} {
 			rules = append(rules, rule{fmt.Sprintf("mean or single>%.0f%%(%s)", mg*100, name), comboOrSingle("mean", p, p, mg)})
 		}
 	}
