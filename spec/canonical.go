@@ -46,6 +46,10 @@ type canonicalSelect struct {
 	Route    map[string][]string `json:"route,omitempty"`
 	Metric   string              `json:"metric"`
 	Combine  *Combination        `json:"combine,omitempty"`
+	// Choose is written only when it is not the default (best), so that
+	// the canonical form, and the hash, of specs written before the
+	// choose key existed do not change.
+	Choose string `json:"choose,omitempty"`
 }
 
 type canonicalIntervals struct {
@@ -120,6 +124,9 @@ func (s *Spec) Canonical() []byte {
 	if b := s.Backtest; b.Folds > 0 {
 		c.Backtest = &canonicalBacktest{Folds: b.Folds, Step: b.Step, Horizon: b.Horizon, Window: string(b.Window), MinTrain: b.MinTrain, WindowLength: b.WindowLength}
 		c.Selection = &canonicalSelect{Metric: s.Selection.Metric, Combine: s.Selection.Combine, Fallback: s.Selection.Fallback, Route: s.Selection.Route}
+		if s.Selection.Choose != ChooseBest {
+			c.Selection.Choose = s.Selection.Choose
+		}
 	}
 	if len(s.Intervals.Levels) > 0 {
 		c.Intervals = &canonicalIntervals{Levels: s.Intervals.Levels, Source: s.Intervals.Source, AllMethods: s.Intervals.AllMethods}
@@ -184,6 +191,13 @@ func FromCanonical(canonical []byte, file string) (*Spec, error) {
 				}
 			}
 			ms[i] = flat
+		}
+	}
+	// The canonical form always carries the (default) decomposition, but a
+	// spec with a season length below 2 may not name one: leave it out.
+	if cal, ok := c["calendar"].(map[string]any); ok {
+		if sl, ok := cal["season_length"].(float64); ok && sl < 2 {
+			delete(c, "decomposition")
 		}
 	}
 	if b, ok := c["backtest"].(map[string]any); ok {

@@ -106,6 +106,7 @@ func (d *decoder) yamlError(err error) *Error {
 
 type decoder struct {
 	routeNodes []labelRef
+	chooseNode *yaml.Node // selection.choose, when given
 	file       string
 	src        []byte
 	errs       ErrorList
@@ -327,7 +328,7 @@ func (d *decoder) spec(root *yaml.Node) *Spec {
 		backtestNode, selectionNode, intervalsNode *yaml.Node
 		decompNode, seasonNode                     *yaml.Node
 		methodNodes                                []*yaml.Node
-		haveDecomp                                 bool
+		haveDecomp, haveMethods                    bool
 	)
 	d.mapping(root, "", "the spec", []field{
 		{"version", true, func(n *yaml.Node, p string) {
@@ -363,8 +364,9 @@ func (d *decoder) spec(root *yaml.Node) *Spec {
 			decompNode, haveDecomp = n, true
 			d.decomposition(n, p, &s.Decomposition)
 		}},
-		{"methods", true, func(n *yaml.Node, p string) {
+		{"methods", false, func(n *yaml.Node, p string) {
 			s.Methods, methodNodes = d.methods(n, p)
+			haveMethods = true
 		}},
 		{"horizon", true, func(n *yaml.Node, p string) {
 			if d.integer(n, p, "the forecast horizon (a whole number of periods)", &s.Horizon) && s.Horizon <= 0 {
@@ -438,6 +440,25 @@ func (d *decoder) spec(root *yaml.Node) *Spec {
 	if s.Output == "" && s.Name != "" {
 		s.Output = DefaultOutputRoot + "/" + s.Name
 	}
+	if !haveMethods && s.Calendar.SeasonLength > 0 {
+		// The default automatic spec: almanac's pool, and its backtest
+		// and selection where the spec gives none.
+		s.Automatic = true
+		s.Methods = DefaultMethods(s.Calendar.SeasonLength)
+		methodNodes = make([]*yaml.Node, len(s.Methods))
+		for i := range methodNodes {
+			methodNodes[i] = root
+		}
+		if backtestNode == nil {
+			s.Backtest = DefaultAutomaticBacktest
+		}
+		if selectionNode == nil {
+			s.Selection = DefaultAutomaticSelection(len(s.Methods))
+		}
+	}
+	if s.Selection.Choose == ChooseCombination && s.Selection.Combine == nil && d.chooseNode != nil {
+		d.errAt(d.chooseNode, "selection.choose", "choose: combination needs a combine section (kind and top) to say what the combination is")
+	}
 	if b := &s.Backtest; b.Folds > 0 {
 		if b.Horizon == 0 {
 			b.Horizon = s.Horizon
@@ -449,7 +470,7 @@ func (d *decoder) spec(root *yaml.Node) *Spec {
 			b.MinTrain = max(2*s.Calendar.SeasonLength, 3)
 		}
 	}
-	if selectionNode != nil && backtestNode == nil {
+	if selectionNode != nil && backtestNode == nil && !s.Automatic {
 		d.errAt(selectionNode, "selection", "selection ranks methods by their backtest; add a backtest section")
 	}
 	if c := s.Selection.Combine; c != nil && c.Top > len(s.Methods) && len(s.Methods) > 0 && len(d.errs) == 0 {

@@ -60,14 +60,43 @@ type Selection struct {
 	// (or on which no entry could be scored); default seasonal_naive when
 	// the spec has it, else the first method.
 	Fallback string
+	// Choose is the rule: ChooseBest (default) or ChooseCombination.
+	Choose string
 }
 
-// DefaultSelection ranks by MASE.
-var DefaultSelection = Selection{Metric: "mase"}
+// Choice rules.
+const (
+	// ChooseBest: the entry (a method or the combination) with the best
+	// backtest score wins, per series.
+	ChooseBest = "best"
+	// ChooseCombination: the combination entry is chosen for every series
+	// where it has a forecast (with equal weights and every member where
+	// the series has no backtest fold); the backtest still scores every
+	// entry. Needs selection.combine.
+	ChooseCombination = "combination"
+)
+
+// ChooseRules lists the allowed values of Selection.Choose.
+var ChooseRules = []string{ChooseBest, ChooseCombination}
+
+// DefaultSelection ranks by MASE and chooses the best entry.
+var DefaultSelection = Selection{Metric: "mase", Choose: ChooseBest}
+
+// Combination kinds.
+const (
+	CombineMeanKind   = "mean"
+	CombineMedianKind = "median"
+	// CombineWeighted weights each member by the reciprocal of its mean
+	// backtest score (the selection metric) over the folds.
+	CombineWeighted = "weighted"
+)
+
+// CombinationKinds lists the allowed values of Combination.Kind.
+var CombinationKinds = []string{CombineMeanKind, CombineMedianKind, CombineWeighted}
 
 // Combination averages the k best methods of each series.
 type Combination struct {
-	Kind  string `json:"kind"`  // mean or median
+	Kind  string `json:"kind"`  // mean, median or weighted
 	Top   int    `json:"top"`   // how many of the series' best methods to combine; default 3
 	Label string `json:"label"` // the entry's method label; default "combination"
 }
@@ -132,6 +161,10 @@ func (d *decoder) backtest(n *yaml.Node, path string, b *Backtest) {
 func (d *decoder) selection(n *yaml.Node, path string, s *Selection) {
 	d.mapping(n, path, "selection", []field{
 		{"metric", false, func(n *yaml.Node, p string) { d.enum(n, p, "metric", Metrics, &s.Metric) }},
+		{"choose", false, func(n *yaml.Node, p string) {
+			d.enum(n, p, "choice rule", ChooseRules, &s.Choose)
+			d.chooseNode = n
+		}},
 		{"fallback", false, func(n *yaml.Node, p string) { d.str(n, p, "the label of a method", &s.Fallback) }},
 		{"route", false, func(n *yaml.Node, p string) {
 			s.Route = map[string][]string{}
@@ -161,7 +194,7 @@ func (d *decoder) selection(n *yaml.Node, path string, s *Selection) {
 		{"combine", false, func(n *yaml.Node, p string) {
 			c := &Combination{Top: 3, Label: "combination"}
 			d.mapping(n, p, "combine", []field{
-				{"kind", true, func(n *yaml.Node, p string) { d.enum(n, p, "combination kind", []string{"mean", "median"}, &c.Kind) }},
+				{"kind", true, func(n *yaml.Node, p string) { d.enum(n, p, "combination kind", CombinationKinds, &c.Kind) }},
 				{"top", false, func(n *yaml.Node, p string) {
 					if d.integer(n, p, "how many methods to combine", &c.Top) && c.Top < 2 {
 						d.errAt(n, p, "top must be at least 2, found %d", c.Top)

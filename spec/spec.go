@@ -29,6 +29,13 @@ type Spec struct {
 	Intervals     Intervals // no Levels: no intervals
 	Report        *Report   // nil: no HTML report
 
+	// Automatic is true when the spec left out methods and runs the
+	// default automatic spec (DefaultMethods, and DefaultAutomaticBacktest
+	// and DefaultAutomaticSelection where it gives no backtest or
+	// selection). The canonical form lists the methods; it does not
+	// record this flag.
+	Automatic bool
+
 	// File is the path the spec was loaded from, Dir its folder. Neither is
 	// part of the canonical form.
 	File string
