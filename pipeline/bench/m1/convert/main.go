@@ -102,7 +102,7 @@ horizon: %d
 }
 
 // methodList is every catalogue method at its defaults, seasonal ones only
-// when m > 1, plus holt with a damped trend.
+// when m > 1, plus holt with a damped trend and damped_trend.
 func methodList(m int) string {
 	var b strings.Builder
 	for _, name := range spec.MethodNames() {
@@ -113,6 +113,14 @@ func methodList(m int) string {
 		if name == "holt" {
 			b.WriteString("  - {method: holt, damped: true, label: holt_damped}\n")
 		}
+	}
+	// The default pool's damped trend, under one label for every subset:
+	// holt (damped) without a season, holt_winters (damped, season
+	// tested) with one.
+	if m < 2 {
+		b.WriteString("  - {method: holt, damped: true, label: damped_trend}\n")
+	} else {
+		b.WriteString("  - {method: holt_winters, damped: true, label: damped_trend}\n")
 	}
 	return b.String()
 }
