@@ -8,8 +8,8 @@ import (
 	"testing"
 )
 
-// refSeries reads x from testdata/reference/data/<name>.json (R's datasets).
-func refSeries(t *testing.T, name string) []float64 {
+// datasetValues reads x from testdata/reference/data/<name>.json (R's datasets).
+func datasetValues(t *testing.T, name string) []float64 {
 	t.Helper()
 	b, err := os.ReadFile(filepath.Join("testdata", "reference", "data", name+".json"))
 	if err != nil {
@@ -50,7 +50,7 @@ func TestNaive2AgainstR(t *testing.T) {
 			t.Fatal(err)
 		}
 		seen[fx.Seasonal]++
-		y := refSeries(t, fx.Name)
+		y := datasetValues(t, fx.Name)
 		keep := append([]float64(nil), y...)
 		m, err := New("naive2", nil)
 		if err != nil {

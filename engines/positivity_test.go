@@ -24,7 +24,7 @@ import (
 var falling = []float64{200, 185, 168, 150, 139, 120, 104, 90, 71, 60, 45, 30, 22, 12, 8, 5}
 
 func TestNeverNegativeOnPositiveHistory(t *testing.T) {
-	series := [][]float64{falling, refSeries(t, "AirPassengers")[:48], refSeries(t, "Nile"), {3, 1, 4, 1, 5, 9, 2, 6, 5, 3, 5, 8}}
+	series := [][]float64{falling, datasetValues(t, "AirPassengers")[:48], datasetValues(t, "Nile"), {3, 1, 4, 1, 5, 9, 2, 6, 5, 3, 5, 8}}
 	for _, name := range []string{"naive", "seasonal_naive", "mean", "ses", "naive2", "croston", "sba", "tsb"} {
 		m, err := New(name, nil)
 		if err != nil {

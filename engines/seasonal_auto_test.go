@@ -9,8 +9,8 @@ import (
 // WWWusage (R datasets) read with season 12 has no season by the test (R
 // agrees: naive2/WWWusage_m12.json); AirPassengers with 12 has one.
 func TestSeasonalAutoClassicalAndSTL(t *testing.T) {
-	www := refSeries(t, "WWWusage")
-	air := refSeries(t, "AirPassengers")
+	www := datasetValues(t, "WWWusage")
+	air := datasetValues(t, "AirPassengers")
 	if _, s := SeasonalityTest(www, 12); s {
 		t.Fatal("WWWusage at lag 12 tests seasonal; the test below needs a non-seasonal series")
 	}
