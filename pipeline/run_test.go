@@ -320,6 +320,7 @@ func TestSameBytesAtAnyWorkerCount(t *testing.T) {
 	one := runBytes(t, s, filepath.Join(dir, "w1"), 1)
 	two := runBytes(t, s, filepath.Join(dir, "w2"), 2)
 	four := runBytes(t, s, filepath.Join(dir, "w4"), 4)
+	checkTableHashes(t, "determinism-2000", one)
 	for name := range one {
 		if !bytes.Equal(one[name], two[name]) || !bytes.Equal(one[name], four[name]) {
 			t.Errorf("%s differs between 1, 2 and 4 workers", name)
