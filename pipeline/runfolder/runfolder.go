@@ -1,6 +1,8 @@
-// Package runfolder reads an almanac run folder: its manifest and its
-// Parquet tables, for the commands that look at finished runs (diff,
-// explain, verify, the HTML report). It imports nothing else of almanac.
+// Package runfolder is the output contract of a run, written and read: the
+// table schemas, the Parquet writer, the one manifest type, the atomic
+// commit, shard parts and their combination, lineage — and the reader the
+// review commands (report, diff, explain) and verify use. It imports nothing
+// of almanac but the spec.
 package runfolder
 
 import (
@@ -20,59 +22,12 @@ import (
 	"github.com/apache/arrow-go/v18/parquet/pqarrow"
 )
 
-// Marker is the file that marks an almanac run folder.
-const Marker = ".almanac-run"
-
 // Run is an opened run folder.
 type Run struct {
 	Dir      string
 	Manifest Manifest
 	// Raw is manifest.json as it is on disk.
 	Raw []byte
-}
-
-// Manifest is the part of manifest.json that readers need. Unknown fields
-// are kept in Run.Raw.
-type Manifest struct {
-	Almanac string `json:"almanac_version"`
-	RunID   string `json:"run_id"`
-	Spec    struct {
-		Name      string          `json:"name"`
-		File      string          `json:"file"`
-		SHA256    string          `json:"sha256"`
-		Canonical json.RawMessage `json:"canonical"`
-	} `json:"spec"`
-	Inputs []struct {
-		Path   string `json:"path"`
-		Format string `json:"format"`
-		Size   int64  `json:"size"`
-		SHA256 string `json:"sha256"`
-		Rows   int64  `json:"rows"`
-	} `json:"inputs"`
-	Series  int `json:"series"`
-	Methods []struct {
-		Label   string         `json:"label"`
-		Method  string         `json:"method"`
-		Options map[string]any `json:"options"`
-	} `json:"methods"`
-	Tables []struct {
-		Name   string `json:"name"`
-		File   string `json:"file"`
-		Rows   int64  `json:"rows"`
-		Bytes  int64  `json:"bytes"`
-		SHA256 string `json:"sha256"`
-	} `json:"tables"`
-	Leaderboard *struct {
-		Metric  string `json:"selection_metric"`
-		Entries []struct {
-			Method     string  `json:"method"`
-			Series     int     `json:"series_scored"`
-			MeanMASE   float64 `json:"mean_mase"`
-			MedianMASE float64 `json:"median_mase"`
-			WinShare   float64 `json:"win_share"`
-		} `json:"entries"`
-		Chosen map[string]int `json:"series_per_chosen_method"`
-	} `json:"leaderboard"`
 }
 
 // CanonicalSpec is the subset of the canonical spec readers use.
@@ -96,21 +51,21 @@ type CanonicalSpec struct {
 // Open reads a run folder's manifest. It fails on a folder that is not an
 // almanac run folder.
 func Open(dir string) (*Run, error) {
-	if _, err := os.Stat(filepath.Join(dir, Marker)); err != nil {
-		return nil, fmt.Errorf("%s is not an almanac run folder (no %s)", dir, Marker)
+	if _, err := os.Stat(filepath.Join(dir, MarkerFile)); err != nil {
+		return nil, fmt.Errorf("%s is not an almanac run folder (no %s)", dir, MarkerFile)
 	}
 	return readRun(dir)
 }
 
 // readRun reads dir's manifest.json into a Run.
 func readRun(dir string) (*Run, error) {
-	raw, err := os.ReadFile(filepath.Join(dir, "manifest.json"))
+	raw, err := os.ReadFile(filepath.Join(dir, ManifestFile))
 	if err != nil {
 		return nil, err
 	}
 	r := &Run{Dir: dir, Raw: raw}
 	if err := json.Unmarshal(raw, &r.Manifest); err != nil {
-		return nil, fmt.Errorf("%s: %v", filepath.Join(dir, "manifest.json"), err)
+		return nil, fmt.Errorf("%s: %v", filepath.Join(dir, ManifestFile), err)
 	}
 	return r, nil
 }

@@ -1,4 +1,4 @@
-package pipeline
+package runfolder
 
 import (
 	"crypto/rand"
@@ -20,13 +20,13 @@ const markerText = "This folder is an almanac run folder. almanac replaces it wh
 
 const tmpPrefix = ".almanac-tmp-"
 
-// checkTarget refuses output folders that almanac must not touch: a folder
+// CheckTarget refuses output folders that almanac must not touch: a folder
 // that exists and is not an (empty folder or) almanac run folder, and any
 // folder that holds one of the run's inputs.
-func checkTarget(target string, inputs []InputFile) error {
+func CheckTarget(target string, inputs []Input) error {
 	for _, in := range inputs {
-		dir := filepath.Dir(in.abs)
-		if dir == target || strings.HasPrefix(in.abs, target+string(os.PathSeparator)) {
+		dir := filepath.Dir(in.Abs)
+		if dir == target || strings.HasPrefix(in.Abs, target+string(os.PathSeparator)) {
 			return fmt.Errorf("output folder %s holds the input %s; write the run somewhere else (replacing the folder would delete the input)", target, in.Path)
 		}
 	}
@@ -53,16 +53,16 @@ func checkTarget(target string, inputs []InputFile) error {
 	return fmt.Errorf("output folder %s exists and is not an almanac run folder (it has no %s file); refusing to overwrite it — choose another output or remove it yourself", target, MarkerFile)
 }
 
-// makeStaging creates the hidden sibling folder a run writes into, and
+// MakeStaging creates the hidden sibling folder a run writes into, and
 // removes staging folders that killed runs into the same target left behind.
-func makeStaging(target string) (string, error) {
+func MakeStaging(target string) (string, error) {
 	parent := filepath.Dir(target)
 	if err := os.MkdirAll(parent, 0o755); err != nil {
 		return "", err
 	}
 	stale, _ := filepath.Glob(filepath.Join(parent, tmpPrefix+filepath.Base(target)+"-*"))
 	for _, s := range stale {
-		if _, err := os.Stat(filepath.Join(s, MarkerFile+".staging")); err == nil {
+		if _, err := os.Stat(filepath.Join(s, StagingMarker)); err == nil {
 			os.RemoveAll(s)
 		}
 	}
@@ -75,28 +75,28 @@ func makeStaging(target string) (string, error) {
 		return "", err
 	}
 	// A staging marker lets a later run recognise and clean this folder.
-	if err := os.WriteFile(filepath.Join(dir, MarkerFile+".staging"), nil, 0o644); err != nil {
+	if err := os.WriteFile(filepath.Join(dir, StagingMarker), nil, 0o644); err != nil {
 		os.RemoveAll(dir)
 		return "", err
 	}
 	return dir, nil
 }
 
-// commitStaging makes the staging folder the run folder in one step. When
+// CommitStaging makes the staging folder the run folder in one step. When
 // the target exists, the two are exchanged atomically (renameat2
 // RENAME_EXCHANGE) and the old run is removed; elsewhere the old run is
 // moved aside first. Readers see the old run or the new one, never a mix.
-func commitStaging(staging, target string) error {
-	if err := os.Remove(filepath.Join(staging, MarkerFile+".staging")); err != nil {
+func CommitStaging(staging, target string) error {
+	if err := os.Remove(filepath.Join(staging, StagingMarker)); err != nil {
 		return err
 	}
 	if err := os.WriteFile(filepath.Join(staging, MarkerFile), []byte(markerText), 0o644); err != nil {
 		return err
 	}
-	if err := fsyncPath(filepath.Join(staging, MarkerFile)); err != nil {
+	if err := FsyncPath(filepath.Join(staging, MarkerFile)); err != nil {
 		return err
 	}
-	if err := fsyncPath(staging); err != nil {
+	if err := FsyncPath(staging); err != nil {
 		return err
 	}
 	parent := filepath.Dir(target)
@@ -104,11 +104,11 @@ func commitStaging(staging, target string) error {
 		if err := os.Rename(staging, target); err != nil {
 			return err
 		}
-		return fsyncPath(parent)
+		return FsyncPath(parent)
 	}
 	if err := unix.Renameat2(unix.AT_FDCWD, staging, unix.AT_FDCWD, target, unix.RENAME_EXCHANGE); err == nil {
 		// staging now holds the previous run.
-		fsyncPath(parent)
+		FsyncPath(parent)
 		return os.RemoveAll(staging)
 	}
 	old := staging + ".old"
@@ -119,6 +119,6 @@ func commitStaging(staging, target string) error {
 		os.Rename(old, target)
 		return err
 	}
-	fsyncPath(parent)
+	FsyncPath(parent)
 	return os.RemoveAll(old)
 }

@@ -1,29 +1,36 @@
-package pipeline
+// Package evaluate is the Evaluation stage: rolling-origin backtests of
+// every method on every series, per-series selection (and an optional
+// combination entry), prediction intervals and the leaderboard.
+package evaluate
 
 import (
-	"encoding/json"
 	"fmt"
 	"math"
 	"slices"
 	"sort"
+	"strings"
 
 	"gonum.org/v1/gonum/stat/distuv"
 
 	"almanac/engines"
+	"almanac/pipeline/calendar"
+	"almanac/pipeline/forecast"
+	"almanac/pipeline/runfolder"
+	"almanac/pipeline/series"
 	"almanac/spec"
 )
 
-// The evaluation stage: rolling-origin backtests of every method on every
+// The Evaluation stage: rolling-origin backtests of every method on every
 // series, per-series selection (and an optional combination entry), and
 // prediction intervals. It runs as a first pass over the series, before the
 // final forecasts; what it learns per series (the choice, the combination's
 // members) and across series (the distribution of scaled errors at each
 // step ahead) is read by the second pass.
 
-// evaluation is the state shared by both passes. Pass 1 fills it from the
+// Evaluation is the state shared by both passes. Pass 1 fills it from the
 // single goroutine that emits results, so it needs no locks; pass 2 only
 // reads it.
-type evaluation struct {
+type Evaluation struct {
 	bt      spec.Backtest
 	metric  string
 	combo   *spec.Combination
@@ -50,17 +57,18 @@ type evaluation struct {
 
 // seriesChoice is what pass 1 decided for one series.
 type seriesChoice struct {
-	chosen   string    // label, "" for a series with no usable history
-	fallback bool      // chosen is the fallback: no entry could be scored
-	members  []string  // the combination's methods for this series
-	problems []problem // the backtest's problems rows, written with the series
+	chosen   string              // label, "" for a series with no usable history
+	fallback bool                // chosen is the fallback: no entry could be scored
+	members  []string            // the combination's methods for this series
+	problems []runfolder.Problem // the backtest's problems rows, written with the series
 }
 
-func newEvaluation(s *spec.Spec, n int) *evaluation {
+// New prepares the evaluation of n series; nil without a backtest.
+func New(s *spec.Spec, n int) *Evaluation {
 	if s.Backtest.Folds == 0 {
 		return nil
 	}
-	e := &evaluation{bt: s.Backtest, metric: s.Selection.Metric, combo: s.Selection.Combine,
+	e := &Evaluation{bt: s.Backtest, metric: s.Selection.Metric, combo: s.Selection.Combine,
 		levels: s.Intervals.Levels, source: s.Intervals.Source, allMeth: s.Intervals.AllMethods,
 		choices: make([]seriesChoice, n), errs: map[string][]*errorHistogram{},
 		mase: map[string][]float64{}, wins: map[string]int{}, fallback: s.Selection.Fallback, route: s.Selection.Route}
@@ -96,15 +104,15 @@ type foldScore struct {
 	failed bool
 }
 
-// backtestResult is pass 1's output for one series.
-type backtestResult struct {
-	series   *Series
+// Backtest is pass 1's output for one series.
+type Backtest struct {
+	Series   *series.Series
 	entries  []entryBacktest
 	chosen   int // index into entries; -1 none
 	runnerUp int
 	reason   string
 	folds    int
-	problems []problem
+	Problems []runfolder.Problem
 	demand   *engines.DemandClass
 }
 
@@ -129,11 +137,10 @@ func metricOf(sc engines.Scores, metric string) float64 {
 	panic("pipeline: unknown metric " + metric)
 }
 
-// backtest runs pass 1 on one series.
-func (w *seriesWork) backtest(s *Series) *backtestResult {
-	e := w.eval
-	r := &backtestResult{series: s, chosen: -1, runnerUp: -1}
-	if s.Skip != "" || allMissing(s.Values) {
+// Backtest runs pass 1 on one series with w's methods.
+func (e *Evaluation) Backtest(w *forecast.Work, s *series.Series) *Backtest {
+	r := &Backtest{Series: s, chosen: -1, runnerUp: -1}
+	if s.Skip != "" || forecast.AllMissing(s.Values) {
 		r.reason = "no usable history"
 		return r
 	}
@@ -141,39 +148,39 @@ func (w *seriesWork) backtest(s *Series) *backtestResult {
 		r.demand = &d
 	}
 	y := s.Values
-	m := w.spec.Calendar.SeasonLength
+	m := w.Spec.Calendar.SeasonLength
 	folds, dropped := planFolds(len(y), e.bt)
 	r.folds = len(folds)
 	if dropped > 0 {
 		msg := fmt.Sprintf("only %d of %d backtest folds fit a history of %d periods (min_train %d, horizon %d, step %d)",
 			len(folds), e.bt.Folds, len(y), e.bt.MinTrain, e.bt.Horizon, e.bt.Step)
-		r.problems = append(r.problems, problem{key: s.Key, stage: "backtest", severity: "warning", message: msg})
+		r.Problems = append(r.Problems, runfolder.Problem{Key: s.Key, Stage: "backtest", Severity: "warning", Message: msg})
 	}
 	if len(folds) == 0 {
-		r.reason = fmt.Sprintf("history too short for any backtest fold; fell back to %s", w.spec.Selection.Fallback)
+		r.reason = fmt.Sprintf("history too short for any backtest fold; fell back to %s", w.Spec.Selection.Fallback)
 		return r
 	}
-	for _, mr := range w.methods {
-		method := mr.method
-		if w.wrap != nil {
-			method = w.wrap(method)
+	for _, mr := range w.Methods {
+		method := mr.Engine
+		if w.Wrap != nil {
+			method = w.Wrap(method)
 		}
-		eb := entryBacktest{label: mr.spec.Label}
+		eb := entryBacktest{label: mr.Spec.Label}
 		for _, f := range folds {
 			// The full slice expression caps the capacity: a method cannot
 			// reach past the origin by reslicing its input.
 			train := y[f.TrainStart:f.TrainEnd:f.TrainEnd]
 			test := y[f.TrainEnd:f.TestEnd]
-			res, err := safeForecast(method, train, m, e.bt.Horizon, false)
+			res, err := forecast.SafeForecast(method, train, m, e.bt.Horizon, false)
 			if err != nil {
 				eb.folds = append(eb.folds, foldScore{fold: f, failed: true})
 				if eb.reason == "" {
-					eb.reason = fmt.Sprintf("failed on fold %d: %s", f.Index, trimName(err.Error(), mr.spec.Method))
+					eb.reason = fmt.Sprintf("failed on fold %d: %s", f.Index, forecast.TrimName(err.Error(), mr.Spec.Method))
 				}
 				continue
 			}
-			sc, _ := engines.PointScores(test, res.fc[:len(test)], train, m)
-			eb.folds = append(eb.folds, foldScore{fold: f, fc: res.fc, scores: sc})
+			sc, _ := engines.PointScores(test, res.Values[:len(test)], train, m)
+			eb.folds = append(eb.folds, foldScore{fold: f, fc: res.Values, scores: sc})
 		}
 		r.entries = append(r.entries, eb)
 	}
@@ -218,7 +225,7 @@ func (w *seriesWork) backtest(s *Series) *backtestResult {
 		return 0
 	})
 	if len(order) == 0 {
-		r.reason = fmt.Sprintf("no method could be scored on the backtest; fell back to %s", w.spec.Selection.Fallback)
+		r.reason = fmt.Sprintf("no method could be scored on the backtest; fell back to %s", w.Spec.Selection.Fallback)
 		return r
 	}
 	r.chosen = order[0]
@@ -237,7 +244,7 @@ func (w *seriesWork) backtest(s *Series) *backtestResult {
 // scoreEntry averages the selection metric and MASE over the folds; an
 // entry that failed on a fold, or whose metric is undefined on one, is
 // ineligible.
-func (e *evaluation) scoreEntry(eb *entryBacktest) {
+func (e *Evaluation) scoreEntry(eb *entryBacktest) {
 	eb.score, eb.mase = math.NaN(), math.NaN()
 	if len(eb.folds) == 0 || eb.reason != "" {
 		return
@@ -290,7 +297,7 @@ func topMembers(entries []entryBacktest, k int) []int {
 // the same folds. The members are ranked by their own backtest scores on
 // these folds (common practice for forecast combinations; the ranking sees
 // the folds it is scored on, which flatters the combination slightly).
-func (e *evaluation) combination(entries []entryBacktest, y []float64, m int, folds []fold) entryBacktest {
+func (e *Evaluation) combination(entries []entryBacktest, y []float64, m int, folds []fold) entryBacktest {
 	eb := entryBacktest{label: e.combo.Label}
 	members := topMembers(entries, e.combo.Top)
 	if members == nil {
@@ -341,9 +348,9 @@ func combineForecasts(kind string, fcs [][]float64) []float64 {
 	return out
 }
 
-// record is pass 1's emit step for one series: it feeds the histograms, the
+// Record is pass 1's emit step for one series: it feeds the histograms, the
 // leaderboard and the choices, in series order.
-func (e *evaluation) record(i int, r *backtestResult) {
+func (e *Evaluation) Record(i int, r *Backtest) {
 	c := seriesChoice{}
 	if r.chosen >= 0 {
 		c.chosen = r.entries[r.chosen].label
@@ -371,7 +378,7 @@ func (e *evaluation) record(i int, r *backtestResult) {
 			if !(scale > 0) || math.IsInf(scale, 0) {
 				continue
 			}
-			y := r.series.Values[f.fold.TrainEnd:f.fold.TestEnd]
+			y := r.Series.Values[f.fold.TrainEnd:f.fold.TestEnd]
 			for step := range y {
 				if math.IsNaN(y[step]) || math.IsNaN(f.fc[step]) {
 					continue
@@ -380,10 +387,11 @@ func (e *evaluation) record(i int, r *backtestResult) {
 			}
 		}
 	}
+	e.choices[i].problems = r.Problems // written with the series in pass 2
 }
 
-// finishPass1 turns the pooled error histograms into interval quantiles.
-func (e *evaluation) finishPass1() {
+// FinishPass1 turns the pooled error histograms into interval quantiles.
+func (e *Evaluation) FinishPass1() {
 	if len(e.levels) == 0 {
 		return
 	}
@@ -404,18 +412,18 @@ func (e *evaluation) finishPass1() {
 // intervals fills the interval bounds of one final forecast. Model-based
 // bounds use the method's forecast variance with normal quantiles; empirical
 // bounds add the pooled scaled error quantiles times this series' scale.
-func (e *evaluation) intervals(f *methodForecast, scale float64, levels []int, source string) {
-	h := len(f.values)
-	if source == "model" && f.variance != nil {
-		f.intervalSource = "model"
+func (e *Evaluation) intervals(f *forecast.Forecast, scale float64, levels []int, source string) {
+	h := len(f.Values)
+	if source == "model" && f.Variance != nil {
+		f.IntervalSource = "model"
 		for _, lvl := range levels {
 			z := distuv.UnitNormal.Quantile(1 - (1-float64(lvl)/100)/2)
 			lo, hi := make([]float64, h), make([]float64, h)
 			for s := 0; s < h; s++ {
-				sd := math.Sqrt(f.variance[s])
-				lo[s], hi[s] = f.values[s]-z*sd, f.values[s]+z*sd
+				sd := math.Sqrt(f.Variance[s])
+				lo[s], hi[s] = f.Values[s]-z*sd, f.Values[s]+z*sd
 			}
-			f.lower, f.upper = append(f.lower, lo), append(f.upper, hi)
+			f.Lower, f.Upper = append(f.Lower, lo), append(f.Upper, hi)
 		}
 		return
 	}
@@ -425,89 +433,48 @@ func (e *evaluation) intervals(f *methodForecast, scale float64, levels []int, s
 		// make a sharded run differ from a whole one.
 		return
 	}
-	q := e.quantiles[f.label]
+	q := e.quantiles[f.Label]
 	if q == nil || !(scale > 0) || math.IsInf(scale, 0) {
 		return
 	}
-	f.intervalSource = "empirical"
+	f.IntervalSource = "empirical"
 	for li := range levels {
 		lo, hi := make([]float64, h), make([]float64, h)
 		for s := 0; s < h; s++ {
 			step := min(s, len(q)-1) // past the backtest horizon, the last step's spread
-			lo[s] = f.values[s] + q[step][li][0]*scale
-			hi[s] = f.values[s] + q[step][li][1]*scale
+			lo[s] = f.Values[s] + q[step][li][0]*scale
+			hi[s] = f.Values[s] + q[step][li][1]*scale
 		}
-		f.lower, f.upper = append(f.lower, lo), append(f.upper, hi)
+		f.Lower, f.Upper = append(f.Lower, lo), append(f.Upper, hi)
 	}
-}
-
-// Leaderboard is the run's summary across series: per entry, the mean and
-// median of each series' mean backtest MASE, and the share of series it won.
-type Leaderboard struct {
-	Metric   string           `json:"selection_metric"`
-	Entries  []LeaderboardRow `json:"entries"`
-	Chosen   map[string]int   `json:"series_per_chosen_method"`
-	NoScore  int              `json:"series_on_fallback"`
-	Fallback string           `json:"fallback"`
-}
-
-// LeaderboardRow is one method's line of the leaderboard.
-type LeaderboardRow struct {
-	Method     string    `json:"method"`
-	Series     int       `json:"series_scored"`
-	MeanMASE   jsonFloat `json:"mean_mase"`
-	MedianMASE jsonFloat `json:"median_mase"`
-	WinShare   float64   `json:"win_share"`
-}
-
-// jsonFloat is a float64 that encodes NaN as null (encoding/json refuses NaN).
-type jsonFloat float64
-
-func (f jsonFloat) MarshalJSON() ([]byte, error) {
-	if math.IsNaN(float64(f)) || math.IsInf(float64(f), 0) {
-		return []byte("null"), nil
-	}
-	return json.Marshal(float64(f))
-}
-
-func (f *jsonFloat) UnmarshalJSON(b []byte) error {
-	if string(b) == "null" {
-		*f = jsonFloat(math.NaN())
-		return nil
-	}
-	var v float64
-	if err := json.Unmarshal(b, &v); err != nil {
-		return err
-	}
-	*f = jsonFloat(v)
-	return nil
 }
 
 // choiceFor is the label a series without a scored entry falls back to, or
 // "" when it has no usable history.
-func (e *evaluation) choiceFor(r *backtestResult) string {
-	if r.series.Skip != "" || allMissing(r.series.Values) {
+func (e *Evaluation) choiceFor(r *Backtest) string {
+	if r.Series.Skip != "" || forecast.AllMissing(r.Series.Values) {
 		return ""
 	}
 	return e.fallback
 }
 
-func (e *evaluation) leaderboard(series int) *Leaderboard {
-	lb := &Leaderboard{Metric: e.metric, Chosen: map[string]int{}}
+// Leaderboard summarises the backtests across series for the manifest.
+func (e *Evaluation) Leaderboard(series int) *runfolder.Leaderboard {
+	lb := &runfolder.Leaderboard{Metric: e.metric, Chosen: map[string]int{}}
 	for _, l := range e.labels {
 		v := append([]float64(nil), e.mase[l]...)
-		row := LeaderboardRow{Method: l, Series: len(v), MeanMASE: jsonFloat(math.NaN()), MedianMASE: jsonFloat(math.NaN())}
+		row := runfolder.LeaderboardRow{Method: l, Series: len(v), MeanMASE: runfolder.JSONFloat(math.NaN()), MedianMASE: runfolder.JSONFloat(math.NaN())}
 		if len(v) > 0 {
 			sort.Float64s(v)
 			sum := 0.0
 			for _, x := range v {
 				sum += x
 			}
-			row.MeanMASE = jsonFloat(sum / float64(len(v)))
+			row.MeanMASE = runfolder.JSONFloat(sum / float64(len(v)))
 			if len(v)%2 == 1 {
-				row.MedianMASE = jsonFloat(v[len(v)/2])
+				row.MedianMASE = runfolder.JSONFloat(v[len(v)/2])
 			} else {
-				row.MedianMASE = jsonFloat((v[len(v)/2-1] + v[len(v)/2]) / 2)
+				row.MedianMASE = runfolder.JSONFloat((v[len(v)/2-1] + v[len(v)/2]) / 2)
 			}
 		}
 		if series > 0 {
@@ -574,45 +541,38 @@ func classifyDemand(y []float64) (engines.DemandClass, bool) {
 	return d, d.Class != engines.DemandNone
 }
 
-// writeBacktest hands one series' backtest to the accuracy and choices
-// writers.
-func (rt *runTables) writeBacktest(r *backtestResult) error {
-	return rt.send(r)
-}
-
-// writeAccuracy writes one series' accuracy rows: every entry, every fold.
-func (rt *runTables) writeAccuracy(r *backtestResult, cal calendar) error {
-	s := r.series
+// WriteAccuracy writes one series' accuracy rows: every entry, every fold.
+func WriteAccuracy(t *runfolder.TableWriter, r *Backtest, cal calendar.Calendar) error {
+	s := r.Series
 	for _, eb := range r.entries {
 		for _, f := range eb.folds {
-			t := rt.accuracy
-			t.key(s.Key)
-			t.str(0, eb.label)
-			t.int32(1, f.fold.Index)
-			t.date(2, cal.startDays(s.Start+int64(f.fold.TrainEnd)))
-			t.date(3, cal.startDays(s.Start+int64(f.fold.TrainStart)))
-			t.int32(4, f.fold.TrainEnd-f.fold.TrainStart)
-			t.int32(5, f.fold.TestEnd-f.fold.TrainEnd)
+			t.Key(s.Key)
+			t.Str(0, eb.label)
+			t.Int32(1, f.fold.Index)
+			t.Date(2, cal.StartDays(s.Start+int64(f.fold.TrainEnd)))
+			t.Date(3, cal.StartDays(s.Start+int64(f.fold.TrainStart)))
+			t.Int32(4, f.fold.TrainEnd-f.fold.TrainStart)
+			t.Int32(5, f.fold.TestEnd-f.fold.TrainEnd)
 			sc := f.scores
 			if f.failed {
 				nan := math.NaN()
 				sc = engines.Scores{MAE: nan, RMSE: nan, MAPE: nan, SMAPE: nan, MASE: nan, RMSSE: nan, WAPE: nan, Bias: nan}
 			}
-			t.float(6, sc.MAE)
-			t.float(7, sc.RMSE)
-			t.float(8, sc.MAPE)
-			t.int32(9, sc.MAPEZeros)
-			t.float(10, sc.SMAPE)
-			t.float(11, sc.MASE)
-			t.float(12, sc.RMSSE)
-			t.float(13, sc.WAPE)
-			t.float(14, sc.Bias)
+			t.Float(6, sc.MAE)
+			t.Float(7, sc.RMSE)
+			t.Float(8, sc.MAPE)
+			t.Int32(9, sc.MAPEZeros)
+			t.Float(10, sc.SMAPE)
+			t.Float(11, sc.MASE)
+			t.Float(12, sc.RMSSE)
+			t.Float(13, sc.WAPE)
+			t.Float(14, sc.Bias)
 			status := "ok"
 			if f.failed {
 				status = "failed"
 			}
-			t.str(15, status)
-			if err := t.endRow(); err != nil {
+			t.Str(15, status)
+			if err := t.EndRow(); err != nil {
 				return err
 			}
 		}
@@ -620,10 +580,9 @@ func (rt *runTables) writeAccuracy(r *backtestResult, cal calendar) error {
 	return nil
 }
 
-// writeChoice writes one series' choices row.
-func (rt *runTables) writeChoice(r *backtestResult, e *evaluation) error {
-	t := rt.choices
-	t.key(r.series.Key)
+// WriteChoice writes one series' choices row.
+func (e *Evaluation) WriteChoice(t *runfolder.TableWriter, r *Backtest) error {
+	t.Key(r.Series.Key)
 	score := func(i int) (string, float64) {
 		if i < 0 {
 			return "", math.NaN()
@@ -635,21 +594,66 @@ func (rt *runTables) writeChoice(r *backtestResult, e *evaluation) error {
 		c = e.choiceFor(r)
 	}
 	ru, rus := score(r.runnerUp)
-	t.strOrNull(0, c)
-	t.str(1, e.metric)
-	t.float(2, cs)
-	t.strOrNull(3, ru)
-	t.float(4, rus)
-	t.int32(5, r.folds)
+	t.StrOrNull(0, c)
+	t.Str(1, e.metric)
+	t.Float(2, cs)
+	t.StrOrNull(3, ru)
+	t.Float(4, rus)
+	t.Int32(5, r.folds)
 	if r.demand != nil {
-		t.str(6, r.demand.Class)
-		t.float(7, r.demand.ADI)
-		t.float(8, r.demand.CV2)
+		t.Str(6, r.demand.Class)
+		t.Float(7, r.demand.ADI)
+		t.Float(8, r.demand.CV2)
 	} else {
-		t.strOrNull(6, "")
-		t.float(7, math.NaN())
-		t.float(8, math.NaN())
+		t.StrOrNull(6, "")
+		t.Float(7, math.NaN())
+		t.Float(8, math.NaN())
 	}
-	t.str(9, r.reason)
-	return t.endRow()
+	t.Str(9, r.reason)
+	return t.EndRow()
+}
+
+// Finish adds what the evaluation decided to series i's final forecasts:
+// the combination entry, the chosen flag, and prediction intervals. e may
+// be nil (no backtest): model-based intervals are still added.
+func (e *Evaluation) Finish(s *spec.Spec, i int, r *forecast.Result) {
+	levels := s.Intervals.Levels
+	var choice seriesChoice
+	if e != nil {
+		choice = e.choices[i]
+		r.Problems = append(choice.problems, r.Problems...)
+		if e.combo != nil && len(choice.members) > 0 {
+			var fcs [][]float64
+			for _, m := range choice.members {
+				for _, f := range r.Forecasts {
+					if f.Label == m {
+						fcs = append(fcs, f.Values)
+					}
+				}
+			}
+			if len(fcs) == len(choice.members) {
+				r.Forecasts = append(r.Forecasts, forecast.Forecast{Label: e.combo.Label,
+					Model:  fmt.Sprintf("combination(%s of %s)", e.combo.Kind, strings.Join(choice.members, ", ")),
+					Values: combineForecasts(e.combo.Kind, fcs)})
+			} else {
+				r.Problems = append(r.Problems, runfolder.Problem{Key: r.Series.Key, Stage: "forecast", Severity: "error", Method: e.combo.Label,
+					Message: "a member of the combination failed on the full history; no combination forecast"})
+			}
+		}
+	}
+	if len(levels) == 0 && e == nil {
+		return
+	}
+	scale := math.NaN()
+	if len(levels) > 0 && r.Series.Skip == "" {
+		sc, _ := engines.PointScores(nil, nil, r.Series.Values, s.Calendar.SeasonLength)
+		scale = sc.MASEScale
+	}
+	for k := range r.Forecasts {
+		f := &r.Forecasts[k]
+		f.Chosen = e != nil && f.Label == choice.chosen
+		if len(levels) > 0 && (e == nil || f.Chosen || s.Intervals.AllMethods) {
+			e.intervals(f, scale, levels, s.Intervals.Source)
+		}
+	}
 }

@@ -1,4 +1,4 @@
-package pipeline
+package runfolder
 
 import (
 	"encoding/json"
@@ -10,26 +10,6 @@ import (
 	"sort"
 	"strings"
 )
-
-// Shard selects the part of a run one task of a cluster's batch scheduler
-// does: series whose key hashes to Index modulo Count. Count ≤ 1 means the
-// whole run.
-type Shard struct {
-	Index, Count int
-}
-
-// ShardOf assigns a series to a shard by the FNV-1a 64-bit hash of its key
-// (the key columns' values joined by a zero byte) modulo count. The hash is
-// fixed forever: a series stays on its shard across runs and versions.
-func ShardOf(key []byte, count int) uint64 {
-	const offset, prime = 14695981039346656037, 1099511628211
-	h := uint64(offset)
-	for _, b := range key {
-		h ^= uint64(b)
-		h *= prime
-	}
-	return h % uint64(count)
-}
 
 // shardName is the Hive-style partition folder of a shard: shard=0003.
 func shardName(i int) string { return fmt.Sprintf("shard=%04d", i) }
@@ -43,9 +23,9 @@ type ShardInfo struct {
 	Count int `json:"count"`
 }
 
-// prepareDataset makes (or accepts) the dataset folder shards write into.
-func prepareDataset(target string, inputs []InputFile) error {
-	if err := checkTarget(target, inputs); err != nil {
+// PrepareDataset makes (or accepts) the dataset folder shards write into.
+func PrepareDataset(target string, inputs []Input) error {
+	if err := CheckTarget(target, inputs); err != nil {
 		return err
 	}
 	if err := os.MkdirAll(filepath.Join(target, ShardsDir), 0o755); err != nil {
@@ -61,12 +41,12 @@ func prepareDataset(target string, inputs []InputFile) error {
 	return nil
 }
 
-// commitShard moves a shard's staged tables into the dataset's partition
+// CommitShard moves a shard's staged tables into the dataset's partition
 // folders, <table>/shard=NNNN/part.parquet, then its manifest into
 // _shards/shard=NNNN.json. The manifest goes last and is removed first, so
 // a shard whose manifest is present is complete.
-func commitShard(staging, target string, sh Shard, tables []string) error {
-	name := shardName(sh.Index)
+func CommitShard(staging, target string, index int, tables []string) error {
+	name := shardName(index)
 	manifest := filepath.Join(target, ShardsDir, name+".json")
 	if err := os.Remove(manifest); err != nil && !errors.Is(err, os.ErrNotExist) {
 		return err
@@ -90,12 +70,12 @@ func commitShard(staging, target string, sh Shard, tables []string) error {
 		if err := os.Rename(filepath.Join(staging, t+".parquet"), filepath.Join(dir, "part.parquet")); err != nil {
 			return err
 		}
-		fsyncPath(dir)
+		FsyncPath(dir)
 	}
 	if err := os.Rename(filepath.Join(staging, "manifest.json"), manifest); err != nil {
 		return err
 	}
-	fsyncPath(filepath.Join(target, ShardsDir))
+	FsyncPath(filepath.Join(target, ShardsDir))
 	return os.RemoveAll(staging)
 }
 
@@ -105,7 +85,7 @@ type CombinedManifest struct {
 	Almanac string          `json:"almanac_version"`
 	RunID   string          `json:"run_id"`
 	Spec    ManifestSpec    `json:"spec"`
-	Inputs  []InputFile     `json:"inputs"`
+	Inputs  []Input         `json:"inputs"`
 	Shards  []CombinedShard `json:"shards"`
 	Series  int             `json:"series"`
 	Tables  []CombinedTable `json:"tables"`
@@ -163,7 +143,7 @@ func Combine(dir string, w io.Writer) (*CombinedManifest, error) {
 			problems = append(problems, fmt.Sprintf("%s is shard %d of %d, others of %d", paths[i], m.Shard.Index, m.Shard.Count, count))
 		}
 		if m.RunID != ms[0].RunID {
-			problems = append(problems, fmt.Sprintf("%s has run id %s, shard %d has %s: different spec or inputs", paths[i], short(m.RunID), ms[0].Shard.Index, short(ms[0].RunID)))
+			problems = append(problems, fmt.Sprintf("%s has run id %s, shard %d has %s: different spec or inputs", paths[i], ShortHash(m.RunID), ms[0].Shard.Index, ShortHash(ms[0].RunID)))
 		}
 		seen[m.Shard.Index] = m
 	}
@@ -195,7 +175,7 @@ func Combine(dir string, w io.Writer) (*CombinedManifest, error) {
 		}
 		for _, t := range m.Tables {
 			part := filepath.ToSlash(filepath.Join(t.Name, shardName(i), "part.parquet"))
-			sum, err := hashFile(filepath.Join(dir, part))
+			sum, err := HashFile(filepath.Join(dir, part))
 			if err != nil {
 				problems = append(problems, fmt.Sprintf("%s: missing", part))
 				continue
@@ -234,9 +214,28 @@ func Combine(dir string, w io.Writer) (*CombinedManifest, error) {
 	if err := os.Rename(tmp, filepath.Join(dir, "manifest.json")); err != nil {
 		return nil, err
 	}
-	fmt.Fprintf(w, "combined %d shard(s): %d series, run id %s\n", count, c.Series, short(c.RunID))
+	fmt.Fprintf(w, "combined %d shard(s): %d series, run id %s\n", count, c.Series, ShortHash(c.RunID))
 	for _, t := range c.Tables {
 		fmt.Fprintf(w, "  %-18s %d part(s), %d rows\n", t.Name, len(t.Parts), t.Rows)
 	}
 	return c, nil
+}
+
+// ShardStaging makes the staging folder of shard index inside the dataset
+// folder target, first removing what a killed earlier run of this shard
+// may have left.
+func ShardStaging(target string, index int) (string, error) {
+	stale, _ := filepath.Glob(filepath.Join(target, tmpPrefix+shardName(index)+"-*"))
+	for _, d := range stale {
+		os.RemoveAll(d)
+	}
+	return os.MkdirTemp(target, tmpPrefix+shardName(index)+"-")
+}
+
+// ShortHash is the first 16 hex digits of a hash, for messages.
+func ShortHash(h string) string {
+	if len(h) > 16 {
+		return h[:16]
+	}
+	return h
 }

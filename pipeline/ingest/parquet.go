@@ -1,6 +1,8 @@
-package pipeline
+package ingest
 
 import (
+	"almanac/pipeline/calendar"
+	"almanac/pipeline/runfolder"
 	"context"
 	"fmt"
 	"math"
@@ -20,7 +22,7 @@ import (
 // parquetBatchRows is how many rows are decoded at a time.
 const parquetBatchRows = 64 * 1024
 
-func readParquet(s *spec.Spec, f *InputFile, fileIdx int32, cal calendar, rs *rowSet) (err error) {
+func readParquet(s *spec.Spec, f *InputFile, fileIdx int32, cal calendar.Calendar, rs *Rows) (err error) {
 	defer func() {
 		// The Parquet decoder can panic on some corrupt files; a corrupt
 		// input is a data error, not a crash.
@@ -28,11 +30,11 @@ func readParquet(s *spec.Spec, f *InputFile, fileIdx int32, cal calendar, rs *ro
 			err = fmt.Errorf("%s: not a readable Parquet file: %v", f.Path, r)
 		}
 	}()
-	sum, err := hashFile(f.abs)
+	sum, err := runfolder.HashFile(f.Abs)
 	if err != nil {
 		return fmt.Errorf("%s: %v", f.Path, err)
 	}
-	pf, err := file.OpenParquetFile(f.abs, false)
+	pf, err := file.OpenParquetFile(f.Abs, false)
 	if err != nil {
 		return fmt.Errorf("%s: not a readable Parquet file: %v", f.Path, err)
 	}
@@ -98,7 +100,7 @@ func readParquet(s *spec.Spec, f *InputFile, fileIdx int32, cal calendar, rs *ro
 				}
 				keyParts[j] = k
 				if k == "" {
-					rs.keyBlanks++
+					rs.KeyBlanks++
 				} else if !utf8.ValidString(k) {
 					return &DataError{Msgs: []string{fmt.Sprintf("%s: row %d: column %q: %q is not valid UTF-8; almanac reads text as UTF-8", f.Path, row+int64(i)+1, s.Columns.Keys[j], k)}}
 				}
@@ -108,8 +110,8 @@ func readParquet(s *spec.Spec, f *InputFile, fileIdx int32, cal calendar, rs *ro
 		row += int64(n)
 	}
 	if len(errs) > 0 {
-		if len(errs) > maxDataErrors {
-			errs = append(errs[:maxDataErrors], fmt.Sprintf("%s: stopped after %d errors", f.Path, maxDataErrors))
+		if len(errs) > MaxDataErrors {
+			errs = append(errs[:MaxDataErrors], fmt.Sprintf("%s: stopped after %d errors", f.Path, MaxDataErrors))
 		}
 		return &DataError{Msgs: errs}
 	}
@@ -119,12 +121,12 @@ func readParquet(s *spec.Spec, f *InputFile, fileIdx int32, cal calendar, rs *ro
 	f.Rows = row
 	f.SHA256 = sum
 	if row == 0 {
-		rs.notes = append(rs.notes, problem{stage: "read", severity: "warning", message: fmt.Sprintf("%s has no rows", f.Path)})
+		rs.Notes = append(rs.Notes, fmt.Sprintf("%s has no rows", f.Path))
 	}
 	return nil
 }
 
-func parquetPeriods(path, name string, col arrow.Array, cal calendar, base int64) ([]int64, []string) {
+func parquetPeriods(path, name string, col arrow.Array, cal calendar.Calendar, base int64) ([]int64, []string) {
 	n := col.Len()
 	out := make([]int64, n)
 	var errs []string
@@ -138,7 +140,7 @@ func parquetPeriods(path, name string, col arrow.Array, cal calendar, base int64
 				nullErr(i)
 				continue
 			}
-			out[i] = cal.fromDays(int64(c.Value(i)))
+			out[i] = cal.FromDays(int64(c.Value(i)))
 		}
 	case *array.Date64:
 		for i := 0; i < n; i++ {
@@ -146,7 +148,7 @@ func parquetPeriods(path, name string, col arrow.Array, cal calendar, base int64
 				nullErr(i)
 				continue
 			}
-			out[i] = cal.fromDays(floorDiv(int64(c.Value(i)), 86400000))
+			out[i] = cal.FromDays(calendar.FloorDiv(int64(c.Value(i)), 86400000))
 		}
 	case *array.Timestamp:
 		unit := c.DataType().(*arrow.TimestampType).Unit
@@ -156,7 +158,7 @@ func parquetPeriods(path, name string, col arrow.Array, cal calendar, base int64
 				nullErr(i)
 				continue
 			}
-			out[i] = cal.fromDays(floorDiv(int64(c.Value(i)), perDay))
+			out[i] = cal.FromDays(calendar.FloorDiv(int64(c.Value(i)), perDay))
 		}
 	case array.StringLike:
 		for i := 0; i < n; i++ {
@@ -164,7 +166,7 @@ func parquetPeriods(path, name string, col arrow.Array, cal calendar, base int64
 				nullErr(i)
 				continue
 			}
-			p, err := cal.parse(strings.TrimSpace(c.ValueStr(i)))
+			p, err := cal.Parse(strings.TrimSpace(c.ValueStr(i)))
 			if err != nil {
 				errs = append(errs, fmt.Sprintf("%s: row %d: column %q: %v", path, base+int64(i)+1, name, err))
 				continue
@@ -174,8 +176,8 @@ func parquetPeriods(path, name string, col arrow.Array, cal calendar, base int64
 	default:
 		errs = append(errs, fmt.Sprintf("%s: column %q has type %s; a time column must be DATE, TIMESTAMP or text", path, name, col.DataType()))
 	}
-	if len(errs) > maxDataErrors {
-		errs = errs[:maxDataErrors]
+	if len(errs) > MaxDataErrors {
+		errs = errs[:MaxDataErrors]
 	}
 	return out, errs
 }

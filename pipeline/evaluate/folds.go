@@ -1,4 +1,4 @@
-package pipeline
+package evaluate
 
 import "almanac/spec"
 

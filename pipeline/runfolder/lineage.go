@@ -1,4 +1,4 @@
-package pipeline
+package runfolder
 
 import (
 	"crypto/sha256"
@@ -15,7 +15,7 @@ import (
 // every input file's path and SHA-256, and the almanac version. Two runs
 // with the same id read the same bytes through the same spec with the same
 // program, so they write the same tables.
-func RunID(s *spec.Spec, inputs []InputFile) string {
+func RunID(s *spec.Spec, inputs []Input) string {
 	h := sha256.New()
 	fmt.Fprintf(h, "almanac run v1\nversion %s\nspec %s\n", Version, s.Hash())
 	for _, in := range inputs {
@@ -77,10 +77,10 @@ type lineageDataset struct {
 	Facets    map[string]any `json:"facets,omitempty"`
 }
 
-// writeLineage writes the run's OpenLineage COMPLETE event. Datasets are
+// WriteLineage writes the run's OpenLineage COMPLETE event. Datasets are
 // files: namespace "file", name the absolute path (the final run folder
 // for outputs).
-func writeLineage(path string, m *Manifest, target string) error {
+func WriteLineage(path string, m *Manifest, target string) error {
 	facet := func(name string, fields map[string]any) map[string]any {
 		out := map[string]any{"_producer": lineageProducer,
 			"_schemaURL": "https://almanac.invalid/schemas/lineage/" + name + ".json"}
@@ -102,7 +102,7 @@ func writeLineage(path string, m *Manifest, target string) error {
 		SchemaURL: lineageSchemaURL,
 	}
 	for _, in := range m.Inputs {
-		ev.Inputs = append(ev.Inputs, lineageDataset{Namespace: "file", Name: in.abs, Facets: map[string]any{
+		ev.Inputs = append(ev.Inputs, lineageDataset{Namespace: "file", Name: in.Abs, Facets: map[string]any{
 			"almanac_input": facet("AlmanacInputFacet", map[string]any{"sha256": in.SHA256, "size": in.Size, "rows": in.Rows}),
 		}})
 	}
@@ -118,5 +118,5 @@ func writeLineage(path string, m *Manifest, target string) error {
 	if err := os.WriteFile(path, append(b, '\n'), 0o644); err != nil {
 		return err
 	}
-	return fsyncPath(path)
+	return FsyncPath(path)
 }

@@ -1,4 +1,4 @@
-package pipeline
+package calendar
 
 import (
 	"strings"
@@ -25,8 +25,8 @@ func TestCivilAndISOWeekAgainstTimePackage(t *testing.T) {
 		if gy != int64(wy) || gw != int64(ww) {
 			t.Fatalf("isoWeek(%s) = %d-W%d, want %d-W%d", d.Format(time.DateOnly), gy, gw, wy, ww)
 		}
-		week := calendar{freq: spec.Week}
-		start := week.startDays(week.fromDays(days))
+		week := Calendar{Freq: spec.Week}
+		start := week.StartDays(week.FromDays(days))
 		if time.Unix(start*86400, 0).UTC().Weekday() != time.Monday || days-start < 0 || days-start > 6 {
 			t.Fatalf("week of %s starts on day %d", d.Format(time.DateOnly), start)
 		}
@@ -56,13 +56,13 @@ func TestParseTimeForms(t *testing.T) {
 		{spec.Year, "2024", "2024"},
 	}
 	for _, c := range cases {
-		cal := calendar{freq: c.freq}
-		p, err := cal.parse(c.in)
+		cal := Calendar{Freq: c.freq}
+		p, err := cal.Parse(c.in)
 		if err != nil {
 			t.Errorf("%s on %s: %v", c.in, c.freq, err)
 			continue
 		}
-		if got := cal.label(p); got != c.label {
+		if got := cal.Label(p); got != c.label {
 			t.Errorf("%s on %s → %s, want %s", c.in, c.freq, got, c.label)
 		}
 	}
@@ -82,7 +82,7 @@ func TestParseTimeForms(t *testing.T) {
 		{spec.Day, "", "is not a time value"},
 	}
 	for _, c := range bad {
-		_, err := calendar{freq: c.freq}.parse(c.in)
+		_, err := Calendar{Freq: c.freq}.Parse(c.in)
 		if err == nil || !strings.Contains(err.Error(), c.msg) {
 			t.Errorf("%q on %s: got %v, want error containing %q", c.in, c.freq, err, c.msg)
 		}
@@ -90,22 +90,22 @@ func TestParseTimeForms(t *testing.T) {
 }
 
 func TestPositions(t *testing.T) {
-	month := calendar{freq: spec.Month, season: 12}
-	p, _ := month.parse("2024-03")
-	if got := month.position(p); got != 3 {
+	month := Calendar{Freq: spec.Month, Season: 12}
+	p, _ := month.Parse("2024-03")
+	if got := month.Position(p); got != 3 {
 		t.Errorf("March position = %d", got)
 	}
-	day := calendar{freq: spec.Day, season: 7}
-	p, _ = day.parse("2024-07-15") // a Monday
-	if got := day.position(p); got != 1 {
+	day := Calendar{Freq: spec.Day, Season: 7}
+	p, _ = day.Parse("2024-07-15") // a Monday
+	if got := day.Position(p); got != 1 {
 		t.Errorf("Monday position = %d", got)
 	}
-	q := calendar{freq: spec.Quarter, season: 4}
-	p, _ = q.parse("2023-Q4")
-	if got := q.position(p); got != 4 {
+	q := Calendar{Freq: spec.Quarter, Season: 4}
+	p, _ = q.Parse("2023-Q4")
+	if got := q.Position(p); got != 4 {
 		t.Errorf("Q4 position = %d", got)
 	}
-	if got := month.startDays(p*0 + 2024*12 + 1); got != daysFromCivil(2024, 2, 1) {
+	if got := month.StartDays(p*0 + 2024*12 + 1); got != daysFromCivil(2024, 2, 1) {
 		t.Errorf("startDays(2024-02) = %d", got)
 	}
 }

@@ -361,14 +361,14 @@ func (m *model) renderLeaderboard(p *page) {
 	p.f(".</p>\n")
 	lowest := -1
 	for i, e := range lb.Entries {
-		if e.Series > 0 && !math.IsNaN(e.MeanMASE) && (lowest < 0 || e.MeanMASE < lb.Entries[lowest].MeanMASE) {
+		if e.Series > 0 && !math.IsNaN(float64(e.MeanMASE)) && (lowest < 0 || e.MeanMASE < lb.Entries[lowest].MeanMASE) {
 			lowest = i
 		}
 	}
 	p.f("<table class=\"leaderboard\">\n<thead><tr><th>entry</th><th class=\"num\">series scored</th><th class=\"num\">mean MASE</th><th class=\"num\">median MASE</th><th class=\"num\">win share</th><th class=\"num\">series chosen</th></tr></thead>\n<tbody>\n")
 	var entries []lbEntry
 	for i, e := range lb.Entries {
-		mean, med := e.MeanMASE, e.MedianMASE
+		mean, med := float64(e.MeanMASE), float64(e.MedianMASE)
 		if e.Series == 0 {
 			mean, med = math.NaN(), math.NaN()
 		}

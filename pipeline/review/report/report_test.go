@@ -553,7 +553,7 @@ func TestStagedFolder(t *testing.T) {
 	if err := copyTree(src, dir); err != nil {
 		t.Fatal(err)
 	}
-	if err := os.Rename(filepath.Join(dir, runfolder.Marker), filepath.Join(dir, runfolder.StagingMarker)); err != nil {
+	if err := os.Rename(filepath.Join(dir, runfolder.MarkerFile), filepath.Join(dir, runfolder.StagingMarker)); err != nil {
 		t.Fatal(err)
 	}
 	if err := Write(dir, Options{}); err != nil {

@@ -1,4 +1,6 @@
-package pipeline
+// Package series turns input rows into series: one per key, a value per
+// period, duplicates combined and gaps filled by the spec's shaping rules.
+package series
 
 import (
 	"fmt"
@@ -6,6 +8,8 @@ import (
 	"slices"
 	"strings"
 
+	"almanac/pipeline/calendar"
+	"almanac/pipeline/ingest"
 	"almanac/spec"
 )
 
@@ -22,24 +26,24 @@ type Series struct {
 	Skip string
 }
 
-// shapeRows groups rows by key, sorts series by key, buckets each series'
+// Shape groups rows by key, sorts series by key, buckets each series'
 // rows into periods, combines duplicates and fills gaps per the spec.
-func shapeRows(rs *rowSet, sh spec.Shaping, lim spec.Limits, cal calendar, keyNames []string) ([]*Series, error) {
-	nk := len(rs.keys)
+func Shape(rs *ingest.Rows, sh spec.Shaping, lim spec.Limits, cal calendar.Calendar, keyNames []string) ([]*Series, error) {
+	nk := len(rs.Keys)
 	if nk > lim.MaxSeries {
 		return nil, fmt.Errorf("the input holds %d series; limits.max_series is %d (raise it in the spec if this is right)", nk, lim.MaxSeries)
 	}
 	// Counting sort of row indexes by key id, stable in input order.
 	counts := make([]int, nk+1)
-	for _, k := range rs.keyIDs {
+	for _, k := range rs.KeyIDs {
 		counts[k+1]++
 	}
 	for i := 1; i <= nk; i++ {
 		counts[i] += counts[i-1]
 	}
-	order := make([]int32, len(rs.keyIDs))
+	order := make([]int32, len(rs.KeyIDs))
 	next := append([]int(nil), counts[:nk]...)
-	for i, k := range rs.keyIDs {
+	for i, k := range rs.KeyIDs {
 		order[next[k]] = int32(i)
 		next[k]++
 	}
@@ -48,9 +52,9 @@ func shapeRows(rs *rowSet, sh spec.Shaping, lim spec.Limits, cal calendar, keyNa
 	for i := range ids {
 		ids[i] = int32(i)
 	}
-	slices.SortFunc(ids, func(a, b int32) int { return compareKeys(rs.keys[a], rs.keys[b]) })
+	slices.SortFunc(ids, func(a, b int32) int { return ingest.CompareKeys(rs.Keys[a], rs.Keys[b]) })
 
-	panelLast := rs.panelLast
+	panelLast := rs.PanelLast
 	out := make([]*Series, 0, nk)
 	var errs []string
 	for _, id := range ids {
@@ -58,7 +62,7 @@ func shapeRows(rs *rowSet, sh spec.Shaping, lim spec.Limits, cal calendar, keyNa
 		// Stable sort by period keeps input order within a period, which
 		// "last" relies on.
 		slices.SortStableFunc(rows, func(a, b int32) int {
-			pa, pb := rs.periods[a], rs.periods[b]
+			pa, pb := rs.Periods[a], rs.Periods[b]
 			switch {
 			case pa < pb:
 				return -1
@@ -67,35 +71,35 @@ func shapeRows(rs *rowSet, sh spec.Shaping, lim spec.Limits, cal calendar, keyNa
 			}
 			return 0
 		})
-		first, last := rs.periods[rows[0]], rs.periods[rows[len(rows)-1]]
+		first, last := rs.Periods[rows[0]], rs.Periods[rows[len(rows)-1]]
 		if sh.End == spec.EndPanel {
 			last = panelLast
 		}
 		if last-first+1 > int64(lim.MaxPeriods) {
-			out = append(out, &Series{Key: rs.keys[id], Start: first, Skip: fmt.Sprintf("the series spans %d periods (%s … %s, first row at %s), more than limits.max_periods %d; skipped — a stray date is the usual cause",
-				last-first+1, cal.label(first), cal.label(last), rs.where(int(rows[0])), lim.MaxPeriods)})
+			out = append(out, &Series{Key: rs.Keys[id], Start: first, Skip: fmt.Sprintf("the series spans %d periods (%s … %s, first row at %s), more than limits.max_periods %d; skipped — a stray date is the usual cause",
+				last-first+1, cal.Label(first), cal.Label(last), rs.Where(int(rows[0])), lim.MaxPeriods)})
 			continue
 		}
 		n := int(last - first + 1)
-		s := &Series{Key: rs.keys[id], Start: first, Values: make([]float64, n)}
+		s := &Series{Key: rs.Keys[id], Start: first, Values: make([]float64, n)}
 		present := make([]bool, n)
 		for i := 0; i < len(rows); {
 			j := i + 1
-			for j < len(rows) && rs.periods[rows[j]] == rs.periods[rows[i]] {
+			for j < len(rows) && rs.Periods[rows[j]] == rs.Periods[rows[i]] {
 				j++
 			}
-			slot := int(rs.periods[rows[i]] - first)
+			slot := int(rs.Periods[rows[i]] - first)
 			present[slot] = true
 			if j-i > 1 {
 				s.Combined++
 				if sh.Combine == spec.CombineReject {
-					if len(errs) < maxDataErrors {
+					if len(errs) < ingest.MaxDataErrors {
 						errs = append(errs, fmt.Sprintf("%s: %d rows for series %s in period %s (also %s); shaping.combine is reject",
-							rs.where(int(rows[i+1])), j-i, keyLabel(keyNames, s.Key), cal.label(rs.periods[rows[i]]), rs.where(int(rows[i]))))
+							rs.Where(int(rows[i+1])), j-i, keyLabel(keyNames, s.Key), cal.Label(rs.Periods[rows[i]]), rs.Where(int(rows[i]))))
 					}
 				}
 			}
-			s.Values[slot] = combine(sh.Combine, rs.values, rows[i:j])
+			s.Values[slot] = combine(sh.Combine, rs.Values, rows[i:j])
 			i = j
 		}
 		for slot, ok := range present {
@@ -110,14 +114,14 @@ func shapeRows(rs *rowSet, sh spec.Shaping, lim spec.Limits, cal calendar, keyNa
 				s.Values[slot] = math.NaN()
 			}
 		}
-		if sh.Gaps == spec.GapsReject && s.Filled > 0 && len(errs) < maxDataErrors {
+		if sh.Gaps == spec.GapsReject && s.Filled > 0 && len(errs) < ingest.MaxDataErrors {
 			errs = append(errs, fmt.Sprintf("series %s has no rows for %d of its periods (first gap: %s); shaping.gaps is reject (shaping.end: series stops a series at its own last row)",
-				keyLabel(keyNames, s.Key), s.Filled, cal.label(first+int64(slices.Index(present, false)))))
+				keyLabel(keyNames, s.Key), s.Filled, cal.Label(first+int64(slices.Index(present, false)))))
 		}
 		out = append(out, s)
 	}
 	if len(errs) > 0 {
-		return nil, &DataError{Msgs: errs}
+		return nil, &ingest.DataError{Msgs: errs}
 	}
 	return out, nil
 }
@@ -146,15 +150,6 @@ func combine(rule spec.Combine, values []float64, rows []int32) float64 {
 		return sum
 	}
 	return values[rows[0]]
-}
-
-func compareKeys(a, b []string) int {
-	for i := range a {
-		if c := strings.Compare(a[i], b[i]); c != 0 {
-			return c
-		}
-	}
-	return 0
 }
 
 // keyLabel renders a key for messages: depot=North, sku=A-100.

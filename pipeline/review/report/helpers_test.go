@@ -47,7 +47,7 @@ var (
 func gardenRun(t *testing.T) string {
 	t.Helper()
 	gardenOnce.Do(func() {
-		src := filepath.Join("..", "..", "examples", "garden-supply")
+		src := filepath.Join("..", "..", "..", "examples", "garden-supply")
 		dst := filepath.Join(scratch, "garden")
 		if gardenErr = copyTree(filepath.Join(src, "data"), filepath.Join(dst, "data")); gardenErr != nil {
 			return

@@ -1,4 +1,4 @@
-package pipeline
+package calendar
 
 import (
 	"fmt"
@@ -17,9 +17,9 @@ import (
 //	year:    the year
 //
 // Consecutive periods have consecutive indexes, so gaps are differences.
-type calendar struct {
-	freq   spec.Frequency
-	season int
+type Calendar struct {
+	Freq   spec.Frequency
+	Season int
 }
 
 // grain is the granularity a time value was written in.
@@ -42,15 +42,15 @@ var freqGrain = map[spec.Frequency]grain{
 }
 
 // fromDays buckets a day (days since 1970-01-01) into its period.
-func (c calendar) fromDays(days int64) int64 {
-	switch c.freq {
+func (c Calendar) FromDays(days int64) int64 {
+	switch c.Freq {
 	case spec.Day:
 		return days
 	case spec.Week:
-		return floorDiv(days+3, 7)
+		return FloorDiv(days+3, 7)
 	}
 	y, m, _ := civil(days)
-	switch c.freq {
+	switch c.Freq {
 	case spec.Month:
 		return y*12 + m - 1
 	case spec.Quarter:
@@ -61,16 +61,16 @@ func (c calendar) fromDays(days int64) int64 {
 
 // startDays is the first day of period p, in days since 1970-01-01: the
 // value written into DATE columns.
-func (c calendar) startDays(p int64) int64 {
-	switch c.freq {
+func (c Calendar) StartDays(p int64) int64 {
+	switch c.Freq {
 	case spec.Day:
 		return p
 	case spec.Week:
 		return p*7 - 3
 	case spec.Month:
-		return daysFromCivil(floorDiv(p, 12), floorMod(p, 12)+1, 1)
+		return daysFromCivil(FloorDiv(p, 12), floorMod(p, 12)+1, 1)
 	case spec.Quarter:
-		return daysFromCivil(floorDiv(p, 4), floorMod(p, 4)*3+1, 1)
+		return daysFromCivil(FloorDiv(p, 4), floorMod(p, 4)*3+1, 1)
 	}
 	return daysFromCivil(p, 1, 1)
 }
@@ -80,20 +80,20 @@ func (c calendar) startDays(p int64) int64 {
 // for quarterly data with m = 4, the weekday (Monday = 1) for daily data
 // with m = 7. For weeks it counts ISO weeks from Monday 1969-12-29 modulo m,
 // which is stable but does not follow ISO week numbers across 53-week years.
-func (c calendar) position(p int64) int {
-	if c.season < 1 {
+func (c Calendar) Position(p int64) int {
+	if c.Season < 1 {
 		return 1
 	}
-	if c.freq == spec.Day {
+	if c.Freq == spec.Day {
 		p += 3 // day 0 is a Thursday; make Monday position 1
 	}
-	return int(floorMod(p, int64(c.season))) + 1
+	return int(floorMod(p, int64(c.Season))) + 1
 }
 
 // label renders period p as people write it: 2024-03-05, 2024-W07, 2024-03,
 // 2024-Q1, 2024.
-func (c calendar) label(p int64) string {
-	switch c.freq {
+func (c Calendar) Label(p int64) string {
+	switch c.Freq {
 	case spec.Day:
 		y, m, d := civil(p)
 		return fmt.Sprintf("%04d-%02d-%02d", y, m, d)
@@ -101,9 +101,9 @@ func (c calendar) label(p int64) string {
 		y, w := isoWeek(p*7 - 3)
 		return fmt.Sprintf("%04d-W%02d", y, w)
 	case spec.Month:
-		return fmt.Sprintf("%04d-%02d", floorDiv(p, 12), floorMod(p, 12)+1)
+		return fmt.Sprintf("%04d-%02d", FloorDiv(p, 12), floorMod(p, 12)+1)
 	case spec.Quarter:
-		return fmt.Sprintf("%04d-Q%d", floorDiv(p, 4), floorMod(p, 4)+1)
+		return fmt.Sprintf("%04d-Q%d", FloorDiv(p, 4), floorMod(p, 4)+1)
 	}
 	return fmt.Sprintf("%04d", p)
 }
@@ -116,7 +116,7 @@ func (e *timeError) Error() string { return e.msg }
 const timeForms = "expected a date (2024-07-15), an RFC 3339 timestamp (2024-07-15T09:30:00Z), a month (2024-07), a quarter (2024-Q3), an ISO week (2024-W07) or a year (2024)"
 
 // parse reads a time value written as text and buckets it into its period.
-func (c calendar) parse(s string) (int64, error) {
+func (c Calendar) Parse(s string) (int64, error) {
 	g, days, idx, err := parseTimeText(s)
 	if err != nil {
 		return 0, err
@@ -127,27 +127,27 @@ func (c calendar) parse(s string) (int64, error) {
 // bucket turns a parsed value of grain g into a period of the calendar. A
 // value coarser than the calendar (a month on a weekly calendar) or one that
 // does not nest in it (an ISO week on a monthly calendar) is an error.
-func (c calendar) bucket(s string, g grain, days, idx int64) (int64, error) {
-	fg := freqGrain[c.freq]
+func (c Calendar) bucket(s string, g grain, days, idx int64) (int64, error) {
+	fg := freqGrain[c.Freq]
 	if g == grainDay {
-		return c.fromDays(days), nil
+		return c.FromDays(days), nil
 	}
 	if g == fg {
 		return idx, nil
 	}
 	if g == grainWeek || g > fg || fg == grainWeek {
-		return 0, &timeError{fmt.Sprintf("%q is %s, which does not fit the %s calendar; write %s or a date", s, g, c.freq, freqGrain[c.freq])}
+		return 0, &timeError{fmt.Sprintf("%q is %s, which does not fit the %s calendar; write %s or a date", s, g, c.Freq, freqGrain[c.Freq])}
 	}
 	// month → quarter or year, quarter → year
 	switch {
 	case g == grainMonth && fg == grainQuarter:
-		return floorDiv(idx, 12)*4 + floorMod(idx, 12)/3, nil
+		return FloorDiv(idx, 12)*4 + floorMod(idx, 12)/3, nil
 	case g == grainMonth && fg == grainYear:
-		return floorDiv(idx, 12), nil
+		return FloorDiv(idx, 12), nil
 	case g == grainQuarter && fg == grainYear:
-		return floorDiv(idx, 4), nil
+		return FloorDiv(idx, 4), nil
 	}
-	return 0, &timeError{fmt.Sprintf("%q cannot be placed on the %s calendar", s, c.freq)}
+	return 0, &timeError{fmt.Sprintf("%q cannot be placed on the %s calendar", s, c.Freq)}
 }
 
 // parseTimeText recognises the accepted text forms. It returns the grain,
@@ -189,7 +189,7 @@ func parseTimeText(s string) (g grain, days, idx int64, err error) {
 			return bad()
 		}
 		monday := isoWeek1Monday(y) + (w-1)*7
-		return grainWeek, 0, floorDiv(monday+3, 7), nil
+		return grainWeek, 0, FloorDiv(monday+3, 7), nil
 	}
 	m, ok := digits(s[5:7])
 	if !ok || m < 1 || m > 12 {
@@ -240,7 +240,7 @@ func digits(s string) (int64, bool) {
 	return v, err == nil
 }
 
-func floorDiv(a, b int64) int64 {
+func FloorDiv(a, b int64) int64 {
 	q := a / b
 	if (a%b != 0) && ((a < 0) != (b < 0)) {
 		q--
@@ -248,7 +248,7 @@ func floorDiv(a, b int64) int64 {
 	return q
 }
 
-func floorMod(a, b int64) int64 { return a - floorDiv(a, b)*b }
+func floorMod(a, b int64) int64 { return a - FloorDiv(a, b)*b }
 
 // daysFromCivil returns days since 1970-01-01 of a proleptic Gregorian date
 // (Howard Hinnant's algorithm, common practice).
@@ -256,7 +256,7 @@ func daysFromCivil(y, m, d int64) int64 {
 	if m <= 2 {
 		y--
 	}
-	era := floorDiv(y, 400)
+	era := FloorDiv(y, 400)
 	yoe := y - era*400
 	mp := (m + 9) % 12
 	doy := (153*mp+2)/5 + d - 1
@@ -267,7 +267,7 @@ func daysFromCivil(y, m, d int64) int64 {
 // civil is the inverse of daysFromCivil.
 func civil(z int64) (y, m, d int64) {
 	z += 719468
-	era := floorDiv(z, 146097)
+	era := FloorDiv(z, 146097)
 	doe := z - era*146097
 	yoe := (doe - doe/1460 + doe/36524 - doe/146096) / 365
 	y = yoe + era*400

@@ -1,6 +1,7 @@
-package pipeline
+package ingest
 
 import (
+	"almanac/pipeline/calendar"
 	"context"
 	"crypto/sha256"
 	"encoding/csv"
@@ -26,26 +27,26 @@ type InputFile struct {
 	Size   int64  `json:"size"`
 	SHA256 string `json:"sha256"`
 	Rows   int64  `json:"rows"`
-	abs    string
-	source int // index into the spec's sources
+	Abs    string `json:"-"`
+	Source int    `json:"-"` // index into the spec's sources
 }
 
-// rowSet holds every input row in columns: the interned series key, the
+// Rows holds every input row in columns: the interned series key, the
 // period, the value (NaN when missing) and where the row came from.
-type rowSet struct {
-	keyIDs  []int32
-	periods []int64
-	values  []float64
+type Rows struct {
+	KeyIDs  []int32
+	Periods []int64
+	Values  []float64
 	files   []int32 // index into files
 	lines   []int64 // CSV line, or Parquet row number (1-based)
 
-	keys      [][]string // by key id
+	Keys      [][]string // by key id
 	keyIndex  map[string]int32
 	keyBuf    []byte
 	files_    []InputFile
-	missing   int64 // rows whose value was empty or NaN
-	keyBlanks int64 // rows whose key had an empty component
-	notes     []problem
+	Missing   int64    // rows whose value was empty or NaN
+	KeyBlanks int64    // rows whose key had an empty component
+	Notes     []string // read warnings that become run-level problems rows
 
 	// Past batchRows rows, rows go to spill instead of the slices above;
 	// keyRows counts rows per key either way, rowCount all rows, and
@@ -54,19 +55,19 @@ type rowSet struct {
 	spill     *spill
 	spillErr  error
 	keyRows   []int64
-	rowCount  int64
-	panelLast int64
+	RowCount  int64
+	PanelLast int64
 	order     []int32 // key ids in sorted key order, once batched
 
 	// With sharding, only keys of this shard are kept (see ShardOf).
 	shardIndex, shardCount int
 }
 
-func newRowSet() *rowSet {
-	return &rowSet{keyIndex: map[string]int32{}, panelLast: math.MinInt64}
+func newRows() *Rows {
+	return &Rows{keyIndex: map[string]int32{}, PanelLast: math.MinInt64}
 }
 
-func (r *rowSet) internKey(parts []string) int32 {
+func (r *Rows) internKey(parts []string) int32 {
 	r.keyBuf = r.keyBuf[:0]
 	for i, p := range parts {
 		if i > 0 {
@@ -80,25 +81,25 @@ func (r *rowSet) internKey(parts []string) int32 {
 	if r.shardCount > 1 && int(ShardOf(r.keyBuf, r.shardCount)) != r.shardIndex {
 		return -1
 	}
-	id := int32(len(r.keys))
+	id := int32(len(r.Keys))
 	r.keyIndex[string(r.keyBuf)] = id
-	r.keys = append(r.keys, append([]string(nil), parts...))
+	r.Keys = append(r.Keys, append([]string(nil), parts...))
 	r.keyRows = append(r.keyRows, 0)
 	return id
 }
 
-func (r *rowSet) add(key int32, period int64, value float64, file int32, line int64) {
+func (r *Rows) add(key int32, period int64, value float64, file int32, line int64) {
 	if key < 0 { // another shard's series: it still marks the panel's end
-		r.panelLast = max(r.panelLast, period)
+		r.PanelLast = max(r.PanelLast, period)
 		return
 	}
-	r.rowCount++
+	r.RowCount++
 	r.keyRows[key]++
-	r.panelLast = max(r.panelLast, period)
+	r.PanelLast = max(r.PanelLast, period)
 	if math.IsNaN(value) {
-		r.missing++
+		r.Missing++
 	}
-	if r.spill == nil && r.batchRows > 0 && int64(len(r.keyIDs)) >= r.batchRows {
+	if r.spill == nil && r.batchRows > 0 && int64(len(r.KeyIDs)) >= r.batchRows {
 		r.startSpill()
 	}
 	if r.spill != nil {
@@ -107,31 +108,31 @@ func (r *rowSet) add(key int32, period int64, value float64, file int32, line in
 		}
 		return
 	}
-	r.keyIDs = append(r.keyIDs, key)
-	r.periods = append(r.periods, period)
-	r.values = append(r.values, value)
+	r.KeyIDs = append(r.KeyIDs, key)
+	r.Periods = append(r.Periods, period)
+	r.Values = append(r.Values, value)
 	r.files = append(r.files, file)
 	r.lines = append(r.lines, line)
 }
 
 // startSpill moves the rows held so far to a spill file; later rows follow.
-func (r *rowSet) startSpill() {
+func (r *Rows) startSpill() {
 	sp, err := newSpill()
 	if err != nil {
 		r.spillErr = err
 		r.batchRows = 0 // keep going in memory
 		return
 	}
-	for i := range r.keyIDs {
-		if err := sp.add(r.keyIDs[i], r.periods[i], r.values[i], r.files[i], r.lines[i]); err != nil {
+	for i := range r.KeyIDs {
+		if err := sp.add(r.KeyIDs[i], r.Periods[i], r.Values[i], r.files[i], r.lines[i]); err != nil {
 			r.spillErr = err
 		}
 	}
 	r.spill = sp
-	r.keyIDs, r.periods, r.values, r.files, r.lines = nil, nil, nil, nil, nil
+	r.KeyIDs, r.Periods, r.Values, r.files, r.lines = nil, nil, nil, nil, nil
 }
 
-func (r *rowSet) where(i int) string {
+func (r *Rows) Where(i int) string {
 	f := r.files_[r.files[i]]
 	if f.Format == string(spec.FormatParquet) {
 		return fmt.Sprintf("%s: row %d", f.Path, r.lines[i])
@@ -146,12 +147,12 @@ type DataError struct {
 
 func (e *DataError) Error() string { return strings.Join(e.Msgs, "\n") }
 
-// maxDataErrors is how many bad rows are reported before reading stops.
-const maxDataErrors = 20
+// MaxDataErrors is how many bad rows are reported before reading stops.
+const MaxDataErrors = 20
 
-// resolveSources expands every source's path or glob, relative to the spec's
+// ResolveSources expands every source's path or glob, relative to the spec's
 // folder, into files in sorted order.
-func resolveSources(s *spec.Spec) ([]InputFile, error) {
+func ResolveSources(s *spec.Spec) ([]InputFile, error) {
 	var out []InputFile
 	seen := map[string]bool{}
 	for i, src := range s.Sources {
@@ -182,7 +183,7 @@ func resolveSources(s *spec.Spec) ([]InputFile, error) {
 				continue
 			}
 			seen[m] = true
-			out = append(out, InputFile{Path: relTo(s.Dir, m), Format: string(src.Format), Size: st.Size(), abs: m, source: i})
+			out = append(out, InputFile{Path: relTo(s.Dir, m), Format: string(src.Format), Size: st.Size(), Abs: m, Source: i})
 		}
 	}
 	return out, nil
@@ -198,9 +199,9 @@ func relTo(dir, path string) string {
 	return path
 }
 
-// readInputs reads every input file into one rowSet.
-func readInputs(ctx context.Context, s *spec.Spec, files []InputFile, cal calendar, batchRows int64, shard ...Shard) (*rowSet, error) {
-	rs := newRowSet()
+// Read reads every input file into one Rows.
+func Read(ctx context.Context, s *spec.Spec, files []InputFile, cal calendar.Calendar, batchRows int64, shard ...Shard) (*Rows, error) {
+	rs := newRows()
 	rs.files_ = files
 	rs.batchRows = batchRows
 	if len(shard) > 0 {
@@ -214,7 +215,7 @@ func readInputs(ctx context.Context, s *spec.Spec, files []InputFile, cal calend
 		var err error
 		switch f.Format {
 		case string(spec.FormatCSV):
-			err = readCSV(s, f, int32(i), s.Sources[f.source], cal, rs)
+			err = readCSV(s, f, int32(i), s.Sources[f.Source], cal, rs)
 		case string(spec.FormatParquet):
 			err = readParquet(s, f, int32(i), cal, rs)
 		default:
@@ -228,7 +229,7 @@ func readInputs(ctx context.Context, s *spec.Spec, files []InputFile, cal calend
 			return nil, err
 		}
 	}
-	if rs.rowCount == 0 {
+	if rs.RowCount == 0 {
 		return nil, fmt.Errorf("no data rows in any input (%d file(s) read); nothing to forecast", len(files))
 	}
 	return rs, nil
@@ -249,21 +250,8 @@ func (h *hashingReader) Read(p []byte) (int, error) {
 	return n, err
 }
 
-func hashFile(path string) (string, error) {
-	fh, err := os.Open(path)
-	if err != nil {
-		return "", err
-	}
-	defer fh.Close()
-	h := sha256.New()
-	if _, err := io.Copy(h, fh); err != nil {
-		return "", err
-	}
-	return hex.EncodeToString(h.Sum(nil)), nil
-}
-
-func readCSV(s *spec.Spec, f *InputFile, fileIdx int32, src spec.Source, cal calendar, rs *rowSet) error {
-	fh, err := os.Open(f.abs)
+func readCSV(s *spec.Spec, f *InputFile, fileIdx int32, src spec.Source, cal calendar.Calendar, rs *Rows) error {
+	fh, err := os.Open(f.Abs)
 	if err != nil {
 		return fmt.Errorf("%s: %v", f.Path, err)
 	}
@@ -310,13 +298,13 @@ func readCSV(s *spec.Spec, f *InputFile, fileIdx int32, src spec.Source, cal cal
 		line, _ := cr.FieldPos(timeIdx)
 		if sameFields(rec, header) {
 			errs = append(errs, fmt.Sprintf("%s:%d: this line repeats the header; two exports were probably joined — remove the extra header line", f.Path, line))
-			if len(errs) >= maxDataErrors {
+			if len(errs) >= MaxDataErrors {
 				break
 			}
 			continue
 		}
 		tv := strings.TrimSpace(rec[timeIdx])
-		p, terr := cal.parse(tv)
+		p, terr := cal.Parse(tv)
 		if terr != nil {
 			errs = append(errs, fmt.Sprintf("%s:%d: column %q: %v", f.Path, line, s.Columns.Time, terr))
 		}
@@ -325,8 +313,8 @@ func readCSV(s *spec.Spec, f *InputFile, fileIdx int32, src spec.Source, cal cal
 			vl, _ := cr.FieldPos(valueIdx)
 			errs = append(errs, fmt.Sprintf("%s:%d: column %q: %v", f.Path, vl, s.Columns.Value, verr))
 		}
-		if len(errs) >= maxDataErrors {
-			errs = append(errs, fmt.Sprintf("%s: stopped after %d errors", f.Path, maxDataErrors))
+		if len(errs) >= MaxDataErrors {
+			errs = append(errs, fmt.Sprintf("%s: stopped after %d errors", f.Path, MaxDataErrors))
 			break
 		}
 		if terr != nil || verr != nil {
@@ -336,7 +324,7 @@ func readCSV(s *spec.Spec, f *InputFile, fileIdx int32, src spec.Source, cal cal
 		for j, k := range keyIdx {
 			keyParts[j] = rec[k]
 			if rec[k] == "" {
-				rs.keyBlanks++
+				rs.KeyBlanks++
 			} else if !utf8.ValidString(rec[k]) {
 				kl, _ := cr.FieldPos(k)
 				errs = append(errs, fmt.Sprintf("%s:%d: column %q: %q is not valid UTF-8; almanac reads text as UTF-8 (re-export the file as UTF-8)", f.Path, kl, s.Columns.Keys[j], rec[k]))
@@ -344,7 +332,7 @@ func readCSV(s *spec.Spec, f *InputFile, fileIdx int32, src spec.Source, cal cal
 			}
 		}
 		if badKey {
-			if len(errs) >= maxDataErrors {
+			if len(errs) >= MaxDataErrors {
 				break
 			}
 			continue
@@ -361,8 +349,7 @@ func readCSV(s *spec.Spec, f *InputFile, fileIdx int32, src spec.Source, cal cal
 	f.Rows = rows
 	f.SHA256 = hex.EncodeToString(hr.h.Sum(nil))
 	if rows == 0 {
-		rs.notes = append(rs.notes, problem{stage: "read", severity: "warning",
-			message: fmt.Sprintf("%s has a header line but no rows", f.Path)})
+		rs.Notes = append(rs.Notes, fmt.Sprintf("%s has a header line but no rows", f.Path))
 	}
 	return nil
 }
@@ -472,4 +459,13 @@ func parseValue(s string) (float64, error) {
 		return 0, fmt.Errorf("%q is not a number%s", s, hint)
 	}
 	return v, nil
+}
+
+func CompareKeys(a, b []string) int {
+	for i := range a {
+		if c := strings.Compare(a[i], b[i]); c != 0 {
+			return c
+		}
+	}
+	return 0
 }

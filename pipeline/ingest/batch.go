@@ -1,4 +1,4 @@
-package pipeline
+package ingest
 
 import (
 	"bufio"
@@ -71,24 +71,24 @@ func (s *spill) close() {
 	}
 }
 
-// batchSource yields the series of a run batch by batch, in key order.
-type batchSource struct {
-	rs      *rowSet // the rows (in memory) or the key index (when spilled)
+// Batches yields the series of a run batch by batch, in key order.
+type Batches[S any] struct {
+	rs      *Rows // the rows (in memory) or the key index (when spilled)
 	files   []string
 	bounds  []int // sorted-key rank where each batch starts; len = batches+1
-	cached  []*Series
-	shapeFn func(*rowSet) ([]*Series, error)
+	cached  []S
+	shapeFn func(*Rows) ([]S, error)
 }
 
 // batches is the number of batches.
-func (b *batchSource) batches() int { return len(b.bounds) - 1 }
+func (b *Batches[S]) Count() int { return len(b.bounds) - 1 }
 
 // newBatchSource prepares the batches. In memory (nothing spilled) there is
 // one batch. Spilled rows are partitioned into one file per batch by key
 // range, in one sequential pass over the spill file.
-func newBatchSource(rs *rowSet, batchRows int64, shape func(*rowSet) ([]*Series, error)) (*batchSource, error) {
-	b := &batchSource{rs: rs, shapeFn: shape}
-	nk := len(rs.keys)
+func NewBatches[S any](rs *Rows, batchRows int64, shape func(*Rows) ([]S, error)) (*Batches[S], error) {
+	b := &Batches[S]{rs: rs, shapeFn: shape}
+	nk := len(rs.Keys)
 	if rs.spill == nil {
 		b.bounds = []int{0, nk}
 		return b, nil
@@ -101,7 +101,7 @@ func newBatchSource(rs *rowSet, batchRows int64, shape func(*rowSet) ([]*Series,
 	for i := range order {
 		order[i] = int32(i)
 	}
-	slices.SortFunc(order, func(a, c int32) int { return compareKeys(rs.keys[a], rs.keys[c]) })
+	slices.SortFunc(order, func(a, c int32) int { return CompareKeys(rs.Keys[a], rs.Keys[c]) })
 	batchOf := make([]int32, nk)
 	b.bounds = []int{0}
 	var acc int64
@@ -117,7 +117,7 @@ func newBatchSource(rs *rowSet, batchRows int64, shape func(*rowSet) ([]*Series,
 	rs.order = order
 
 	// Partition the spill file.
-	nb := b.batches()
+	nb := b.Count()
 	writers := make([]*bufio.Writer, nb)
 	handles := make([]*os.File, nb)
 	for i := range writers {
@@ -159,7 +159,7 @@ func newBatchSource(rs *rowSet, batchRows int64, shape func(*rowSet) ([]*Series,
 
 // series returns batch i's series, shaped. The single in-memory batch is
 // shaped once and kept; spilled batches are read back and shaped on each call.
-func (b *batchSource) series(i int) ([]*Series, error) {
+func (b *Batches[S]) Batch(i int) ([]S, error) {
 	if b.files == nil {
 		if b.cached == nil {
 			s, err := b.shapeFn(b.rs)
@@ -179,15 +179,15 @@ func (b *batchSource) series(i int) ([]*Series, error) {
 
 // load reads batch i's rows into a row set of its own, with the batch's keys
 // renumbered from 0.
-func (b *batchSource) load(i int) (*rowSet, error) {
+func (b *Batches[S]) load(i int) (*Rows, error) {
 	g := b.rs
 	lo, hi := b.bounds[i], b.bounds[i+1]
 	local := make(map[int32]int32, hi-lo)
-	rs := &rowSet{files_: g.files_}
+	rs := &Rows{files_: g.files_}
 	for rank := lo; rank < hi; rank++ {
 		id := g.order[rank]
-		local[id] = int32(len(rs.keys))
-		rs.keys = append(rs.keys, g.keys[id])
+		local[id] = int32(len(rs.Keys))
+		rs.Keys = append(rs.Keys, g.Keys[id])
 	}
 	f, err := os.Open(b.files[i])
 	if err != nil {
@@ -196,7 +196,7 @@ func (b *batchSource) load(i int) (*rowSet, error) {
 	defer f.Close()
 	st, _ := f.Stat()
 	n := int(st.Size() / spillRowBytes)
-	rs.keyIDs, rs.periods, rs.values = make([]int32, 0, n), make([]int64, 0, n), make([]float64, 0, n)
+	rs.KeyIDs, rs.Periods, rs.Values = make([]int32, 0, n), make([]int64, 0, n), make([]float64, 0, n)
 	rs.files, rs.lines = make([]int32, 0, n), make([]int64, 0, n)
 	r := bufio.NewReaderSize(f, 1<<20)
 	var row [spillRowBytes]byte
@@ -207,18 +207,21 @@ func (b *batchSource) load(i int) (*rowSet, error) {
 			return nil, fmt.Errorf("reading batch %d: %w", i, err)
 		}
 		key, file, period, value, line := getRow(row[:])
-		rs.keyIDs = append(rs.keyIDs, local[key])
-		rs.periods = append(rs.periods, period)
-		rs.values = append(rs.values, value)
+		rs.KeyIDs = append(rs.KeyIDs, local[key])
+		rs.Periods = append(rs.Periods, period)
+		rs.Values = append(rs.Values, value)
 		rs.files = append(rs.files, file)
 		rs.lines = append(rs.lines, line)
 	}
-	rs.panelLast = g.panelLast
+	rs.PanelLast = g.PanelLast
 	return rs, nil
 }
 
-func (b *batchSource) close() {
+func (b *Batches[S]) Close() {
 	if b != nil && b.rs != nil {
-		b.rs.spill.close()
+		b.rs.Close()
 	}
 }
+
+// Close removes the spilled rows, if any.
+func (r *Rows) Close() { r.spill.close() }
