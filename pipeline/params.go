@@ -3,6 +3,7 @@ package pipeline
 import (
 	"context"
 	"fmt"
+	"path/filepath"
 	"slices"
 
 	"almanac/engines"
@@ -24,7 +25,7 @@ func SeriesParams(ctx context.Context, runDir string, key []string) (map[string]
 	if err != nil {
 		return nil, err
 	}
-	s, err := spec.FromCanonical(m.Spec.Canonical, runDir+"/manifest.json")
+	s, err := spec.FromCanonical(m.Spec.Canonical, filepath.Join(runDir, runfolder.ManifestFile))
 	if err != nil {
 		return nil, err
 	}

@@ -185,7 +185,7 @@ func (p *Plan) Stages() []Stage {
 		}
 		out = append(out, Stage{Name: "intervals", Detail: fmt.Sprintf("%s bounds at %s%% for %s", iv.Source, joinInts(iv.Levels), which)})
 	}
-	out = append(out, Stage{Name: "write", Detail: "problems, manifest.json, openlineage.json; committed atomically", Tables: []string{runfolder.TableProblems}})
+	out = append(out, Stage{Name: "write", Detail: runfolder.ManifestFile + ", " + runfolder.LineageFile + "; committed atomically", Tables: []string{runfolder.TableProblems}})
 	if r := s.Report; r != nil {
 		out = append(out, Stage{Name: "report", Detail: fmt.Sprintf("report.html: %d named series and up to %d picked", len(r.Series), r.Picks)})
 	}

@@ -42,12 +42,12 @@ func openTables(dir string, s *spec.Spec, meta map[string]string, mem memory.All
 	}
 	rt.forecasts = open(runfolder.TableForecasts, runfolder.ForecastColumns(s))
 	if s.Backtest.Folds > 0 {
-		rt.accuracy = open(runfolder.TableAccuracy, runfolder.AccuracyColumns)
-		rt.choices = open(runfolder.TableChoices, runfolder.ChoiceColumns)
+		rt.accuracy = open(runfolder.TableAccuracy, runfolder.AccuracyColumns())
+		rt.choices = open(runfolder.TableChoices, runfolder.ChoiceColumns())
 	}
-	rt.components = open(runfolder.TableComponents, runfolder.ComponentColumns)
-	rt.factors = open(runfolder.TableSeasonalFactors, runfolder.FactorColumns)
-	rt.problems = open(runfolder.TableProblems, runfolder.ProblemColumns)
+	rt.components = open(runfolder.TableComponents, runfolder.ComponentColumns())
+	rt.factors = open(runfolder.TableSeasonalFactors, runfolder.FactorColumns())
+	rt.problems = open(runfolder.TableProblems, runfolder.ProblemColumns())
 	if err != nil {
 		rt.abort()
 		return nil, err

@@ -61,7 +61,7 @@ func Verify(ctx context.Context, runDir string, w io.Writer, workers int) (int, 
 		}
 		fmt.Fprintf(w, "input    %s: unchanged\n", in.Path)
 	}
-	s, err := spec.FromCanonical(m.Spec.Canonical, filepath.Join(runDir, "manifest.json"))
+	s, err := spec.FromCanonical(m.Spec.Canonical, filepath.Join(runDir, runfolder.ManifestFile))
 	if err != nil {
 		return 0, fmt.Errorf("the manifest's canonical spec does not decode: %v", err)
 	}

@@ -325,7 +325,7 @@ func runCmd(c *cli.Context) error {
 	if r := s.Report; r != nil {
 		opts.Finish = func(staging, target string) error {
 			prev := ""
-			if _, err := os.Stat(filepath.Join(target, "manifest.json")); err == nil {
+			if _, err := os.Stat(filepath.Join(target, runfolder.ManifestFile)); err == nil {
 				prev = target
 			}
 			picks := r.Picks

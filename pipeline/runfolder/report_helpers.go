@@ -131,6 +131,9 @@ func (r *Run) Scan(name string, f ScanFilter, fn func(batch *Table) error) error
 		if err := fn(t); err != nil {
 			return err
 		}
+		if err := t.Err(); err != nil {
+			return err
+		}
 	}
 	if err := rr.Err(); err != nil {
 		return fmt.Errorf("%s: %v", path, err)

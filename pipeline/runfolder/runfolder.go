@@ -106,6 +106,8 @@ type Table struct {
 	Rows   int
 	Meta   map[string]string
 	cols   map[string]arrow.Array
+	nulls  map[string]arrow.Array // stand-ins for missing columns, by name and type
+	err    error                  // first missing or mistyped column read
 }
 
 // ReadTable reads a Parquet file.
@@ -146,17 +148,41 @@ func ReadTable(path string) (*Table, error) {
 // Has reports whether the table has the column.
 func (t *Table) Has(col string) bool { _, ok := t.cols[col]; return ok }
 
-func (t *Table) col(name string) arrow.Array {
+// col returns the named column. A column that is missing or of another
+// type than the caller reads does not panic: the table remembers the
+// first such problem (see Err) and the caller gets NULLs of the type it
+// asked for.
+func (t *Table) col(name string, want arrow.DataType) arrow.Array {
 	c, ok := t.cols[name]
-	if !ok {
-		panic(fmt.Sprintf("runfolder: %s has no column %q", filepath.Base(t.Path), name))
+	if ok && arrow.TypeEqual(c.DataType(), want) {
+		return c
 	}
-	return c
+	if t.err == nil {
+		if !ok {
+			t.err = fmt.Errorf("%s: no column %q", t.Path, name)
+		} else {
+			t.err = fmt.Errorf("%s: column %q is %s, expected %s", t.Path, name, c.DataType(), want)
+		}
+	}
+	key := name + "\x00" + want.String()
+	if n, ok := t.nulls[key]; ok {
+		return n
+	}
+	if t.nulls == nil {
+		t.nulls = map[string]arrow.Array{}
+	}
+	n := array.MakeArrayOfNull(memory.DefaultAllocator, want, t.Rows)
+	t.nulls[key] = n
+	return n
 }
+
+// Err is the first missing or mistyped column read from the table, naming
+// the file and the column; nil when every read found its column.
+func (t *Table) Err() error { return t.err }
 
 // Str returns a string cell; ok is false for NULL.
 func (t *Table) Str(col string, i int) (string, bool) {
-	c := t.col(col).(*array.String)
+	c := t.col(col, arrow.BinaryTypes.String).(*array.String)
 	if c.IsNull(i) {
 		return "", false
 	}
@@ -165,7 +191,7 @@ func (t *Table) Str(col string, i int) (string, bool) {
 
 // Float returns a float64 cell, NaN for NULL.
 func (t *Table) Float(col string, i int) float64 {
-	c := t.col(col).(*array.Float64)
+	c := t.col(col, arrow.PrimitiveTypes.Float64).(*array.Float64)
 	if c.IsNull(i) {
 		return math.NaN()
 	}
@@ -174,7 +200,7 @@ func (t *Table) Float(col string, i int) float64 {
 
 // Int returns an int32 cell; ok is false for NULL.
 func (t *Table) Int(col string, i int) (int, bool) {
-	c := t.col(col).(*array.Int32)
+	c := t.col(col, arrow.PrimitiveTypes.Int32).(*array.Int32)
 	if c.IsNull(i) {
 		return 0, false
 	}
@@ -183,13 +209,13 @@ func (t *Table) Int(col string, i int) (int, bool) {
 
 // Bool returns a boolean cell (false for NULL).
 func (t *Table) Bool(col string, i int) bool {
-	c := t.col(col).(*array.Boolean)
+	c := t.col(col, arrow.FixedWidthTypes.Boolean).(*array.Boolean)
 	return !c.IsNull(i) && c.Value(i)
 }
 
 // Date returns a DATE cell as a UTC time; ok is false for NULL.
 func (t *Table) Date(col string, i int) (time.Time, bool) {
-	c := t.col(col).(*array.Date32)
+	c := t.col(col, arrow.FixedWidthTypes.Date32).(*array.Date32)
 	if c.IsNull(i) {
 		return time.Time{}, false
 	}

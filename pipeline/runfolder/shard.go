@@ -72,7 +72,7 @@ func CommitShard(staging, target string, index int, tables []string) error {
 		}
 		FsyncPath(dir)
 	}
-	if err := os.Rename(filepath.Join(staging, "manifest.json"), manifest); err != nil {
+	if err := os.Rename(filepath.Join(staging, ManifestFile), manifest); err != nil {
 		return err
 	}
 	FsyncPath(filepath.Join(target, ShardsDir))
@@ -211,7 +211,7 @@ func Combine(dir string, w io.Writer) (*CombinedManifest, error) {
 	if err := os.WriteFile(tmp, append(b, '\n'), 0o644); err != nil {
 		return nil, err
 	}
-	if err := os.Rename(tmp, filepath.Join(dir, "manifest.json")); err != nil {
+	if err := os.Rename(tmp, filepath.Join(dir, ManifestFile)); err != nil {
 		return nil, err
 	}
 	fmt.Fprintf(w, "combined %d shard(s): %d series, run id %s\n", count, c.Series, ShortHash(c.RunID))

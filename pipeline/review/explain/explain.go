@@ -231,7 +231,7 @@ func load(run *runfolder.Run, key []string, opt Options) (*seriesData, error) {
 	sd.key = key
 
 	tables := map[string]*runfolder.Table{}
-	for _, name := range []string{"forecasts", "components", "seasonal_factors", "accuracy", "choices", "problems"} {
+	for _, name := range []string{runfolder.TableForecasts, runfolder.TableComponents, runfolder.TableSeasonalFactors, runfolder.TableAccuracy, runfolder.TableChoices, runfolder.TableProblems} {
 		if !run.HasTable(name) {
 			continue
 		}
@@ -241,7 +241,7 @@ func load(run *runfolder.Run, key []string, opt Options) (*seriesData, error) {
 		}
 		tables[name] = t
 	}
-	if tables["forecasts"] == nil {
+	if tables[runfolder.TableForecasts] == nil {
 		return nil, fmt.Errorf("%s has no forecasts table", run.Dir)
 	}
 	if err := checkMethods(sd, opt); err != nil {
@@ -249,7 +249,7 @@ func load(run *runfolder.Run, key []string, opt Options) (*seriesData, error) {
 	}
 
 	found := false
-	for _, name := range []string{"forecasts", "components", "choices", "seasonal_factors", "accuracy"} {
+	for _, name := range []string{runfolder.TableForecasts, runfolder.TableComponents, runfolder.TableChoices, runfolder.TableSeasonalFactors, runfolder.TableAccuracy} {
 		if t := tables[name]; t != nil {
 			if lo, hi := t.KeyRange(sd.keyCols, key); hi > lo {
 				found = true
@@ -257,92 +257,97 @@ func load(run *runfolder.Run, key []string, opt Options) (*seriesData, error) {
 			}
 		}
 	}
-	if !found && tables["problems"] != nil && len(tables["problems"].MatchRows(sd.keyCols, key)) > 0 {
+	if !found && tables[runfolder.TableProblems] != nil && len(tables[runfolder.TableProblems].MatchRows(sd.keyCols, key)) > 0 {
 		found = true
 	}
 	if !found {
 		return nil, notFound(run.Dir, sd.keyCols, key, tables)
 	}
 
-	if t := tables["components"]; t != nil {
+	if t := tables[runfolder.TableComponents]; t != nil {
 		lo, hi := t.KeyRange(sd.keyCols, key)
 		for i := lo; i < hi; i++ {
-			p, _ := t.Date("period", i)
-			sd.hist = append(sd.hist, histRow{p, t.Float("observed", i), t.Float("trend", i), t.Float("seasonal", i), t.Float("remainder", i), t.Float("adjusted", i)})
+			p, _ := t.Date(runfolder.ColPeriod, i)
+			sd.hist = append(sd.hist, histRow{p, t.Float(runfolder.ColObserved, i), t.Float(runfolder.ColTrend, i), t.Float(runfolder.ColSeasonal, i), t.Float(runfolder.ColRemainder, i), t.Float(runfolder.ColAdjusted, i)})
 			if i == lo {
-				sd.decomp, _ = t.Str("decomposition", i)
-				sd.form, _ = t.Str("form", i)
+				sd.decomp, _ = t.Str(runfolder.ColDecomposition, i)
+				sd.form, _ = t.Str(runfolder.ColForm, i)
 			}
 		}
 	}
-	if t := tables["seasonal_factors"]; t != nil {
+	if t := tables[runfolder.TableSeasonalFactors]; t != nil {
 		lo, hi := t.KeyRange(sd.keyCols, key)
 		for i := lo; i < hi; i++ {
-			pos, _ := t.Int("position", i)
-			cnt, _ := t.Int("count", i)
-			sd.factors = append(sd.factors, factorRow{pos, t.Float("factor", i), cnt})
+			pos, _ := t.Int(runfolder.ColPosition, i)
+			cnt, _ := t.Int(runfolder.ColCount, i)
+			sd.factors = append(sd.factors, factorRow{pos, t.Float(runfolder.ColFactor, i), cnt})
 			if sd.decomp == "" {
-				sd.decomp, _ = t.Str("decomposition", i)
-				sd.form, _ = t.Str("form", i)
+				sd.decomp, _ = t.Str(runfolder.ColDecomposition, i)
+				sd.form, _ = t.Str(runfolder.ColForm, i)
 			}
 		}
 	}
-	if t := tables["choices"]; t != nil {
+	if t := tables[runfolder.TableChoices]; t != nil {
 		lo, hi := t.KeyRange(sd.keyCols, key)
 		if hi > lo {
 			c := &choiceRow{}
-			c.chosen, c.hasChosen = t.Str("chosen", lo)
-			c.metric, _ = t.Str("metric", lo)
-			c.score = t.Float("score", lo)
-			c.runnerUp, c.hasRunnerUp = t.Str("runner_up", lo)
-			c.runnerUpScore = t.Float("runner_up_score", lo)
-			c.folds, _ = t.Int("folds", lo)
-			c.demandClass, c.hasClass = t.Str("demand_class", lo)
-			c.adi, c.cv2 = t.Float("adi", lo), t.Float("cv2", lo)
-			c.reason, _ = t.Str("reason", lo)
+			c.chosen, c.hasChosen = t.Str(runfolder.ColChosen, lo)
+			c.metric, _ = t.Str(runfolder.ColMetric, lo)
+			c.score = t.Float(runfolder.ColScore, lo)
+			c.runnerUp, c.hasRunnerUp = t.Str(runfolder.ColRunnerUp, lo)
+			c.runnerUpScore = t.Float(runfolder.ColRunnerUpScore, lo)
+			c.folds, _ = t.Int(runfolder.ColFolds, lo)
+			c.demandClass, c.hasClass = t.Str(runfolder.ColDemandClass, lo)
+			c.adi, c.cv2 = t.Float(runfolder.ColADI, lo), t.Float(runfolder.ColCV2, lo)
+			c.reason, _ = t.Str(runfolder.ColReason, lo)
 			sd.choice = c
 		}
 	}
 	if ev.Selection != nil {
 		sd.metric = ev.Selection.Metric
 	}
-	if t := tables["accuracy"]; t != nil {
+	if t := tables[runfolder.TableAccuracy]; t != nil {
 		lo, hi := t.KeyRange(sd.keyCols, key)
 		seen := map[int]bool{}
 		for i := lo; i < hi; i++ {
-			m, _ := t.Str("method", i)
-			f, _ := t.Int("fold", i)
+			m, _ := t.Str(runfolder.ColMethod, i)
+			f, _ := t.Int(runfolder.ColFold, i)
 			if _, ok := sd.acc[m]; !ok {
 				sd.acc[m] = map[int]accCell{}
 				sd.accOrder = append(sd.accOrder, m)
 			}
-			c := accCell{mase: t.Float("mase", i), metric: math.NaN()}
-			c.status, _ = t.Str("status", i)
-			if sd.metric != "" && sd.metric != "mase" && t.Has(sd.metric) {
+			c := accCell{mase: t.Float(runfolder.ColMASE, i), metric: math.NaN()}
+			c.status, _ = t.Str(runfolder.ColStatus, i)
+			if sd.metric != "" && sd.metric != runfolder.ColMASE && t.Has(sd.metric) {
 				c.metric = t.Float(sd.metric, i)
 			}
 			sd.acc[m][f] = c
 			if !seen[f] {
 				seen[f] = true
-				o, _ := t.Date("origin", i)
-				tp, _ := t.Int("train_periods", i)
-				te, _ := t.Int("test_periods", i)
+				o, _ := t.Date(runfolder.ColOrigin, i)
+				tp, _ := t.Int(runfolder.ColTrainPeriods, i)
+				te, _ := t.Int(runfolder.ColTestPeriods, i)
 				sd.folds = append(sd.folds, foldInfo{f, o, tp, te})
 			}
 		}
 		sort.Slice(sd.folds, func(a, b int) bool { return sd.folds[a].fold < sd.folds[b].fold })
 	}
-	if err := loadForecasts(sd, tables["forecasts"]); err != nil {
+	if err := loadForecasts(sd, tables[runfolder.TableForecasts]); err != nil {
 		return nil, err
 	}
-	if t := tables["problems"]; t != nil {
+	if t := tables[runfolder.TableProblems]; t != nil {
 		for _, i := range t.MatchRows(sd.keyCols, key) {
 			var p problemRow
-			p.stage, _ = t.Str("stage", i)
-			p.severity, _ = t.Str("severity", i)
-			p.method, _ = t.Str("method", i)
-			p.message, _ = t.Str("message", i)
+			p.stage, _ = t.Str(runfolder.ColStage, i)
+			p.severity, _ = t.Str(runfolder.ColSeverity, i)
+			p.method, _ = t.Str(runfolder.ColMethod, i)
+			p.message, _ = t.Str(runfolder.ColMessage, i)
 			sd.problems = append(sd.problems, p)
+		}
+	}
+	for _, t := range tables {
+		if err := t.Err(); err != nil {
+			return nil, err
 		}
 	}
 	for label := range opt.Params {
@@ -364,28 +369,28 @@ func loadForecasts(sd *seriesData, t *runfolder.Table) error {
 			sd.levels = append(sd.levels, lvl)
 		}
 	}
-	hasChosen, hasSource := t.Has("chosen"), t.Has("interval_source")
+	hasChosen, hasSource := t.Has(runfolder.ColChosen), t.Has(runfolder.ColIntervalSource)
 	lo, hi := t.KeyRange(sd.keyCols, sd.key)
 	for i := lo; i < hi; i++ {
-		label, _ := t.Str("method", i)
+		label, _ := t.Str(runfolder.ColMethod, i)
 		if len(sd.fcs) == 0 || sd.fcs[len(sd.fcs)-1].label != label {
-			model, _ := t.Str("model", i)
+			model, _ := t.Str(runfolder.ColModel, i)
 			sd.fcs = append(sd.fcs, methodFC{label: label, model: model})
 		}
 		m := &sd.fcs[len(sd.fcs)-1]
-		if hasChosen && t.Bool("chosen", i) {
+		if hasChosen && t.Bool(runfolder.ColChosen, i) {
 			m.chosen = true
 		}
 		var r fcRow
-		r.period, _ = t.Date("period", i)
-		r.step, _ = t.Int("step", i)
-		r.value = t.Float("value", i)
+		r.period, _ = t.Date(runfolder.ColPeriod, i)
+		r.step, _ = t.Int(runfolder.ColStep, i)
+		r.value = t.Float(runfolder.ColValue, i)
 		if hasSource {
-			r.source, _ = t.Str("interval_source", i)
+			r.source, _ = t.Str(runfolder.ColIntervalSource, i)
 		}
 		for _, lvl := range sd.levels {
-			r.lower = append(r.lower, t.Float(fmt.Sprintf("lower_%d", lvl), i))
-			r.upper = append(r.upper, t.Float(fmt.Sprintf("upper_%d", lvl), i))
+			r.lower = append(r.lower, t.Float(runfolder.ColLower(lvl), i))
+			r.upper = append(r.upper, t.Float(runfolder.ColUpper(lvl), i))
 		}
 		m.rows = append(m.rows, r)
 	}
@@ -452,7 +457,7 @@ func (sd *seriesData) forecastsShown(opt Options) []*methodFC {
 func notFound(dir string, cols, key []string, tables map[string]*runfolder.Table) error {
 	seen := map[string]bool{}
 	var all [][]string
-	for _, name := range []string{"forecasts", "components", "choices", "problems"} {
+	for _, name := range []string{runfolder.TableForecasts, runfolder.TableComponents, runfolder.TableChoices, runfolder.TableProblems} {
 		t := tables[name]
 		if t == nil {
 			continue

@@ -171,7 +171,7 @@ func load(runDir string, opt Options) (*model, error) {
 			return nil, fmt.Errorf("%s: canonical spec: %v", runDir, err)
 		}
 	}
-	if opt.Method != "" && !r.HasTable("choices") {
+	if opt.Method != "" && !r.HasTable(runfolder.TableChoices) {
 		known := false
 		for _, me := range r.Manifest.Methods {
 			known = known || me.Label == opt.Method
@@ -181,12 +181,12 @@ func load(runDir string, opt Options) (*model, error) {
 			m.opt.Method = ""
 		}
 	}
-	if r.HasTable("problems") {
+	if r.HasTable(runfolder.TableProblems) {
 		if m.problems, err = readProblems(r, m.keys); err != nil {
 			return nil, err
 		}
 	}
-	if r.HasTable("choices") {
+	if r.HasTable(runfolder.TableChoices) {
 		if m.choices, err = readChoices(r, m.keys); err != nil {
 			return nil, err
 		}
@@ -197,8 +197,8 @@ func load(runDir string, opt Options) (*model, error) {
 	if m.metric == "" && m.specX.Selection != nil {
 		m.metric = m.specX.Selection.Metric
 	}
-	if r.HasTable("forecasts") {
-		cols, err := r.Columns("forecasts")
+	if r.HasTable(runfolder.TableForecasts) {
+		cols, err := r.Columns(runfolder.TableForecasts)
 		if err != nil {
 			return nil, err
 		}
@@ -248,7 +248,7 @@ func load(runDir string, opt Options) (*model, error) {
 			add(c.key, fmt.Sprintf("changed most #%d", i+1))
 		}
 	}
-	if len(picks) == 0 && n > 0 && r.HasTable("forecasts") {
+	if len(picks) == 0 && n > 0 && r.HasTable(runfolder.TableForecasts) {
 		// Nothing to rank by (no backtest, no previous run): list the first
 		// series in key order so that the page still shows some.
 		first, err := firstKeys(r, m.keys, n)
@@ -301,7 +301,7 @@ func intervalLevels(cols []string) []int {
 
 func readProblems(r *runfolder.Run, keys []string) ([]problemRow, error) {
 	var out []problemRow
-	err := r.Scan("problems", runfolder.ScanFilter{}, func(t *runfolder.Table) error {
+	err := r.Scan(runfolder.TableProblems, runfolder.ScanFilter{}, func(t *runfolder.Table) error {
 		for i := 0; i < t.Rows; i++ {
 			p := problemRow{key: strings.Clone(t.Key(keys, i)), hasKey: true}
 			if len(keys) > 0 {
@@ -328,15 +328,15 @@ func strClone(t *runfolder.Table, col string, i int) string {
 
 func readChoices(r *runfolder.Run, keys []string) ([]choice, error) {
 	var out []choice
-	err := r.Scan("choices", runfolder.ScanFilter{}, func(t *runfolder.Table) error {
+	err := r.Scan(runfolder.TableChoices, runfolder.ScanFilter{}, func(t *runfolder.Table) error {
 		for i := 0; i < t.Rows; i++ {
 			c := choice{key: strings.Clone(t.Key(keys, i))}
 			c.chosen = strClone(t, "chosen", i)
 			c.metric = strClone(t, "metric", i)
-			c.score = t.Float("score", i)
+			c.score = t.Float(runfolder.ColScore, i)
 			c.runnerUp = strClone(t, "runner_up", i)
-			c.runnerUpScore = t.Float("runner_up_score", i)
-			c.folds, _ = t.Int("folds", i)
+			c.runnerUpScore = t.Float(runfolder.ColRunnerUpScore, i)
+			c.folds, _ = t.Int(runfolder.ColFolds, i)
 			c.demandClass = strClone(t, "demand_class", i)
 			c.reason = strClone(t, "reason", i)
 			out = append(out, c)
@@ -371,8 +371,8 @@ func worstChoices(cs []choice, n int) []choice {
 func firstKeys(r *runfolder.Run, keys []string, n int) ([]string, error) {
 	var out []string
 	cols := append([]string{}, keys...)
-	cols = append(cols, "step")
-	err := r.Scan("forecasts", runfolder.ScanFilter{Columns: cols}, func(t *runfolder.Table) error {
+	cols = append(cols, runfolder.ColStep)
+	err := r.Scan(runfolder.TableForecasts, runfolder.ScanFilter{Columns: cols}, func(t *runfolder.Table) error {
 		for i := 0; i < t.Rows; i++ {
 			k := t.Key(keys, i)
 			if len(out) > 0 && out[len(out)-1] == k {
@@ -394,7 +394,7 @@ func firstKeys(r *runfolder.Run, keys []string, n int) ([]string, error) {
 // drawnMethod is the entry whose forecast a run's charts show: the chosen
 // rows with a backtest, else opt.Method or the first method of the spec.
 func drawnMethod(r *runfolder.Run, opt Options) (label string, useChosen bool, err error) {
-	cols, err := r.Columns("forecasts")
+	cols, err := r.Columns(runfolder.TableForecasts)
 	if err != nil {
 		return "", false, err
 	}
@@ -424,7 +424,7 @@ type drawn struct {
 // (only the series in want, when want is not nil).
 func chosenForecasts(r *runfolder.Run, keys []string, opt Options, levels []int, want map[string]bool) (map[string]*drawn, error) {
 	out := map[string]*drawn{}
-	if !r.HasTable("forecasts") {
+	if !r.HasTable(runfolder.TableForecasts) {
 		return out, nil
 	}
 	label, useChosen, err := drawnMethod(r, opt)
@@ -432,41 +432,41 @@ func chosenForecasts(r *runfolder.Run, keys []string, opt Options, levels []int,
 		return nil, err
 	}
 	cols := append([]string{}, keys...)
-	cols = append(cols, "method", "model", "period", "value")
+	cols = append(cols, runfolder.ColMethod, runfolder.ColModel, runfolder.ColPeriod, runfolder.ColValue)
 	if useChosen {
-		cols = append(cols, "chosen")
+		cols = append(cols, runfolder.ColChosen)
 	}
 	for _, l := range levels {
-		cols = append(cols, fmt.Sprintf("lower_%d", l), fmt.Sprintf("upper_%d", l))
+		cols = append(cols, runfolder.ColLower(l), runfolder.ColUpper(l))
 	}
 	if len(levels) > 0 {
-		cols = append(cols, "interval_source")
+		cols = append(cols, runfolder.ColIntervalSource)
 	}
 	f := runfolder.ScanFilter{Columns: cols}
 	if want != nil && len(keys) > 0 {
 		f.KeyColumn, f.KeyValues = keys[0], firstParts(want, len(keys))
 	}
-	err = r.Scan("forecasts", f, func(t *runfolder.Table) error {
+	err = r.Scan(runfolder.TableForecasts, f, func(t *runfolder.Table) error {
 		for i := 0; i < t.Rows; i++ {
 			if useChosen {
-				if !t.Bool("chosen", i) {
+				if !t.Bool(runfolder.ColChosen, i) {
 					continue
 				}
-			} else if m, _ := t.Str("method", i); m != label {
+			} else if m, _ := t.Str(runfolder.ColMethod, i); m != label {
 				continue
 			}
 			k := t.Key(keys, i)
 			if want != nil && !want[k] {
 				continue
 			}
-			p, ok := t.Date("period", i)
+			p, ok := t.Date(runfolder.ColPeriod, i)
 			if !ok {
 				continue
 			}
-			pt := fcPoint{period: p, value: t.Float("value", i)}
+			pt := fcPoint{period: p, value: t.Float(runfolder.ColValue, i)}
 			for _, l := range levels {
-				pt.lower = append(pt.lower, t.Float(fmt.Sprintf("lower_%d", l), i))
-				pt.upper = append(pt.upper, t.Float(fmt.Sprintf("upper_%d", l), i))
+				pt.lower = append(pt.lower, t.Float(runfolder.ColLower(l), i))
+				pt.upper = append(pt.upper, t.Float(runfolder.ColUpper(l), i))
 			}
 			d := out[k]
 			if d == nil {
@@ -589,14 +589,14 @@ func (m *model) fillSeries(prev map[string]*drawn) error {
 		return f
 	}
 	r := m.run
-	if r.HasTable("components") {
-		err := r.Scan("components", filter("decomposition", "form", "period", "observed", "trend"), func(t *runfolder.Table) error {
+	if r.HasTable(runfolder.TableComponents) {
+		err := r.Scan(runfolder.TableComponents, filter(runfolder.ColDecomposition, runfolder.ColForm, runfolder.ColPeriod, runfolder.ColObserved, runfolder.ColTrend), func(t *runfolder.Table) error {
 			for i := 0; i < t.Rows; i++ {
 				s := by[t.Key(m.keys, i)]
 				if s == nil {
 					continue
 				}
-				p, ok := t.Date("period", i)
+				p, ok := t.Date(runfolder.ColPeriod, i)
 				if !ok {
 					continue
 				}
@@ -606,8 +606,8 @@ func (m *model) fillSeries(prev map[string]*drawn) error {
 					s.form = strClone(t, "form", i)
 				}
 				s.periods = append(s.periods, p)
-				s.observed = append(s.observed, t.Float("observed", i))
-				s.trend = append(s.trend, t.Float("trend", i))
+				s.observed = append(s.observed, t.Float(runfolder.ColObserved, i))
+				s.trend = append(s.trend, t.Float(runfolder.ColTrend, i))
 			}
 			return nil
 		})
@@ -615,7 +615,7 @@ func (m *model) fillSeries(prev map[string]*drawn) error {
 			return err
 		}
 	}
-	if r.HasTable("forecasts") {
+	if r.HasTable(runfolder.TableForecasts) {
 		fc, err := chosenForecasts(r, m.keys, m.opt, m.levels, want)
 		if err != nil {
 			return err
@@ -627,14 +627,14 @@ func (m *model) fillSeries(prev map[string]*drawn) error {
 			s.method, s.model, s.source = d.method, d.model, d.source
 		}
 	}
-	if r.HasTable("seasonal_factors") {
-		err := r.Scan("seasonal_factors", filter("decomposition", "form", "position", "factor", "count"), func(t *runfolder.Table) error {
+	if r.HasTable(runfolder.TableSeasonalFactors) {
+		err := r.Scan(runfolder.TableSeasonalFactors, filter(runfolder.ColDecomposition, runfolder.ColForm, runfolder.ColPosition, runfolder.ColFactor, runfolder.ColCount), func(t *runfolder.Table) error {
 			for i := 0; i < t.Rows; i++ {
 				s := by[t.Key(m.keys, i)]
 				if s == nil {
 					continue
 				}
-				pos, ok := t.Int("position", i)
+				pos, ok := t.Int(runfolder.ColPosition, i)
 				if !ok {
 					continue
 				}
@@ -643,8 +643,8 @@ func (m *model) fillSeries(prev map[string]*drawn) error {
 					s.decomp = strClone(t, "decomposition", i)
 					s.form = strClone(t, "form", i)
 				}
-				c, _ := t.Int("count", i)
-				s.factors = append(s.factors, factor{position: pos, value: t.Float("factor", i), count: c})
+				c, _ := t.Int(runfolder.ColCount, i)
+				s.factors = append(s.factors, factor{position: pos, value: t.Float(runfolder.ColFactor, i), count: c})
 			}
 			return nil
 		})

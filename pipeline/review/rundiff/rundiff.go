@@ -285,23 +285,23 @@ func load(dir string) (*side, error) {
 		return nil, fmt.Errorf("%s: canonical spec: %v", dir, err)
 	}
 	s.info = RunInfo{Dir: dir, SpecName: r.Manifest.Spec.Name, SpecSHA256: r.Manifest.Spec.SHA256,
-		Almanac: r.Manifest.Almanac, Horizon: cs.Horizon, Backtest: r.HasTable("choices")}
+		Almanac: r.Manifest.Almanac, Horizon: cs.Horizon, Backtest: r.HasTable(runfolder.TableChoices)}
 	for _, m := range r.Manifest.Methods {
 		s.info.Methods = append(s.info.Methods, m.Label)
 	}
 	keys := cs.Columns.Keys
-	fc, err := r.Table("forecasts")
+	fc, err := r.Table(runfolder.TableForecasts)
 	if err != nil {
 		return nil, err
 	}
-	for _, c := range append(slices.Clone(keys), "method", "value") {
+	for _, c := range append(slices.Clone(keys), runfolder.ColMethod, runfolder.ColValue) {
 		if !fc.Has(c) {
 			return nil, fmt.Errorf("%s: forecasts.parquet has no column %q", dir, c)
 		}
 	}
 	for i := 0; i < fc.Rows; i++ {
 		k := s.addSeries(fc, keys, i)
-		m, _ := fc.Str("method", i)
+		m, _ := fc.Str(runfolder.ColMethod, i)
 		ms := s.totals[k]
 		if ms == nil {
 			ms = map[string]*agg{}
@@ -312,7 +312,7 @@ func load(dir string) (*side, error) {
 			a = &agg{}
 			ms[m] = a
 		}
-		v := fc.Float("value", i)
+		v := fc.Float(runfolder.ColValue, i)
 		a.n++
 		if math.IsNaN(v) {
 			a.null = true
@@ -320,12 +320,15 @@ func load(dir string) (*side, error) {
 			a.sum += v
 		}
 	}
+	if err := fc.Err(); err != nil {
+		return nil, err
+	}
 	if s.info.Backtest {
-		ch, err := r.Table("choices")
+		ch, err := r.Table(runfolder.TableChoices)
 		if err != nil {
 			return nil, err
 		}
-		for _, c := range append(slices.Clone(keys), "chosen", "metric", "score") {
+		for _, c := range append(slices.Clone(keys), runfolder.ColChosen, runfolder.ColMetric, runfolder.ColScore) {
 			if !ch.Has(c) {
 				return nil, fmt.Errorf("%s: choices.parquet has no column %q", dir, c)
 			}
@@ -333,11 +336,14 @@ func load(dir string) (*side, error) {
 		s.choices = map[string]choice{}
 		for i := 0; i < ch.Rows; i++ {
 			k := s.addSeries(ch, keys, i)
-			label, _ := ch.Str("chosen", i)
-			s.choices[k] = choice{label: label, score: ch.Float("score", i)}
-			if m, ok := ch.Str("metric", i); ok && s.info.Metric == "" {
+			label, _ := ch.Str(runfolder.ColChosen, i)
+			s.choices[k] = choice{label: label, score: ch.Float(runfolder.ColScore, i)}
+			if m, ok := ch.Str(runfolder.ColMetric, i); ok && s.info.Metric == "" {
 				s.info.Metric = m
 			}
+		}
+		if err := ch.Err(); err != nil {
+			return nil, err
 		}
 		if s.info.Metric == "" {
 			s.info.Metric = canonString(s.canon, "selection", "metric")
