@@ -38,28 +38,9 @@ func Verify(ctx context.Context, runDir string, w io.Writer, workers int) (int, 
 		fmt.Fprintf(w, "note     the run was made by almanac %s; this is %s — identical output is expected only from the same version\n", m.Almanac, Version)
 	}
 	// 1. Inputs.
-	changed := 0
-	for _, in := range m.Inputs {
-		path := in.Path
-		if !filepath.IsAbs(path) {
-			path = filepath.Join(m.Spec.Dir, path)
-		}
-		st, err := os.Stat(path)
-		if err != nil {
-			fmt.Fprintf(w, "input    %s: MISSING (%v)\n", in.Path, err)
-			changed++
-			continue
-		}
-		sum, err := runfolder.HashFile(path)
-		if err != nil {
-			return 0, err
-		}
-		if sum != in.SHA256 || st.Size() != in.Size {
-			fmt.Fprintf(w, "input    %s: CHANGED (sha256 %s, was %s; %d bytes, was %d)\n", in.Path, runfolder.ShortHash(sum), runfolder.ShortHash(in.SHA256), st.Size(), in.Size)
-			changed++
-			continue
-		}
-		fmt.Fprintf(w, "input    %s: unchanged\n", in.Path)
+	changed, err := checkInputs(w, m)
+	if err != nil {
+		return 0, err
 	}
 	s, err := spec.FromCanonical(m.Spec.Canonical, filepath.Join(runDir, runfolder.ManifestFile))
 	if err != nil {
@@ -109,6 +90,48 @@ func Verify(ctx context.Context, runDir string, w io.Writer, workers int) (int, 
 	if _, err := Run(ctx, s, Options{Out: rerun, Workers: workers}); err != nil {
 		return 0, fmt.Errorf("rerun failed: %v", err)
 	}
+	differs += compareTables(w, m, runDir, rerun)
+	if differs > 0 {
+		fmt.Fprintf(w, "result   DIFFERS: %d table(s) do not reproduce\n", differs)
+		return VerifyDiffers, nil
+	}
+	fmt.Fprintf(w, "result   IDENTICAL: %d table(s) reproduced byte for byte\n", len(m.Tables))
+	return VerifyIdentical, nil
+}
+
+// checkInputs compares the recorded inputs with the files now on disk and
+// counts those missing or changed.
+func checkInputs(w io.Writer, m *runfolder.Manifest) (int, error) {
+	changed := 0
+	for _, in := range m.Inputs {
+		path := in.Path
+		if !filepath.IsAbs(path) {
+			path = filepath.Join(m.Spec.Dir, path)
+		}
+		st, err := os.Stat(path)
+		if err != nil {
+			fmt.Fprintf(w, "input    %s: MISSING (%v)\n", in.Path, err)
+			changed++
+			continue
+		}
+		sum, err := runfolder.HashFile(path)
+		if err != nil {
+			return 0, err
+		}
+		if sum != in.SHA256 || st.Size() != in.Size {
+			fmt.Fprintf(w, "input    %s: CHANGED (sha256 %s, was %s; %d bytes, was %d)\n", in.Path, runfolder.ShortHash(sum), runfolder.ShortHash(in.SHA256), st.Size(), in.Size)
+			changed++
+			continue
+		}
+		fmt.Fprintf(w, "input    %s: unchanged\n", in.Path)
+	}
+	return changed, nil
+}
+
+// compareTables compares every table of the run with its rerun and counts
+// those that differ or are missing.
+func compareTables(w io.Writer, m *runfolder.Manifest, runDir, rerun string) int {
+	differs := 0
 	for _, t := range m.Tables {
 		a, errA := os.ReadFile(filepath.Join(runDir, t.File))
 		b, errB := os.ReadFile(filepath.Join(rerun, t.File))
@@ -126,10 +149,5 @@ func Verify(ctx context.Context, runDir string, w io.Writer, workers int) (int, 
 			fmt.Fprintf(w, "table    %s: identical (%d rows, sha256 %s)\n", t.File, t.Rows, runfolder.ShortHash(t.SHA256))
 		}
 	}
-	if differs > 0 {
-		fmt.Fprintf(w, "result   DIFFERS: %d table(s) do not reproduce\n", differs)
-		return VerifyDiffers, nil
-	}
-	fmt.Fprintf(w, "result   IDENTICAL: %d table(s) reproduced byte for byte\n", len(m.Tables))
-	return VerifyIdentical, nil
+	return differs
 }

@@ -8,12 +8,8 @@ import (
 	"math"
 	"slices"
 	"sort"
-	"strings"
-
-	"gonum.org/v1/gonum/stat/distuv"
 
 	"almanac/engines"
-	"almanac/pipeline/calendar"
 	"almanac/pipeline/forecast"
 	"almanac/pipeline/runfolder"
 	"almanac/pipeline/series"
@@ -161,28 +157,7 @@ func (e *Evaluation) Backtest(w *forecast.Work, s *series.Series) *Backtest {
 		return r
 	}
 	for _, mr := range w.Methods {
-		method := mr.Engine
-		if w.Wrap != nil {
-			method = w.Wrap(method)
-		}
-		eb := entryBacktest{label: mr.Spec.Label}
-		for _, f := range folds {
-			// The full slice expression caps the capacity: a method cannot
-			// reach past the origin by reslicing its input.
-			train := y[f.TrainStart:f.TrainEnd:f.TrainEnd]
-			test := y[f.TrainEnd:f.TestEnd]
-			res, err := forecast.SafeForecast(method, train, m, e.bt.Horizon, false)
-			if err != nil {
-				eb.folds = append(eb.folds, foldScore{fold: f, failed: true})
-				if eb.reason == "" {
-					eb.reason = fmt.Sprintf("failed on fold %d: %s", f.Index, forecast.TrimName(err.Error(), mr.Spec.Method))
-				}
-				continue
-			}
-			sc, _ := engines.PointScores(test, res.Values[:len(test)], train, m)
-			eb.folds = append(eb.folds, foldScore{fold: f, fc: res.Values, scores: sc})
-		}
-		r.entries = append(r.entries, eb)
+		r.entries = append(r.entries, e.backtestMethod(w, mr, y, folds))
 	}
 	for i := range r.entries {
 		e.scoreEntry(&r.entries[i])
@@ -239,6 +214,33 @@ func (e *Evaluation) Backtest(w *forecast.Work, s *series.Series) *Backtest {
 		r.reason = fmt.Sprintf("the only entry scored on %d fold(s)", len(folds))
 	}
 	return r
+}
+
+// backtestMethod runs one method on every fold of y.
+func (e *Evaluation) backtestMethod(w *forecast.Work, mr forecast.Method, y []float64, folds []fold) entryBacktest {
+	m := w.Spec.Calendar.SeasonLength
+	method := mr.Engine
+	if w.Wrap != nil {
+		method = w.Wrap(method)
+	}
+	eb := entryBacktest{label: mr.Spec.Label}
+	for _, f := range folds {
+		// The full slice expression caps the capacity: a method cannot
+		// reach past the origin by reslicing its input.
+		train := y[f.TrainStart:f.TrainEnd:f.TrainEnd]
+		test := y[f.TrainEnd:f.TestEnd]
+		res, err := forecast.SafeForecast(method, train, m, e.bt.Horizon, false)
+		if err != nil {
+			eb.folds = append(eb.folds, foldScore{fold: f, failed: true})
+			if eb.reason == "" {
+				eb.reason = fmt.Sprintf("failed on fold %d: %s", f.Index, forecast.TrimName(err.Error(), mr.Spec.Method))
+			}
+			continue
+		}
+		sc, _ := engines.PointScores(test, res.Values[:len(test)], train, m)
+		eb.folds = append(eb.folds, foldScore{fold: f, fc: res.Values, scores: sc})
+	}
+	return eb
 }
 
 // scoreEntry averages the selection metric and MASE over the folds; an
@@ -390,65 +392,6 @@ func (e *Evaluation) Record(i int, r *Backtest) {
 	e.choices[i].problems = r.Problems // written with the series in pass 2
 }
 
-// FinishPass1 turns the pooled error histograms into interval quantiles.
-func (e *Evaluation) FinishPass1() {
-	if len(e.levels) == 0 {
-		return
-	}
-	e.quantiles = map[string][][][2]float64{}
-	for label, hs := range e.errs {
-		q := make([][][2]float64, len(hs))
-		for step, h := range hs {
-			q[step] = make([][2]float64, len(e.levels))
-			for li, lvl := range e.levels {
-				alpha := 1 - float64(lvl)/100
-				q[step][li] = [2]float64{h.quantile(alpha / 2), h.quantile(1 - alpha/2)}
-			}
-		}
-		e.quantiles[label] = q
-	}
-}
-
-// intervals fills the interval bounds of one final forecast. Model-based
-// bounds use the method's forecast variance with normal quantiles; empirical
-// bounds add the pooled scaled error quantiles times this series' scale.
-func (e *Evaluation) intervals(f *forecast.Forecast, scale float64, levels []int, source string) {
-	h := len(f.Values)
-	if source == "model" && f.Variance != nil {
-		f.IntervalSource = "model"
-		for _, lvl := range levels {
-			z := distuv.UnitNormal.Quantile(1 - (1-float64(lvl)/100)/2)
-			lo, hi := make([]float64, h), make([]float64, h)
-			for s := 0; s < h; s++ {
-				sd := math.Sqrt(f.Variance[s])
-				lo[s], hi[s] = f.Values[s]-z*sd, f.Values[s]+z*sd
-			}
-			f.Lower, f.Upper = append(f.Lower, lo), append(f.Upper, hi)
-		}
-		return
-	}
-	if source == "model" || e == nil || e.quantiles == nil {
-		// Model-based intervals only where the method has a variance: an
-		// empirical stand-in would pool errors across the run's series and
-		// make a sharded run differ from a whole one.
-		return
-	}
-	q := e.quantiles[f.Label]
-	if q == nil || !(scale > 0) || math.IsInf(scale, 0) {
-		return
-	}
-	f.IntervalSource = "empirical"
-	for li := range levels {
-		lo, hi := make([]float64, h), make([]float64, h)
-		for s := 0; s < h; s++ {
-			step := min(s, len(q)-1) // past the backtest horizon, the last step's spread
-			lo[s] = f.Values[s] + q[step][li][0]*scale
-			hi[s] = f.Values[s] + q[step][li][1]*scale
-		}
-		f.Lower, f.Upper = append(f.Lower, lo), append(f.Upper, hi)
-	}
-}
-
 // choiceFor is the label a series without a scored entry falls back to, or
 // "" when it has no usable history.
 func (e *Evaluation) choiceFor(r *Backtest) string {
@@ -456,78 +399,6 @@ func (e *Evaluation) choiceFor(r *Backtest) string {
 		return ""
 	}
 	return e.fallback
-}
-
-// Leaderboard summarises the backtests across series for the manifest.
-func (e *Evaluation) Leaderboard(series int) *runfolder.Leaderboard {
-	lb := &runfolder.Leaderboard{Metric: e.metric, Chosen: map[string]int{}}
-	for _, l := range e.labels {
-		v := append([]float64(nil), e.mase[l]...)
-		row := runfolder.LeaderboardRow{Method: l, Series: len(v), MeanMASE: runfolder.JSONFloat(math.NaN()), MedianMASE: runfolder.JSONFloat(math.NaN())}
-		if len(v) > 0 {
-			sort.Float64s(v)
-			sum := 0.0
-			for _, x := range v {
-				sum += x
-			}
-			row.MeanMASE = runfolder.JSONFloat(sum / float64(len(v)))
-			if len(v)%2 == 1 {
-				row.MedianMASE = runfolder.JSONFloat(v[len(v)/2])
-			} else {
-				row.MedianMASE = runfolder.JSONFloat((v[len(v)/2-1] + v[len(v)/2]) / 2)
-			}
-		}
-		if series > 0 {
-			row.WinShare = float64(e.wins[l]) / float64(series)
-		}
-		lb.Entries = append(lb.Entries, row)
-		if e.wins[l] > 0 {
-			lb.Chosen[l] = e.wins[l]
-		}
-	}
-	lb.NoScore = e.fallbacks
-	lb.Fallback = e.fallback
-	return lb
-}
-
-// errorHistogram counts scaled errors in bins of width histWidth over
-// [-histRange, histRange]; values beyond fall into the end bins. Counting is
-// order-free, so the quantiles do not depend on the worker count.
-type errorHistogram struct {
-	counts []int32
-	n      int64
-}
-
-const (
-	histWidth = 0.01
-	histRange = 50.0
-)
-
-func newErrorHistogram() *errorHistogram {
-	return &errorHistogram{counts: make([]int32, int(2*histRange/histWidth)+1)}
-}
-
-func (h *errorHistogram) add(v float64) {
-	i := int(math.Round((v + histRange) / histWidth))
-	i = max(0, min(i, len(h.counts)-1))
-	h.counts[i]++
-	h.n++
-}
-
-// quantile returns the centre of the bin holding the p-quantile.
-func (h *errorHistogram) quantile(p float64) float64 {
-	if h.n == 0 {
-		return math.NaN()
-	}
-	target := p * float64(h.n)
-	var cum float64
-	for i, c := range h.counts {
-		cum += float64(c)
-		if cum >= target && c > 0 {
-			return float64(i)*histWidth - histRange
-		}
-	}
-	return histRange
 }
 
 // classifyDemand labels a series' demand pattern when it has any demand.
@@ -539,121 +410,4 @@ func classifyDemand(y []float64) (engines.DemandClass, bool) {
 	}
 	d := engines.ClassifyDemand(y)
 	return d, d.Class != engines.DemandNone
-}
-
-// WriteAccuracy writes one series' accuracy rows: every entry, every fold.
-func WriteAccuracy(t *runfolder.TableWriter, r *Backtest, cal calendar.Calendar) error {
-	s := r.Series
-	for _, eb := range r.entries {
-		for _, f := range eb.folds {
-			t.Key(s.Key)
-			t.Str(0, eb.label)
-			t.Int32(1, f.fold.Index)
-			t.Date(2, cal.StartDays(s.Start+int64(f.fold.TrainEnd)))
-			t.Date(3, cal.StartDays(s.Start+int64(f.fold.TrainStart)))
-			t.Int32(4, f.fold.TrainEnd-f.fold.TrainStart)
-			t.Int32(5, f.fold.TestEnd-f.fold.TrainEnd)
-			sc := f.scores
-			if f.failed {
-				nan := math.NaN()
-				sc = engines.Scores{MAE: nan, RMSE: nan, MAPE: nan, SMAPE: nan, MASE: nan, RMSSE: nan, WAPE: nan, Bias: nan}
-			}
-			t.Float(6, sc.MAE)
-			t.Float(7, sc.RMSE)
-			t.Float(8, sc.MAPE)
-			t.Int32(9, sc.MAPEZeros)
-			t.Float(10, sc.SMAPE)
-			t.Float(11, sc.MASE)
-			t.Float(12, sc.RMSSE)
-			t.Float(13, sc.WAPE)
-			t.Float(14, sc.Bias)
-			status := "ok"
-			if f.failed {
-				status = "failed"
-			}
-			t.Str(15, status)
-			if err := t.EndRow(); err != nil {
-				return err
-			}
-		}
-	}
-	return nil
-}
-
-// WriteChoice writes one series' choices row.
-func (e *Evaluation) WriteChoice(t *runfolder.TableWriter, r *Backtest) error {
-	t.Key(r.Series.Key)
-	score := func(i int) (string, float64) {
-		if i < 0 {
-			return "", math.NaN()
-		}
-		return r.entries[i].label, r.entries[i].score
-	}
-	c, cs := score(r.chosen)
-	if r.chosen < 0 {
-		c = e.choiceFor(r)
-	}
-	ru, rus := score(r.runnerUp)
-	t.StrOrNull(0, c)
-	t.Str(1, e.metric)
-	t.Float(2, cs)
-	t.StrOrNull(3, ru)
-	t.Float(4, rus)
-	t.Int32(5, r.folds)
-	if r.demand != nil {
-		t.Str(6, r.demand.Class)
-		t.Float(7, r.demand.ADI)
-		t.Float(8, r.demand.CV2)
-	} else {
-		t.StrOrNull(6, "")
-		t.Float(7, math.NaN())
-		t.Float(8, math.NaN())
-	}
-	t.Str(9, r.reason)
-	return t.EndRow()
-}
-
-// Finish adds what the evaluation decided to series i's final forecasts:
-// the combination entry, the chosen flag, and prediction intervals. e may
-// be nil (no backtest): model-based intervals are still added.
-func (e *Evaluation) Finish(s *spec.Spec, i int, r *forecast.Result) {
-	levels := s.Intervals.Levels
-	var choice seriesChoice
-	if e != nil {
-		choice = e.choices[i]
-		r.Problems = append(choice.problems, r.Problems...)
-		if e.combo != nil && len(choice.members) > 0 {
-			var fcs [][]float64
-			for _, m := range choice.members {
-				for _, f := range r.Forecasts {
-					if f.Label == m {
-						fcs = append(fcs, f.Values)
-					}
-				}
-			}
-			if len(fcs) == len(choice.members) {
-				r.Forecasts = append(r.Forecasts, forecast.Forecast{Label: e.combo.Label,
-					Model:  fmt.Sprintf("combination(%s of %s)", e.combo.Kind, strings.Join(choice.members, ", ")),
-					Values: combineForecasts(e.combo.Kind, fcs)})
-			} else {
-				r.Problems = append(r.Problems, runfolder.Problem{Key: r.Series.Key, Stage: "forecast", Severity: "error", Method: e.combo.Label,
-					Message: "a member of the combination failed on the full history; no combination forecast"})
-			}
-		}
-	}
-	if len(levels) == 0 && e == nil {
-		return
-	}
-	scale := math.NaN()
-	if len(levels) > 0 && r.Series.Skip == "" {
-		sc, _ := engines.PointScores(nil, nil, r.Series.Values, s.Calendar.SeasonLength)
-		scale = sc.MASEScale
-	}
-	for k := range r.Forecasts {
-		f := &r.Forecasts[k]
-		f.Chosen = e != nil && f.Label == choice.chosen
-		if len(levels) > 0 && (e == nil || f.Chosen || s.Intervals.AllMethods) {
-			e.intervals(f, scale, levels, s.Intervals.Source)
-		}
-	}
 }

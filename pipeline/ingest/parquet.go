@@ -44,23 +44,9 @@ func readParquet(s *spec.Spec, f *InputFile, fileIdx int32, cal calendar.Calenda
 	if err != nil {
 		return fmt.Errorf("%s: not a readable Parquet file: %v", f.Path, err)
 	}
-	sch := pf.MetaData().Schema
-	var cols []int
-	var missing []string
-	for _, name := range wantedColumns(s) {
-		i := sch.ColumnIndexByName(name)
-		if i < 0 {
-			missing = append(missing, fmt.Sprintf("%q", name))
-			continue
-		}
-		cols = append(cols, i)
-	}
-	if len(missing) > 0 {
-		present := make([]string, sch.NumColumns())
-		for i := range present {
-			present[i] = sch.Column(i).Name()
-		}
-		return missingColumns(f.Path, missing, present)
+	cols, err := parquetColumns(pf, f.Path, s)
+	if err != nil {
+		return err
 	}
 	rr, err := fr.GetRecordReader(context.Background(), cols, nil)
 	if err != nil {
@@ -124,6 +110,30 @@ func readParquet(s *spec.Spec, f *InputFile, fileIdx int32, cal calendar.Calenda
 		rs.Notes = append(rs.Notes, fmt.Sprintf("%s has no rows", f.Path))
 	}
 	return nil
+}
+
+// parquetColumns finds the spec's columns (time, value, keys) in a Parquet
+// file's schema.
+func parquetColumns(pf *file.Reader, path string, s *spec.Spec) ([]int, error) {
+	sch := pf.MetaData().Schema
+	var cols []int
+	var missing []string
+	for _, name := range wantedColumns(s) {
+		i := sch.ColumnIndexByName(name)
+		if i < 0 {
+			missing = append(missing, fmt.Sprintf("%q", name))
+			continue
+		}
+		cols = append(cols, i)
+	}
+	if len(missing) > 0 {
+		present := make([]string, sch.NumColumns())
+		for i := range present {
+			present[i] = sch.Column(i).Name()
+		}
+		return nil, missingColumns(path, missing, present)
+	}
+	return cols, nil
 }
 
 func parquetPeriods(path, name string, col arrow.Array, cal calendar.Calendar, base int64) ([]int64, []string) {

@@ -263,19 +263,9 @@ func readCSV(s *spec.Spec, f *InputFile, fileIdx int32, src spec.Source, cal cal
 	if src.Delimiter != "" {
 		cr.Comma, _ = utf8.DecodeRuneInString(src.Delimiter)
 	}
-	header, err := cr.Read()
-	if err == io.EOF {
-		return fmt.Errorf("%s: the file is empty; expected a header line naming the columns %s", f.Path, strings.Join(wantedColumns(s), ", "))
-	}
+	header, err := readHeader(cr, f.Path, s)
 	if err != nil {
-		return csvError(f.Path, err)
-	}
-	header = append([]string(nil), header...)
-	if len(header) > 0 {
-		header[0] = strings.TrimPrefix(header[0], "\ufeff")
-	}
-	for i := range header {
-		header[i] = strings.TrimSpace(header[i])
+		return err
 	}
 	idx, err := columnIndexes(f.Path, header, s)
 	if err != nil {
@@ -352,6 +342,26 @@ func readCSV(s *spec.Spec, f *InputFile, fileIdx int32, src spec.Source, cal cal
 		rs.Notes = append(rs.Notes, fmt.Sprintf("%s has a header line but no rows", f.Path))
 	}
 	return nil
+}
+
+// readHeader reads a CSV file's header line, without a byte-order mark and
+// with its names trimmed.
+func readHeader(cr *csv.Reader, path string, s *spec.Spec) ([]string, error) {
+	header, err := cr.Read()
+	if err == io.EOF {
+		return nil, fmt.Errorf("%s: the file is empty; expected a header line naming the columns %s", path, strings.Join(wantedColumns(s), ", "))
+	}
+	if err != nil {
+		return nil, csvError(path, err)
+	}
+	header = append([]string(nil), header...)
+	if len(header) > 0 {
+		header[0] = strings.TrimPrefix(header[0], "\ufeff")
+	}
+	for i := range header {
+		header[i] = strings.TrimSpace(header[i])
+	}
+	return header, nil
 }
 
 func sameFields(a, b []string) bool {

@@ -7,6 +7,7 @@ import (
 	"os"
 )
 
+// HashFile is the hex SHA-256 of a file's bytes.
 func HashFile(path string) (string, error) {
 	fh, err := os.Open(path)
 	if err != nil {

@@ -115,25 +115,9 @@ type CombinedTable struct {
 // inputs), every part file present with its recorded SHA-256 — and writes
 // the combined manifest.json. It reports what it checked to w.
 func Combine(dir string, w io.Writer) (*CombinedManifest, error) {
-	paths, _ := filepath.Glob(filepath.Join(dir, ShardsDir, "shard=*.json"))
-	sort.Strings(paths)
-	if len(paths) == 0 {
-		return nil, fmt.Errorf("%s: no shard manifests in %s; is this a sharded run's dataset folder?", dir, ShardsDir)
-	}
-	var ms []*Manifest
-	for _, p := range paths {
-		b, err := os.ReadFile(p)
-		if err != nil {
-			return nil, err
-		}
-		var m Manifest
-		if err := json.Unmarshal(b, &m); err != nil {
-			return nil, fmt.Errorf("%s: %v", p, err)
-		}
-		if m.Shard == nil {
-			return nil, fmt.Errorf("%s: not a shard manifest", p)
-		}
-		ms = append(ms, &m)
+	paths, ms, err := readShardManifests(dir)
+	if err != nil {
+		return nil, err
 	}
 	count := ms[0].Shard.Count
 	seen := map[int]*Manifest{}
@@ -238,4 +222,30 @@ func ShortHash(h string) string {
 		return h[:16]
 	}
 	return h
+}
+
+// readShardManifests reads the shard manifests of a dataset folder, in
+// shard file order.
+func readShardManifests(dir string) ([]string, []*Manifest, error) {
+	paths, _ := filepath.Glob(filepath.Join(dir, ShardsDir, "shard=*.json"))
+	sort.Strings(paths)
+	if len(paths) == 0 {
+		return nil, nil, fmt.Errorf("%s: no shard manifests in %s; is this a sharded run's dataset folder?", dir, ShardsDir)
+	}
+	var ms []*Manifest
+	for _, p := range paths {
+		b, err := os.ReadFile(p)
+		if err != nil {
+			return nil, nil, err
+		}
+		var m Manifest
+		if err := json.Unmarshal(b, &m); err != nil {
+			return nil, nil, fmt.Errorf("%s: %v", p, err)
+		}
+		if m.Shard == nil {
+			return nil, nil, fmt.Errorf("%s: not a shard manifest", p)
+		}
+		ms = append(ms, &m)
+	}
+	return paths, ms, nil
 }

@@ -15,7 +15,6 @@
 package explain
 
 import (
-	"almanac/spec"
 	"fmt"
 	"io"
 	"math"
@@ -25,6 +24,7 @@ import (
 	"time"
 
 	"almanac/pipeline/runfolder"
+	"almanac/spec"
 )
 
 // Options select what Explain shows.
