@@ -265,85 +265,25 @@ func load(run *runfolder.Run, key []string, opt Options) (*seriesData, error) {
 	}
 
 	if t := tables[runfolder.TableComponents]; t != nil {
-		lo, hi := t.KeyRange(sd.keyCols, key)
-		for i := lo; i < hi; i++ {
-			p, _ := t.Date(runfolder.ColPeriod, i)
-			sd.hist = append(sd.hist, histRow{p, t.Float(runfolder.ColObserved, i), t.Float(runfolder.ColTrend, i), t.Float(runfolder.ColSeasonal, i), t.Float(runfolder.ColRemainder, i), t.Float(runfolder.ColAdjusted, i)})
-			if i == lo {
-				sd.decomp, _ = t.Str(runfolder.ColDecomposition, i)
-				sd.form, _ = t.Str(runfolder.ColForm, i)
-			}
-		}
+		loadComponents(sd, t)
 	}
 	if t := tables[runfolder.TableSeasonalFactors]; t != nil {
-		lo, hi := t.KeyRange(sd.keyCols, key)
-		for i := lo; i < hi; i++ {
-			pos, _ := t.Int(runfolder.ColPosition, i)
-			cnt, _ := t.Int(runfolder.ColCount, i)
-			sd.factors = append(sd.factors, factorRow{pos, t.Float(runfolder.ColFactor, i), cnt})
-			if sd.decomp == "" {
-				sd.decomp, _ = t.Str(runfolder.ColDecomposition, i)
-				sd.form, _ = t.Str(runfolder.ColForm, i)
-			}
-		}
+		loadFactors(sd, t)
 	}
 	if t := tables[runfolder.TableChoices]; t != nil {
-		lo, hi := t.KeyRange(sd.keyCols, key)
-		if hi > lo {
-			c := &choiceRow{}
-			c.chosen, c.hasChosen = t.Str(runfolder.ColChosen, lo)
-			c.metric, _ = t.Str(runfolder.ColMetric, lo)
-			c.score = t.Float(runfolder.ColScore, lo)
-			c.runnerUp, c.hasRunnerUp = t.Str(runfolder.ColRunnerUp, lo)
-			c.runnerUpScore = t.Float(runfolder.ColRunnerUpScore, lo)
-			c.folds, _ = t.Int(runfolder.ColFolds, lo)
-			c.demandClass, c.hasClass = t.Str(runfolder.ColDemandClass, lo)
-			c.adi, c.cv2 = t.Float(runfolder.ColADI, lo), t.Float(runfolder.ColCV2, lo)
-			c.reason, _ = t.Str(runfolder.ColReason, lo)
-			sd.choice = c
-		}
+		loadChoice(sd, t)
 	}
 	if ev.Selection != nil {
 		sd.metric = ev.Selection.Metric
 	}
 	if t := tables[runfolder.TableAccuracy]; t != nil {
-		lo, hi := t.KeyRange(sd.keyCols, key)
-		seen := map[int]bool{}
-		for i := lo; i < hi; i++ {
-			m, _ := t.Str(runfolder.ColMethod, i)
-			f, _ := t.Int(runfolder.ColFold, i)
-			if _, ok := sd.acc[m]; !ok {
-				sd.acc[m] = map[int]accCell{}
-				sd.accOrder = append(sd.accOrder, m)
-			}
-			c := accCell{mase: t.Float(runfolder.ColMASE, i), metric: math.NaN()}
-			c.status, _ = t.Str(runfolder.ColStatus, i)
-			if sd.metric != "" && sd.metric != runfolder.ColMASE && t.Has(sd.metric) {
-				c.metric = t.Float(sd.metric, i)
-			}
-			sd.acc[m][f] = c
-			if !seen[f] {
-				seen[f] = true
-				o, _ := t.Date(runfolder.ColOrigin, i)
-				tp, _ := t.Int(runfolder.ColTrainPeriods, i)
-				te, _ := t.Int(runfolder.ColTestPeriods, i)
-				sd.folds = append(sd.folds, foldInfo{f, o, tp, te})
-			}
-		}
-		sort.Slice(sd.folds, func(a, b int) bool { return sd.folds[a].fold < sd.folds[b].fold })
+		loadAccuracy(sd, t)
 	}
 	if err := loadForecasts(sd, tables[runfolder.TableForecasts]); err != nil {
 		return nil, err
 	}
 	if t := tables[runfolder.TableProblems]; t != nil {
-		for _, i := range t.MatchRows(sd.keyCols, key) {
-			var p problemRow
-			p.stage, _ = t.Str(runfolder.ColStage, i)
-			p.severity, _ = t.Str(runfolder.ColSeverity, i)
-			p.method, _ = t.Str(runfolder.ColMethod, i)
-			p.message, _ = t.Str(runfolder.ColMessage, i)
-			sd.problems = append(sd.problems, p)
-		}
+		loadProblems(sd, t)
 	}
 	for _, t := range tables {
 		if err := t.Err(); err != nil {
@@ -356,6 +296,96 @@ func load(run *runfolder.Run, key []string, opt Options) (*seriesData, error) {
 		}
 	}
 	return sd, nil
+}
+
+// loadComponents reads the series' rows of the components table.
+func loadComponents(sd *seriesData, t *runfolder.Table) {
+	key := sd.key
+	lo, hi := t.KeyRange(sd.keyCols, key)
+	for i := lo; i < hi; i++ {
+		p, _ := t.Date(runfolder.ColPeriod, i)
+		sd.hist = append(sd.hist, histRow{p, t.Float(runfolder.ColObserved, i), t.Float(runfolder.ColTrend, i), t.Float(runfolder.ColSeasonal, i), t.Float(runfolder.ColRemainder, i), t.Float(runfolder.ColAdjusted, i)})
+		if i == lo {
+			sd.decomp, _ = t.Str(runfolder.ColDecomposition, i)
+			sd.form, _ = t.Str(runfolder.ColForm, i)
+		}
+	}
+}
+
+// loadFactors reads the series' rows of the seasonal_factors table.
+func loadFactors(sd *seriesData, t *runfolder.Table) {
+	key := sd.key
+	lo, hi := t.KeyRange(sd.keyCols, key)
+	for i := lo; i < hi; i++ {
+		pos, _ := t.Int(runfolder.ColPosition, i)
+		cnt, _ := t.Int(runfolder.ColCount, i)
+		sd.factors = append(sd.factors, factorRow{pos, t.Float(runfolder.ColFactor, i), cnt})
+		if sd.decomp == "" {
+			sd.decomp, _ = t.Str(runfolder.ColDecomposition, i)
+			sd.form, _ = t.Str(runfolder.ColForm, i)
+		}
+	}
+}
+
+// loadChoice reads the series' row of the choices table.
+func loadChoice(sd *seriesData, t *runfolder.Table) {
+	key := sd.key
+	lo, hi := t.KeyRange(sd.keyCols, key)
+	if hi > lo {
+		c := &choiceRow{}
+		c.chosen, c.hasChosen = t.Str(runfolder.ColChosen, lo)
+		c.metric, _ = t.Str(runfolder.ColMetric, lo)
+		c.score = t.Float(runfolder.ColScore, lo)
+		c.runnerUp, c.hasRunnerUp = t.Str(runfolder.ColRunnerUp, lo)
+		c.runnerUpScore = t.Float(runfolder.ColRunnerUpScore, lo)
+		c.folds, _ = t.Int(runfolder.ColFolds, lo)
+		c.demandClass, c.hasClass = t.Str(runfolder.ColDemandClass, lo)
+		c.adi, c.cv2 = t.Float(runfolder.ColADI, lo), t.Float(runfolder.ColCV2, lo)
+		c.reason, _ = t.Str(runfolder.ColReason, lo)
+		sd.choice = c
+	}
+}
+
+// loadAccuracy reads the series' rows of the accuracy table.
+func loadAccuracy(sd *seriesData, t *runfolder.Table) {
+	key := sd.key
+	lo, hi := t.KeyRange(sd.keyCols, key)
+	seen := map[int]bool{}
+	for i := lo; i < hi; i++ {
+		m, _ := t.Str(runfolder.ColMethod, i)
+		f, _ := t.Int(runfolder.ColFold, i)
+		if _, ok := sd.acc[m]; !ok {
+			sd.acc[m] = map[int]accCell{}
+			sd.accOrder = append(sd.accOrder, m)
+		}
+		c := accCell{mase: t.Float(runfolder.ColMASE, i), metric: math.NaN()}
+		c.status, _ = t.Str(runfolder.ColStatus, i)
+		if sd.metric != "" && sd.metric != runfolder.ColMASE && t.Has(sd.metric) {
+			c.metric = t.Float(sd.metric, i)
+		}
+		sd.acc[m][f] = c
+		if !seen[f] {
+			seen[f] = true
+			o, _ := t.Date(runfolder.ColOrigin, i)
+			tp, _ := t.Int(runfolder.ColTrainPeriods, i)
+			te, _ := t.Int(runfolder.ColTestPeriods, i)
+			sd.folds = append(sd.folds, foldInfo{f, o, tp, te})
+		}
+	}
+	sort.Slice(sd.folds, func(a, b int) bool { return sd.folds[a].fold < sd.folds[b].fold })
+}
+
+// loadProblems reads the series' rows of the problems table.
+func loadProblems(sd *seriesData, t *runfolder.Table) {
+	key := sd.key
+	for _, i := range t.MatchRows(sd.keyCols, key) {
+		var p problemRow
+		p.stage, _ = t.Str(runfolder.ColStage, i)
+		p.severity, _ = t.Str(runfolder.ColSeverity, i)
+		p.method, _ = t.Str(runfolder.ColMethod, i)
+		p.message, _ = t.Str(runfolder.ColMessage, i)
+		sd.problems = append(sd.problems, p)
+	}
 }
 
 func loadForecasts(sd *seriesData, t *runfolder.Table) error {

@@ -171,38 +171,8 @@ func load(runDir string, opt Options) (*model, error) {
 			return nil, fmt.Errorf("%s: canonical spec: %v", runDir, err)
 		}
 	}
-	if opt.Method != "" && !r.HasTable(runfolder.TableChoices) {
-		known := false
-		for _, me := range r.Manifest.Methods {
-			known = known || me.Label == opt.Method
-		}
-		if !known {
-			m.methodNote = fmt.Sprintf("The method %q asked for is not one of this run's methods; the charts show the spec's first method instead.", opt.Method)
-			m.opt.Method = ""
-		}
-	}
-	if r.HasTable(runfolder.TableProblems) {
-		if m.problems, err = readProblems(r, m.keys); err != nil {
-			return nil, err
-		}
-	}
-	if r.HasTable(runfolder.TableChoices) {
-		if m.choices, err = readChoices(r, m.keys); err != nil {
-			return nil, err
-		}
-		if len(m.choices) > 0 {
-			m.metric = m.choices[0].metric
-		}
-	}
-	if m.metric == "" && m.specX.Selection != nil {
-		m.metric = m.specX.Selection.Metric
-	}
-	if r.HasTable(runfolder.TableForecasts) {
-		cols, err := r.Columns(runfolder.TableForecasts)
-		if err != nil {
-			return nil, err
-		}
-		m.levels = intervalLevels(cols)
+	if err := m.readSummary(); err != nil {
+		return nil, err
 	}
 
 	n := opt.Picks
@@ -280,6 +250,47 @@ func load(runDir string, opt Options) (*model, error) {
 	}
 	m.series = kept
 	return m, nil
+}
+
+// readSummary reads what the page's summary needs: the problems, the
+// choices and metric, and the interval levels of the forecasts table.
+func (m *model) readSummary() error {
+	r := m.run
+	var err error
+	if m.opt.Method != "" && !r.HasTable(runfolder.TableChoices) {
+		known := false
+		for _, me := range r.Manifest.Methods {
+			known = known || me.Label == m.opt.Method
+		}
+		if !known {
+			m.methodNote = fmt.Sprintf("The method %q asked for is not one of this run's methods; the charts show the spec's first method instead.", m.opt.Method)
+			m.opt.Method = ""
+		}
+	}
+	if r.HasTable(runfolder.TableProblems) {
+		if m.problems, err = readProblems(r, m.keys); err != nil {
+			return err
+		}
+	}
+	if r.HasTable(runfolder.TableChoices) {
+		if m.choices, err = readChoices(r, m.keys); err != nil {
+			return err
+		}
+		if len(m.choices) > 0 {
+			m.metric = m.choices[0].metric
+		}
+	}
+	if m.metric == "" && m.specX.Selection != nil {
+		m.metric = m.specX.Selection.Metric
+	}
+	if r.HasTable(runfolder.TableForecasts) {
+		cols, err := r.Columns(runfolder.TableForecasts)
+		if err != nil {
+			return err
+		}
+		m.levels = intervalLevels(cols)
+	}
+	return nil
 }
 
 // intervalLevels lists L for each lower_L column that has its upper_L.
