@@ -107,12 +107,7 @@ func factorChart(id string, d *seriesData, freq string, season int) string {
 	if d.form == "multiplicative" {
 		neutral = 1
 	}
-	lo, hi := neutral, neutral
-	for _, f := range fs {
-		if !math.IsNaN(f.value) {
-			lo, hi = math.Min(lo, f.value), math.Max(hi, f.value)
-		}
-	}
+	lo, hi := factorRange(fs, neutral)
 	const (
 		W      = 1000.0
 		x0, x1 = 78.0, 980.0
@@ -141,22 +136,11 @@ func factorChart(id string, d *seriesData, freq string, season int) string {
 		H = 222
 	}
 
-	var maxF, minF factor
-	maxF.value, minF.value = math.Inf(-1), math.Inf(1)
-	for _, f := range fs {
-		if f.value > maxF.value {
-			maxF = f
-		}
-		if f.value < minF.value {
-			minF = f
-		}
-	}
 	kind := "factor"
 	if neutral == 0 {
 		kind = "component"
 	}
-	desc := fmt.Sprintf("%d %s seasonal %ss (%s), neutral value %s. Highest at position %d (%s), lowest at position %d (%s).",
-		len(fs), d.form, kind, d.decomp, fmtNum(neutral, 0), maxF.position, fmtAuto(maxF.value), minF.position, fmtAuto(minF.value))
+	desc := factorDescription(d, fs, neutral, kind)
 	s := newSVG(id, "chart factor-chart", W, H, displayKey(d.key)+": seasonal "+kind+"s by season position", desc)
 	s.text(x0, 16, "start", "head", fmt.Sprintf("Seasonal %ss (%s, %s), by season position", kind, d.decomp, d.form))
 	for _, t := range yt {
@@ -207,4 +191,31 @@ func factorChart(id string, d *seriesData, freq string, season int) string {
 	}
 	s.text((x0+x1)/2, H-8, "middle", "axis", axis)
 	return s.String()
+}
+
+// factorDescription is the factor chart's text alternative.
+func factorDescription(d *seriesData, fs []factor, neutral float64, kind string) string {
+	var maxF, minF factor
+	maxF.value, minF.value = math.Inf(-1), math.Inf(1)
+	for _, f := range fs {
+		if f.value > maxF.value {
+			maxF = f
+		}
+		if f.value < minF.value {
+			minF = f
+		}
+	}
+	return fmt.Sprintf("%d %s seasonal %ss (%s), neutral value %s. Highest at position %d (%s), lowest at position %d (%s).",
+		len(fs), d.form, kind, d.decomp, fmtNum(neutral, 0), maxF.position, fmtAuto(maxF.value), minF.position, fmtAuto(minF.value))
+}
+
+// factorRange is the range of the factors and the neutral value.
+func factorRange(fs []factor, neutral float64) (lo, hi float64) {
+	lo, hi = neutral, neutral
+	for _, f := range fs {
+		if !math.IsNaN(f.value) {
+			lo, hi = math.Min(lo, f.value), math.Max(hi, f.value)
+		}
+	}
+	return lo, hi
 }

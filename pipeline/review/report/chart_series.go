@@ -76,46 +76,8 @@ func seriesChart(id string, d *seriesData, levels []int, freq string, maxHist in
 	pad := periodDays(freq) / 2
 	xs := linear{days(tmin) - pad, days(tmax) + pad, x0, x1}
 
-	var desc strings.Builder
-	obsN, obsLo, obsHi := 0, math.Inf(1), math.Inf(-1)
-	for _, v := range d.observed {
-		if !math.IsNaN(v) {
-			obsN++
-			obsLo, obsHi = math.Min(obsLo, v), math.Max(obsHi, v)
-		}
-	}
-	if len(d.periods) < allPeriods {
-		fmt.Fprintf(&desc, "The last %d of %d periods of history are drawn. ", len(d.periods), allPeriods)
-	}
-	if len(d.periods) > 0 {
-		fmt.Fprintf(&desc, "History: %d periods from %s to %s, %d observed values from %s to %s. ",
-			len(d.periods), isoDate(d.periods[0]), isoDate(d.periods[len(d.periods)-1]), obsN, fmtAuto(obsLo), fmtAuto(obsHi))
-	} else {
-		desc.WriteString("No history in the components table. ")
-	}
-	if len(d.forecast) > 0 {
-		fv := make([]float64, 0, len(d.forecast))
-		for _, p := range d.forecast {
-			if !math.IsNaN(p.value) {
-				fv = append(fv, p.value)
-			}
-		}
-		fmt.Fprintf(&desc, "Forecast by %s: %d periods from %s to %s", d.method, len(d.forecast), isoDate(d.forecast[0].period), isoDate(d.forecast[len(d.forecast)-1].period))
-		if len(fv) > 0 {
-			sort.Float64s(fv)
-			fmt.Fprintf(&desc, ", values from %s to %s", fmtAuto(fv[0]), fmtAuto(fv[len(fv)-1]))
-		}
-		desc.WriteString(". ")
-		if lv := drawnLevels(d, levels); len(lv) > 0 {
-			fmt.Fprintf(&desc, "Shaded: the %s interval%s. ", joinLevels(lv), map[bool]string{true: "s", false: ""}[len(lv) > 1])
-		}
-	} else {
-		desc.WriteString("No forecast. ")
-	}
-	if len(d.previous) > 0 {
-		fmt.Fprintf(&desc, "Dotted grey: the previous run's forecast by %s. ", d.prevWhat)
-	}
-	s := newSVG(id, "chart series-chart", W, H, name+": history and forecast", strings.TrimSpace(desc.String()))
+	desc := seriesDescription(d, levels, allPeriods)
+	s := newSVG(id, "chart series-chart", W, H, name+": history and forecast", desc)
 
 	// grid and axes
 	for _, t := range yt {
@@ -139,46 +101,61 @@ func seriesChart(id string, d *seriesData, levels []int, freq string, maxHist in
 	// forecast bands, widest first
 	lv := drawnLevels(d, levels)
 	if len(d.forecast) > 0 {
-		fx := make([]float64, len(d.forecast))
-		for i, p := range d.forecast {
-			fx[i] = xs.at(days(p.period))
-		}
-		drawnSet := map[int]bool{}
-		for _, l := range lv {
-			drawnSet[l] = true
-		}
-		order := make([]int, 0, len(levels))
-		for j := range levels {
-			if drawnSet[levels[j]] {
-				order = append(order, j)
-			}
-		}
-		sort.Slice(order, func(a, b int) bool { return levels[order[a]] > levels[order[b]] })
-		for rank, j := range order {
-			lo := make([]float64, len(d.forecast))
-			up := make([]float64, len(d.forecast))
-			for i, p := range d.forecast {
-				lo[i], up[i] = ys.at(p.lower[j]), ys.at(p.upper[j])
-				if math.IsNaN(p.lower[j]) || math.IsNaN(p.upper[j]) {
-					lo[i], up[i] = math.NaN(), math.NaN()
-				}
-			}
-			if path := bandOf(fx, lo, up); path != "" {
-				op := 0.14 + 0.14*float64(rank)
-				s.raw(`<path d="%s" fill="%s" fill-opacity="%.2f" stroke="none"><title>%d%% interval</title></path>`, path, colForecast, op, levels[j])
-			}
-		}
-		// where the forecast starts
-		fs := xs.at(days(d.forecast[0].period)) - (xs.at(days(d.forecast[0].period))-xs.at(days(d.forecast[0].period)-periodDays(freq)))/2
-		s.line(fs, y1-6, fs, y0, colAxis, 1, "3 3")
-		label := "forecast from " + isoDate(d.forecast[0].period)
-		if fs+4+float64(textWidth(label, 12)) > W-4 {
-			s.text(fs-4, y1-8, "end", "small", label)
-		} else {
-			s.text(fs+4, y1-8, "start", "small", label)
-		}
+		drawBands(s, d, levels, lv, xs, ys, freq, W, y0, y1)
 	}
 
+	drawLines(s, d, xs, ys, tmin)
+
+	seriesLegend(s, d, lv, x0)
+	return s.String()
+}
+
+// drawBands draws the forecast's interval bands, widest first, and marks
+// where the forecast starts.
+func drawBands(s *svg, d *seriesData, levels, lv []int, xs, ys linear, freq string, w, y0, y1 float64) {
+	fx := make([]float64, len(d.forecast))
+	for i, p := range d.forecast {
+		fx[i] = xs.at(days(p.period))
+	}
+	drawnSet := map[int]bool{}
+	for _, l := range lv {
+		drawnSet[l] = true
+	}
+	order := make([]int, 0, len(levels))
+	for j := range levels {
+		if drawnSet[levels[j]] {
+			order = append(order, j)
+		}
+	}
+	sort.Slice(order, func(a, b int) bool { return levels[order[a]] > levels[order[b]] })
+	for rank, j := range order {
+		lo := make([]float64, len(d.forecast))
+		up := make([]float64, len(d.forecast))
+		for i, p := range d.forecast {
+			lo[i], up[i] = ys.at(p.lower[j]), ys.at(p.upper[j])
+			if math.IsNaN(p.lower[j]) || math.IsNaN(p.upper[j]) {
+				lo[i], up[i] = math.NaN(), math.NaN()
+			}
+		}
+		if path := bandOf(fx, lo, up); path != "" {
+			op := 0.14 + 0.14*float64(rank)
+			s.raw(`<path d="%s" fill="%s" fill-opacity="%.2f" stroke="none"><title>%d%% interval</title></path>`, path, colForecast, op, levels[j])
+		}
+	}
+	// where the forecast starts
+	fs := xs.at(days(d.forecast[0].period)) - (xs.at(days(d.forecast[0].period))-xs.at(days(d.forecast[0].period)-periodDays(freq)))/2
+	s.line(fs, y1-6, fs, y0, colAxis, 1, "3 3")
+	label := "forecast from " + isoDate(d.forecast[0].period)
+	if fs+4+float64(textWidth(label, 12)) > w-4 {
+		s.text(fs-4, y1-8, "end", "small", label)
+	} else {
+		s.text(fs+4, y1-8, "start", "small", label)
+	}
+}
+
+// drawLines draws the history (observed and trend), the previous run's
+// forecast from tmin on, and the forecast with its points.
+func drawLines(s *svg, d *seriesData, xs, ys linear, tmin time.Time) {
 	if len(d.periods) > 0 {
 		px := make([]float64, len(d.periods))
 		py := make([]float64, len(d.periods))
@@ -226,8 +203,56 @@ func seriesChart(id string, d *seriesData, levels []int, freq string, maxHist in
 			}
 		}
 	}
+}
 
-	// legend, one row above the plot
+// seriesDescription is the chart's text alternative: what is drawn, from
+// when to when, in which range.
+func seriesDescription(d *seriesData, levels []int, allPeriods int) string {
+	var desc strings.Builder
+	obsN, obsLo, obsHi := 0, math.Inf(1), math.Inf(-1)
+	for _, v := range d.observed {
+		if !math.IsNaN(v) {
+			obsN++
+			obsLo, obsHi = math.Min(obsLo, v), math.Max(obsHi, v)
+		}
+	}
+	if len(d.periods) < allPeriods {
+		fmt.Fprintf(&desc, "The last %d of %d periods of history are drawn. ", len(d.periods), allPeriods)
+	}
+	if len(d.periods) > 0 {
+		fmt.Fprintf(&desc, "History: %d periods from %s to %s, %d observed values from %s to %s. ",
+			len(d.periods), isoDate(d.periods[0]), isoDate(d.periods[len(d.periods)-1]), obsN, fmtAuto(obsLo), fmtAuto(obsHi))
+	} else {
+		desc.WriteString("No history in the components table. ")
+	}
+	if len(d.forecast) > 0 {
+		fv := make([]float64, 0, len(d.forecast))
+		for _, p := range d.forecast {
+			if !math.IsNaN(p.value) {
+				fv = append(fv, p.value)
+			}
+		}
+		fmt.Fprintf(&desc, "Forecast by %s: %d periods from %s to %s", d.method, len(d.forecast), isoDate(d.forecast[0].period), isoDate(d.forecast[len(d.forecast)-1].period))
+		if len(fv) > 0 {
+			sort.Float64s(fv)
+			fmt.Fprintf(&desc, ", values from %s to %s", fmtAuto(fv[0]), fmtAuto(fv[len(fv)-1]))
+		}
+		desc.WriteString(". ")
+		if lv := drawnLevels(d, levels); len(lv) > 0 {
+			fmt.Fprintf(&desc, "Shaded: the %s interval%s. ", joinLevels(lv), map[bool]string{true: "s", false: ""}[len(lv) > 1])
+		}
+	} else {
+		desc.WriteString("No forecast. ")
+	}
+	if len(d.previous) > 0 {
+		fmt.Fprintf(&desc, "Dotted grey: the previous run's forecast by %s. ", d.prevWhat)
+	}
+	return strings.TrimSpace(desc.String())
+}
+
+// seriesLegend draws the legend of a series chart, one row above the plot
+// from x0.
+func seriesLegend(s *svg, d *seriesData, lv []int, x0 float64) {
 	lx := x0
 	item := func(draw func(x float64), label string) {
 		draw(lx)
@@ -261,7 +286,6 @@ func seriesChart(id string, d *seriesData, levels []int, freq string, maxHist in
 	if len(d.previous) > 0 {
 		item(func(x float64) { s.line(x, 16, x+24, 16, colPrevious, 2, "2 3") }, "previous run: "+d.prevWhat)
 	}
-	return s.String()
 }
 
 func scaleOrNaN(s linear, v float64) float64 {

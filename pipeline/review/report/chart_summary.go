@@ -52,16 +52,7 @@ func leaderboardChart(id string, entries []lbEntry) string {
 	cticks, cstep := countTicks(float64(maxC), 4)
 	cs := linear{0, cticks[len(cticks)-1], bx0, bx1}
 
-	var desc strings.Builder
-	desc.WriteString("Entries from lowest to highest mean MASE over the series scored: ")
-	for i, e := range es {
-		if i > 0 {
-			desc.WriteString("; ")
-		}
-		fmt.Fprintf(&desc, "%s mean %s, median %s, chosen for %d series", e.label, fmtNum(e.mean, 3), fmtNum(e.median, 3), e.chosen)
-	}
-	desc.WriteString(".")
-	s := newSVG(id, "chart leaderboard-chart", 1000, h, "Backtest MASE per entry, and the series each was chosen for", desc.String())
+	s := newSVG(id, "chart leaderboard-chart", 1000, h, "Backtest MASE per entry, and the series each was chosen for", leaderboardDescription(es))
 	bottom := top + rowH*float64(len(es))
 
 	s.text(ax0, 18, "start", "head", "Mean MASE over series (bar) and median (black tick)")
@@ -123,6 +114,20 @@ func leaderboardChart(id string, entries []lbEntry) string {
 	return s.String()
 }
 
+// leaderboardDescription is the leaderboard chart's text alternative.
+func leaderboardDescription(es []lbEntry) string {
+	var desc strings.Builder
+	desc.WriteString("Entries from lowest to highest mean MASE over the series scored: ")
+	for i, e := range es {
+		if i > 0 {
+			desc.WriteString("; ")
+		}
+		fmt.Fprintf(&desc, "%s mean %s, median %s, chosen for %d series", e.label, fmtNum(e.mean, 3), fmtNum(e.median, 3), e.chosen)
+	}
+	desc.WriteString(".")
+	return desc.String()
+}
+
 func boolClass(b bool, c string) string {
 	if b {
 		return c
@@ -136,44 +141,8 @@ func histogramChart(id, metric string, scores []float64) string {
 	sort.Float64s(v)
 	n := len(v)
 	med := median(v)
-	lo, hi := v[0], v[n-1]
-	if lo > 0 {
-		lo = 0
-	}
-	// A few very bad series would squeeze the rest into one bar: past
-	// three times the 95th percentile, values share an overflow bin.
-	overAt := math.Inf(1)
-	if n >= 10 {
-		q95 := v[int(math.Ceil(0.95*float64(n)))-1]
-		if q95 > 0 && hi > 3*q95 {
-			overAt = q95 * 1.5
-		}
-	}
-	top := hi
-	if !math.IsInf(overAt, 1) {
-		top = overAt
-	}
-	bins := int(math.Round(math.Sqrt(float64(n)) * 2))
-	bins = max(8, min(bins, 40))
-	step := closestStep(top-lo, bins)
-	start := math.Floor(lo/step) * step
-	nb := int(math.Ceil((top-start)/step + 1e-9))
-	if nb < 1 {
-		nb = 1
-	}
-	if top == start+float64(nb)*step && math.IsInf(overAt, 1) {
-		nb++ // the maximum itself needs a bin
-	}
-	counts := make([]int, nb)
-	over := 0
-	for _, x := range v {
-		if x >= start+float64(nb)*step {
-			over++
-			continue
-		}
-		i := int(math.Floor((x - start) / step))
-		counts[max(0, min(i, nb-1))]++
-	}
+	start, step, counts, over := binScores(v)
+	nb := len(counts)
 	total := nb
 	if over > 0 {
 		total++
@@ -241,6 +210,50 @@ func histogramChart(id, metric string, scores []float64) string {
 	s.line(x0, y0, x1, y0, colAxis, 1, "")
 	s.text((x0+x1)/2, 292, "middle", "axis", fmt.Sprintf("%s of the chosen entry, mean over the backtest folds (lower is better)", strings.ToUpper(metric)))
 	return s.String()
+}
+
+// binScores bins sorted scores for the histogram: bins of width step from
+// start, and how many scores fall past the last bin into the overflow bin.
+func binScores(v []float64) (start, step float64, counts []int, over int) {
+	n := len(v)
+	lo, hi := v[0], v[n-1]
+	if lo > 0 {
+		lo = 0
+	}
+	// A few very bad series would squeeze the rest into one bar: past
+	// three times the 95th percentile, values share an overflow bin.
+	overAt := math.Inf(1)
+	if n >= 10 {
+		q95 := v[int(math.Ceil(0.95*float64(n)))-1]
+		if q95 > 0 && hi > 3*q95 {
+			overAt = q95 * 1.5
+		}
+	}
+	top := hi
+	if !math.IsInf(overAt, 1) {
+		top = overAt
+	}
+	bins := int(math.Round(math.Sqrt(float64(n)) * 2))
+	bins = max(8, min(bins, 40))
+	step = closestStep(top-lo, bins)
+	start = math.Floor(lo/step) * step
+	nb := int(math.Ceil((top-start)/step + 1e-9))
+	if nb < 1 {
+		nb = 1
+	}
+	if top == start+float64(nb)*step && math.IsInf(overAt, 1) {
+		nb++ // the maximum itself needs a bin
+	}
+	counts = make([]int, nb)
+	for _, x := range v {
+		if x >= start+float64(nb)*step {
+			over++
+			continue
+		}
+		i := int(math.Floor((x - start) / step))
+		counts[max(0, min(i, nb-1))]++
+	}
+	return start, step, counts, over
 }
 
 func median(sorted []float64) float64 {

@@ -283,6 +283,14 @@ func (m *model) renderSummary(p *page) {
 	}
 	p.f("</dl>\n")
 
+	m.renderInputs(p)
+	m.renderProblemCounts(p)
+	p.f("</section>\n")
+}
+
+// renderInputs writes the table of the run's inputs.
+func (m *model) renderInputs(p *page) {
+	man := &m.run.Manifest
 	if len(man.Inputs) > 0 {
 		p.f("<table class=\"inputs\">\n<caption class=\"note\" style=\"text-align:left\">Inputs</caption>\n<thead><tr><th>path</th><th>format</th><th class=\"num\">rows</th><th class=\"num\">size</th><th>SHA-256</th></tr></thead>\n<tbody>\n")
 		for _, in := range man.Inputs {
@@ -291,7 +299,10 @@ func (m *model) renderSummary(p *page) {
 		}
 		p.f("</tbody>\n</table>\n")
 	}
+}
 
+// renderProblemCounts writes the problems counted by severity and stage.
+func (m *model) renderProblemCounts(p *page) {
 	// problems by severity, and by stage
 	sev := map[string]int{}
 	byStage := map[string]map[string]int{}
@@ -331,7 +342,6 @@ func (m *model) renderSummary(p *page) {
 		}
 		p.f("</tbody>\n</table>\n")
 	}
-	p.f("</section>\n")
 }
 
 func plural(n int, word string) string {
