@@ -143,7 +143,7 @@ func TrimName(msg, name string) string {
 func safeDecompose(d engines.Decomposer, y []float64, m int) (out *engines.Decomposition, err error) {
 	defer func() {
 		if p := recover(); p != nil {
-			out, err = nil, PanicError(p)
+			out, err = nil, panicError(p)
 		}
 	}()
 	return d.Decompose(y, m)
@@ -168,7 +168,7 @@ type forecastVariancer interface {
 func SafeForecast(m engines.Method, y []float64, season, h int, wantVariance bool) (res Output, err error) {
 	defer func() {
 		if p := recover(); p != nil {
-			res, err = Output{}, PanicError(p)
+			res, err = Output{}, panicError(p)
 		}
 	}()
 	fitted, err := m.Fit(y, season)
@@ -194,8 +194,8 @@ func SafeForecast(m engines.Method, y []float64, season, h int, wantVariance boo
 	return res, nil
 }
 
-// PanicError turns a recovered panic into the error of one series and method.
-func PanicError(p any) error {
+// panicError turns a recovered panic into the error of one series and method.
+func panicError(p any) error {
 	stack := string(debug.Stack())
 	// Keep the first frame inside almanac to help a bug report.
 	frame := ""
@@ -222,7 +222,7 @@ func PanicError(p any) error {
 func SafeFit(m engines.Method, y []float64, season int) (f engines.Fitted, err error) {
 	defer func() {
 		if p := recover(); p != nil {
-			f, err = nil, PanicError(p)
+			f, err = nil, panicError(p)
 		}
 	}()
 	return m.Fit(y, season)

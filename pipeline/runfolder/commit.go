@@ -93,10 +93,10 @@ func CommitStaging(staging, target string) error {
 	if err := os.WriteFile(filepath.Join(staging, MarkerFile), []byte(markerText), 0o644); err != nil {
 		return err
 	}
-	if err := FsyncPath(filepath.Join(staging, MarkerFile)); err != nil {
+	if err := fsyncPath(filepath.Join(staging, MarkerFile)); err != nil {
 		return err
 	}
-	if err := FsyncPath(staging); err != nil {
+	if err := fsyncPath(staging); err != nil {
 		return err
 	}
 	parent := filepath.Dir(target)
@@ -104,11 +104,11 @@ func CommitStaging(staging, target string) error {
 		if err := os.Rename(staging, target); err != nil {
 			return err
 		}
-		return FsyncPath(parent)
+		return fsyncPath(parent)
 	}
 	if err := unix.Renameat2(unix.AT_FDCWD, staging, unix.AT_FDCWD, target, unix.RENAME_EXCHANGE); err == nil {
 		// staging now holds the previous run.
-		FsyncPath(parent)
+		fsyncPath(parent)
 		return os.RemoveAll(staging)
 	}
 	old := staging + ".old"
@@ -119,6 +119,6 @@ func CommitStaging(staging, target string) error {
 		os.Rename(old, target)
 		return err
 	}
-	FsyncPath(parent)
+	fsyncPath(parent)
 	return os.RemoveAll(old)
 }

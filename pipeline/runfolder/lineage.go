@@ -118,5 +118,5 @@ func WriteLineage(path string, m *Manifest, target string) error {
 	if err := os.WriteFile(path, append(b, '\n'), 0o644); err != nil {
 		return err
 	}
-	return FsyncPath(path)
+	return fsyncPath(path)
 }

@@ -92,7 +92,7 @@ func WriteManifest(path string, m *Manifest) error {
 	if err := os.WriteFile(path, b, 0o644); err != nil {
 		return err
 	}
-	return FsyncPath(path)
+	return fsyncPath(path)
 }
 
 // ReadManifest reads a run folder's manifest.json.

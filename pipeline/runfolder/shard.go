@@ -70,12 +70,12 @@ func CommitShard(staging, target string, index int, tables []string) error {
 		if err := os.Rename(filepath.Join(staging, t+".parquet"), filepath.Join(dir, "part.parquet")); err != nil {
 			return err
 		}
-		FsyncPath(dir)
+		fsyncPath(dir)
 	}
 	if err := os.Rename(filepath.Join(staging, ManifestFile), manifest); err != nil {
 		return err
 	}
-	FsyncPath(filepath.Join(target, ShardsDir))
+	fsyncPath(filepath.Join(target, ShardsDir))
 	return os.RemoveAll(staging)
 }
 

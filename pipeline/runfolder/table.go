@@ -227,7 +227,7 @@ func (t *TableWriter) Close() error {
 	t.rb.Release()
 	// pqarrow's Close closes the underlying file; reopen to fsync.
 	if err == nil {
-		err = FsyncPath(t.path)
+		err = fsyncPath(t.path)
 	}
 	return err
 }
@@ -241,7 +241,7 @@ func (t *TableWriter) Abort() {
 	}
 }
 
-func FsyncPath(path string) error {
+func fsyncPath(path string) error {
 	f, err := os.Open(path)
 	if err != nil {
 		return err
