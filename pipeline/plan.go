@@ -162,7 +162,15 @@ func (p *Plan) Stages() []Stage {
 		sel := s.Selection
 		d := fmt.Sprintf("lowest mean %s per series; fallback %s", sel.Metric, sel.Fallback)
 		if c := sel.Combine; c != nil {
-			d += fmt.Sprintf("; entry %q: %s of the top %d", c.Label, c.Kind, c.Top)
+			kind := c.Kind
+			if kind == spec.CombineWeighted {
+				kind = "mean weighted by 1/" + sel.Metric
+			}
+			d += fmt.Sprintf("; entry %q: %s of the top %d", c.Label, kind, c.Top)
+			if sel.Choose == spec.ChooseCombination {
+				d = fmt.Sprintf("%q for every series: %s of the top %d by mean %s (equal weights without a fold); fallback %s",
+					c.Label, kind, c.Top, sel.Metric, sel.Fallback)
+			}
 		}
 		for _, k := range sortedKeysAny(anyMap(sel.Route)) {
 			d += fmt.Sprintf("; %s series: %s", k, strings.Join(sel.Route[k], ", "))
@@ -170,6 +178,10 @@ func (p *Plan) Stages() []Stage {
 		out = append(out, Stage{Name: "select", Detail: d, Tables: []string{runfolder.TableChoices}})
 	}
 	fc := Stage{Name: "forecast", Detail: fmt.Sprintf("%d step(s) ahead with %d method(s)", s.Horizon, len(s.Methods)), Tables: []string{runfolder.TableForecasts}}
+	if s.Automatic {
+		fc.Detail += " — almanac's default pool (the spec names no methods)"
+	}
+	fc.Detail += "; below-zero forecasts of strictly positive series floored at 0"
 	for _, m := range s.Methods {
 		label := m.Label
 		if label != m.Method {

@@ -30,6 +30,7 @@ type Evaluation struct {
 	bt      spec.Backtest
 	metric  string
 	combo   *spec.Combination
+	choose  string   // spec.ChooseBest or spec.ChooseCombination
 	labels  []string // method labels in spec order, then the combination's
 	levels  []int
 	source  string // empirical | model
@@ -56,6 +57,7 @@ type seriesChoice struct {
 	chosen   string              // label, "" for a series with no usable history
 	fallback bool                // chosen is the fallback: no entry could be scored
 	members  []string            // the combination's methods for this series
+	weights  []float64           // their weights (kind weighted), summing to 1; nil: equal
 	problems []runfolder.Problem // the backtest's problems rows, written with the series
 }
 
@@ -64,7 +66,7 @@ func New(s *spec.Spec, n int) *Evaluation {
 	if s.Backtest.Folds == 0 {
 		return nil
 	}
-	e := &Evaluation{bt: s.Backtest, metric: s.Selection.Metric, combo: s.Selection.Combine,
+	e := &Evaluation{bt: s.Backtest, metric: s.Selection.Metric, combo: s.Selection.Combine, choose: s.Selection.Choose,
 		levels: s.Intervals.Levels, source: s.Intervals.Source, allMeth: s.Intervals.AllMethods,
 		choices: make([]seriesChoice, n), errs: map[string][]*errorHistogram{},
 		mase: map[string][]float64{}, wins: map[string]int{}, fallback: s.Selection.Fallback, route: s.Selection.Route}
@@ -154,6 +156,9 @@ func (e *Evaluation) Backtest(w *forecast.Work, s *series.Series) *Backtest {
 	}
 	if len(folds) == 0 {
 		r.reason = fmt.Sprintf("history too short for any backtest fold; fell back to %s", w.Spec.Selection.Fallback)
+		if e.combinationAlways() {
+			r.reason = fmt.Sprintf("history too short for any backtest fold; the combination %s of every method with equal weights", e.combo.Label)
+		}
 		return r
 	}
 	for _, mr := range w.Methods {
@@ -213,7 +218,25 @@ func (e *Evaluation) Backtest(w *forecast.Work, s *series.Series) *Backtest {
 	} else {
 		r.reason = fmt.Sprintf("the only entry scored on %d fold(s)", len(folds))
 	}
+	if last := len(r.entries) - 1; e.combinationAlways() && !math.IsNaN(r.entries[last].score) {
+		// choose: combination — the combination for every series where
+		// it could be scored; the runner-up is the best other entry.
+		r.chosen, r.runnerUp = last, -1
+		for _, i := range order {
+			if i != last {
+				r.runnerUp = i
+				break
+			}
+		}
+		r.reason = fmt.Sprintf("the combination, for every series (choose: combination); mean %s over %d fold(s)", e.metric, len(folds))
+	}
 	return r
+}
+
+// combinationAlways reports whether the spec chooses its combination for
+// every series (selection.choose: combination).
+func (e *Evaluation) combinationAlways() bool {
+	return e.choose == spec.ChooseCombination && e.combo != nil
 }
 
 // backtestMethod runs one method on every fold of y.
@@ -307,12 +330,13 @@ func (e *Evaluation) combination(entries []entryBacktest, y []float64, m int, fo
 		eb.score, eb.mase = math.NaN(), math.NaN()
 		return eb
 	}
+	weights := e.memberWeights(entries, members)
 	for fi, f := range folds {
 		fcs := make([][]float64, len(members))
 		for j, mi := range members {
 			fcs[j] = entries[mi].folds[fi].fc
 		}
-		fc := combineForecasts(e.combo.Kind, fcs)
+		fc := combineForecasts(e.combo.Kind, fcs, weights)
 		train := y[f.TrainStart:f.TrainEnd:f.TrainEnd]
 		test := y[f.TrainEnd:f.TestEnd]
 		sc, _ := engines.PointScores(test, fc[:len(test)], train, m)
@@ -322,14 +346,60 @@ func (e *Evaluation) combination(entries []entryBacktest, y []float64, m int, fo
 	return eb
 }
 
-// combineForecasts is the step-by-step mean or median of several forecasts.
-func combineForecasts(kind string, fcs [][]float64) []float64 {
+// memberWeights returns the weights of a weighted combination of the given
+// members: w_i ∝ 1 / (member i's mean backtest score on the selection
+// metric), summing to 1. Members with a score of 0 share all the weight
+// (the limit of the rule). Nil for the other kinds, and for a weighted
+// combination without scores (equal weights).
+func (e *Evaluation) memberWeights(entries []entryBacktest, members []int) []float64 {
+	if e.combo.Kind != spec.CombineWeighted || len(members) == 0 {
+		return nil
+	}
+	w := make([]float64, len(members))
+	zeros := 0
+	for _, mi := range members {
+		sc := entries[mi].score
+		if math.IsNaN(sc) || math.IsInf(sc, 0) || sc < 0 {
+			return nil
+		}
+		if sc == 0 {
+			zeros++
+		}
+	}
+	total := 0.0
+	for j, mi := range members {
+		sc := entries[mi].score
+		switch {
+		case zeros > 0 && sc == 0:
+			w[j] = 1
+		case zeros == 0:
+			w[j] = 1 / sc
+		}
+		total += w[j]
+	}
+	for j := range w {
+		w[j] /= total
+	}
+	return w
+}
+
+// combineForecasts is the step-by-step mean, median or weighted mean (when
+// weights is not nil; weights sum to 1) of several forecasts.
+func combineForecasts(kind string, fcs [][]float64, weights []float64) []float64 {
 	h := len(fcs[0])
 	out := make([]float64, h)
 	col := make([]float64, len(fcs))
 	for s := 0; s < h; s++ {
 		for j := range fcs {
 			col[j] = fcs[j][s]
+		}
+		if weights != nil {
+			sum := 0.0
+			for j, v := range col {
+				sum += weights[j] * v
+			}
+			out[s] = sum
+			continue
 		}
 		if kind == "median" {
 			sort.Float64s(col)
@@ -358,13 +428,22 @@ func (e *Evaluation) Record(i int, r *Backtest) {
 		c.chosen = r.entries[r.chosen].label
 		e.wins[c.chosen]++
 	} else if c.chosen = e.choiceFor(r); c.chosen != "" {
-		c.fallback = true
-		e.fallbacks++
+		if e.combinationAlways() && len(r.entries) == 0 {
+			// No backtest fold: the combination of every method, with
+			// equal weights.
+			c.members = e.labels[:len(e.labels)-1]
+			e.wins[c.chosen]++
+		} else {
+			c.fallback = true
+			e.fallbacks++
+		}
 	}
 	if e.combo != nil && len(r.entries) > 0 {
-		for _, mi := range topMembers(r.entries[:len(r.entries)-1], e.combo.Top) {
+		members := topMembers(r.entries[:len(r.entries)-1], e.combo.Top)
+		for _, mi := range members {
 			c.members = append(c.members, r.entries[mi].label)
 		}
+		c.weights = e.memberWeights(r.entries, members)
 	}
 	e.choices[i] = c
 	for _, eb := range r.entries {
@@ -393,10 +472,14 @@ func (e *Evaluation) Record(i int, r *Backtest) {
 }
 
 // choiceFor is the label a series without a scored entry falls back to, or
-// "" when it has no usable history.
+// "" when it has no usable history. With choose: combination, a series too
+// short for any fold gets the combination (of every method, equal weights).
 func (e *Evaluation) choiceFor(r *Backtest) string {
 	if r.Series.Skip != "" || forecast.AllMissing(r.Series.Values) {
 		return ""
+	}
+	if e.combinationAlways() && len(r.entries) == 0 {
+		return e.combo.Label
 	}
 	return e.fallback
 }

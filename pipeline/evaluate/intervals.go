@@ -122,22 +122,7 @@ func (e *Evaluation) Finish(s *spec.Spec, i int, r *forecast.Result) {
 		choice = e.choices[i]
 		r.Problems = append(choice.problems, r.Problems...)
 		if e.combo != nil && len(choice.members) > 0 {
-			var fcs [][]float64
-			for _, m := range choice.members {
-				for _, f := range r.Forecasts {
-					if f.Label == m {
-						fcs = append(fcs, f.Values)
-					}
-				}
-			}
-			if len(fcs) == len(choice.members) {
-				r.Forecasts = append(r.Forecasts, forecast.Forecast{Label: e.combo.Label,
-					Model:  fmt.Sprintf("combination(%s of %s)", e.combo.Kind, strings.Join(choice.members, ", ")),
-					Values: combineForecasts(e.combo.Kind, fcs)})
-			} else {
-				r.Problems = append(r.Problems, runfolder.Problem{Key: r.Series.Key, Stage: "forecast", Severity: "error", Method: e.combo.Label,
-					Message: "a member of the combination failed on the full history; no combination forecast"})
-			}
+			e.combine(r, &choice)
 		}
 	}
 	if len(levels) == 0 && e == nil {
@@ -155,4 +140,67 @@ func (e *Evaluation) Finish(s *spec.Spec, i int, r *forecast.Result) {
 			e.intervals(f, scale, levels, s.Intervals.Source)
 		}
 	}
+}
+
+// combine adds the combination entry to series r's final forecasts, from
+// its members' forecasts on the full history. Under choose: best a member
+// that failed there leaves the series without a combination (an error
+// row); under choose: combination the members that did forecast are
+// combined (weights renormalised, a warning row), and only when none did
+// does the series fall back.
+func (e *Evaluation) combine(r *forecast.Result, choice *seriesChoice) {
+	var fcs [][]float64
+	var names []string
+	var weights []float64
+	for j, m := range choice.members {
+		for _, f := range r.Forecasts {
+			if f.Label == m {
+				fcs = append(fcs, f.Values)
+				names = append(names, m)
+				if choice.weights != nil {
+					weights = append(weights, choice.weights[j])
+				}
+			}
+		}
+	}
+	problem := func(severity, msg string) {
+		r.Problems = append(r.Problems, runfolder.Problem{Key: r.Series.Key, Stage: "forecast", Severity: severity, Method: e.combo.Label, Message: msg})
+	}
+	if len(fcs) < len(choice.members) {
+		if !e.combinationAlways() {
+			problem("error", "a member of the combination failed on the full history; no combination forecast")
+			return
+		}
+		if len(fcs) == 0 {
+			problem("error", fmt.Sprintf("every member of the combination failed on the full history; fell back to %s", e.fallback))
+			choice.chosen = e.fallback
+			return
+		}
+		problem("warning", fmt.Sprintf("%d of %d members of the combination failed on the full history; combined the others", len(choice.members)-len(fcs), len(choice.members)))
+	}
+	kind := e.combo.Kind
+	if weights != nil {
+		total := 0.0
+		for _, w := range weights {
+			total += w
+		}
+		for j := range weights {
+			weights[j] /= total
+		}
+	}
+	var model string
+	switch {
+	case weights != nil:
+		parts := make([]string, len(names))
+		for j, n := range names {
+			parts[j] = fmt.Sprintf("%s %.3f", n, weights[j])
+		}
+		model = fmt.Sprintf("combination(weighted by 1/%s: %s)", e.metric, strings.Join(parts, ", "))
+	case kind == spec.CombineWeighted:
+		kind = spec.CombineMeanKind
+		model = fmt.Sprintf("combination(mean of %s; no backtest scores: equal weights)", strings.Join(names, ", "))
+	default:
+		model = fmt.Sprintf("combination(%s of %s)", kind, strings.Join(names, ", "))
+	}
+	r.Forecasts = append(r.Forecasts, forecast.Forecast{Label: e.combo.Label, Model: model, Values: combineForecasts(kind, fcs, weights)})
 }

@@ -183,6 +183,9 @@ func SafeForecast(m engines.Method, y []float64, season, h int, wantVariance boo
 	if d, ok := fitted.(engines.Described); ok {
 		res.Model = d.Describe()
 	}
+	if n := FloorAtZero(y, res.Values); n > 0 {
+		res.Model += fmt.Sprintf(" floored at 0 (%d of %d steps)", n, h)
+	}
 	if wr, ok := fitted.(engines.Warner); ok {
 		res.Warnings = wr.Warnings()
 	}
@@ -192,6 +195,37 @@ func SafeForecast(m engines.Method, y []float64, season, h int, wantVariance boo
 		}
 	}
 	return res, nil
+}
+
+// FloorAtZero sets to 0 the forecasts below zero of a series whose history
+// is strictly positive (every observed value > 0, at least one observed),
+// and returns how many it changed. A strictly positive quantity — sales,
+// passengers, the M-competition series — has no negative future, but
+// several methods extrapolate past zero (drift, trend lines, additive
+// smoothing forms, theta's drift; see engines/positivity_test.go). A
+// history with a zero or a negative value is left alone.
+func FloorAtZero(y, fc []float64) int {
+	observed := false
+	for _, v := range y {
+		if v != v {
+			continue
+		}
+		if v <= 0 {
+			return 0
+		}
+		observed = true
+	}
+	if !observed {
+		return 0
+	}
+	n := 0
+	for i, v := range fc {
+		if v < 0 {
+			fc[i] = 0
+			n++
+		}
+	}
+	return n
 }
 
 // panicError turns a recovered panic into the error of one series and method.
