@@ -216,7 +216,22 @@ func Table(all []*m1data.Series, fc map[string]map[string][]float64, order []str
 			cell3(r.mase, r.count, "yearly"), cell3(r.mase, r.count, "quarterly"), cell3(r.mase, r.count, "monthly"), cell3(r.mase, r.count, "all"),
 			r.total, r.failed, r.neg)
 	}
-	fmt.Fprintf(&b, "\n%d series (%s). \"all\" is the mean over every series the entry covers; an entry with fewer than %d series (a seasonal method, which yearly data cannot take) averages quarterly and monthly only.\n", full, counts(all), full)
+	fmt.Fprintf(&b, "\n%d series (%s). \"all\" is the mean over every series the entry covers; an entry with fewer than %d series (a seasonal method, which yearly data cannot take) averages quarterly and monthly only.", full, counts(all), full)
+	if len(rows) > 0 && rows[0].total == full {
+		// The best entry over the quarterly and monthly series only, to set
+		// beside the seasonal methods.
+		top := rows[0]
+		var sm, ma float64
+		n := 0
+		for _, sub := range []string{"quarterly", "monthly"} {
+			c := top.count[sub]
+			sm += top.smape[sub] * float64(c)
+			ma += top.mase[sub] * float64(c)
+			n += c
+		}
+		fmt.Fprintf(&b, " Over those %d series %s scores sMAPE %.2f, MASE %.3f.", n, top.name, sm/float64(n), ma/float64(n))
+	}
+	b.WriteString("\n")
 	return b.String()
 }
 
