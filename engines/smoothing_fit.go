@@ -37,6 +37,10 @@ const (
 // Starting values of the fit, and the Nelder–Mead settings.
 var esStartParams = esParams{alpha: 0.3, beta: 0.1, gamma: 0.1, phi: 0.9}
 
+// esFlatStartParams restart a search that found no finite point, with the
+// initial trend set to 0.
+var esFlatStartParams = esParams{alpha: 0.5, beta: 0.01, gamma: 0.1, phi: 0.9}
+
 const (
 	esSimplexStep = 1.0  // initial simplex size, on the logit scale
 	esFTolStart   = 1e-6 // the same for the first search, which the joint refinement follows
@@ -48,6 +52,7 @@ const (
 	esRoundTol    = 1e-3  // stop alternating when −2 log L improves by less (absolute)
 	esLMIter      = 60    // Levenberg–Marquardt iterations per round
 	esUSaturated  = 15    // |u| beyond which a smoothing parameter sits at its bound
+	esWarmMargin  = 0.02  // a warm start keeps each weight this share of its range inside the bounds
 	esUStep       = 2     // largest refinement step of a smoothing parameter on the logit scale
 	esAdmissTol   = 1e-10 // a root of modulus above 1 − esAdmissTol is not admissible
 )
@@ -255,6 +260,7 @@ func (f *esFitter) initStates(form esForm) error {
 			f.b0 = (kf*stv - st*sv) / den
 		}
 		f.l0 = (sv - f.b0*st) / kf
+		f.keepPositive(form)
 		return nil
 	}
 	d, err := f.decomposition(form.season == esSeasonMultiplicative)
@@ -279,7 +285,24 @@ func (f *esFitter) initStates(form esForm) error {
 		return nil
 	}
 	f.l0, f.b0 = base-slope*t0, slope
+	f.keepPositive(form)
 	return nil
+}
+
+// keepPositive replaces a starting level ≤ 0 (a steep line read back to
+// t = 0) of a form with a multiplicative part by the first observed value,
+// with a flat trend, so that the search starts where the recursion is
+// defined.
+func (f *esFitter) keepPositive(form esForm) {
+	if !form.positive() || f.l0 > 0 {
+		return
+	}
+	for _, v := range f.y {
+		if v == v {
+			f.l0, f.b0 = v, 0
+			return
+		}
+	}
 }
 
 // setSlots lists the parameters of form that the fit varies.
@@ -780,6 +803,14 @@ func (f *esFitter) optimise() esSolution {
 func (f *esFitter) search(p0 esParams) esSolution {
 	f.p = p0
 	obj, conv := f.simplex(esSimplexStep, esFTolStart, esXTolStart, false)
+	if math.IsInf(obj, 1) && f.form.trend != esTrendNone {
+		// No finite point near the start (typically a multiplicative form
+		// whose starting trend drives the level below zero): start again
+		// from a flat trend and a slow one.
+		f.b0 = 0
+		f.p = esFlatStartParams
+		obj, conv = f.simplex(esSimplexStep, esFTolStart, esXTolStart, false)
+	}
 	return f.rounds(obj, conv)
 }
 
@@ -806,14 +837,25 @@ func (f *esFitter) rounds(obj float64, conv bool) esSolution {
 // optimiseFrom fits f.form starting from the smoothing parameters and
 // initial states of a related solution (warm start): the same form with
 // the other error (same recursions), or the undamped form for a damped one
-// (φ = esPhiMax). It skips the first simplex search; when the start has no
+// (φ = 0.95). It skips the first simplex search; when the start has no
 // finite likelihood it falls back to optimise.
 func (f *esFitter) optimiseFrom(from *esSolution) esSolution {
 	f.setSlots(f.form)
 	f.evals = 0
+	// Start inside the region: a weight the related fit left at a bound
+	// would sit where the logistic map is flat and the refinement cannot
+	// move it (esUSaturated), so each is pulled to within esWarmMargin of
+	// its range; the damping of a newly damped trend starts at 0.95.
 	f.p = from.p
 	if f.form.trend == esTrendDamped && from.form.trend != esTrendDamped {
-		f.p.phi = esPhiMax
+		f.p.phi = 0.95
+	}
+	for c := 0; c < f.d; c++ {
+		sl := f.slots[c]
+		lo, hi := sl.bounds()
+		v := sl.get(&f.p)
+		v = math.Min(math.Max(v, lo+esWarmMargin*(hi-lo)), hi-esWarmMargin*(hi-lo))
+		sl.set(&f.p, v)
 	}
 	f.l0, f.b0 = from.l0, from.b0
 	if f.form.season != esSeasonNone {
