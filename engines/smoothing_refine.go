@@ -281,8 +281,8 @@ func (f *esFitter) solveDamped(lambda float64) bool {
 			if z == x {
 				s += lambda * (f.ata[x*P+x] + 1e-12*dmax)
 			}
-			for w := 0; w < z; w++ {
-				s -= c[x*P+w] * c[z*P+w]
+			if z > 0 {
+				s -= floats.Dot(c[x*P:x*P+z], c[z*P:z*P+z])
 			}
 			if z == x {
 				if !(s > 0) {
@@ -296,8 +296,8 @@ func (f *esFitter) solveDamped(lambda float64) bool {
 	}
 	for x := range P {
 		s := -f.atb[x]
-		for w := 0; w < x; w++ {
-			s -= c[x*P+w] * f.sol[w]
+		if x > 0 {
+			s -= floats.Dot(c[x*P:x*P+x], f.sol[:x])
 		}
 		f.sol[x] = s / c[x*P+x]
 	}
