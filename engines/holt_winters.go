@@ -15,7 +15,7 @@ import (
 //   - seasonal=multiplicative: multiplicative error and season, ETS(M,·,M).
 //     The additive-error form with a multiplicative season is not offered:
 //     its likelihood divides by seasonal states that nothing keeps away
-//     from zero, and Hyndman et al. (2008, §2.5, §7) leave it out as
+//     from zero, and Hyndman et al. (2008; from memory, §2.5) leave it out as
 //     numerically unstable; the multiplicative error keeps forecasts and
 //     states of a positive series positive;
 //   - seasonal=auto (the default): SeasonalityTest at the 90% level on the

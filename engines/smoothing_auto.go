@@ -55,7 +55,7 @@ import (
 //	M,N,N  M,A,N  M,Ad,N  M,N,A  M,A,A  M,Ad,A  M,N,M  M,A,M  M,Ad,M
 //
 // The additive error with a multiplicative season is left out (Hyndman et
-// al. 2008, §2.5 and §7: numerically unstable). A candidate is admissible
+// al. 2008; from memory, §2.5: numerically unstable). A candidate is admissible
 // when:
 //
 //   - multiplicative error or season: every observed value is > 0;
@@ -82,7 +82,9 @@ import (
 //   - R. J. Hyndman, A. B. Koehler, J. K. Ord and R. D. Snyder (2008),
 //     Forecasting with Exponential Smoothing: The State Space Approach,
 //     Springer (Table 2.3: the recursions; ch. 6: forecast variances;
-//     ch. 10: admissible parameters).
+//     ch. 10: admissible parameters; the section and table numbers cited
+//     in this package are from memory — the recursions themselves are
+//     checked against statsmodels, see smoothing_test.go).
 //   - C. M. Hurvich and C.-L. Tsai (1989), Regression and time series model
 //     selection in small samples, Biometrika 76(2), 297–307 (AICc).
 //   - J. A. Nelder and R. Mead (1965), The Computer Journal 7(4), 308–313;

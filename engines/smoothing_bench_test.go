@@ -96,10 +96,16 @@ func BenchmarkHoltWintersMonthly120(b *testing.B) {
 func BenchmarkSESMonthly120(b *testing.B)  { esBenchFit(b, "monthly120", SES{}, 12) }
 func BenchmarkHoltMonthly120(b *testing.B) { esBenchFit(b, "monthly120", Holt{}, 12) }
 
-// Holt-Winters (seasonal: auto, the default) fit plus a 13-step forecast
-// on the weekly series (m = 52): beside R's HoltWinters(x) in
-// testdata/reference/bench/compare.sh.
+// Holt-Winters with the additive season (ETS(A,A,A)) fit plus a 13-step
+// forecast on the weekly series (m = 52): beside R's HoltWinters(x), also
+// additive, in testdata/reference/bench/compare.sh.
 func BenchmarkHoltWintersWeekly156(b *testing.B) {
+	esBenchFit(b, "weekly156", esMustHW(b, FormAdditive, true, false), 13)
+}
+
+// The default, seasonal: auto (the seasonality test, then one or two
+// seasonal forms or the non-seasonal one).
+func BenchmarkHoltWintersWeekly156Auto(b *testing.B) {
 	esBenchFit(b, "weekly156", esMustHW(b, "", true, false), 13)
 }
 
@@ -108,12 +114,12 @@ func BenchmarkHoltWintersWeekly156Multiplicative(b *testing.B) {
 }
 
 func BenchmarkHoltWintersWeekly156Damped(b *testing.B) {
-	esBenchFit(b, "weekly156", esMustHW(b, "", true, true), 13)
+	esBenchFit(b, "weekly156", esMustHW(b, FormAdditive, true, true), 13)
 }
 
 // Holt-Winters fit plus a 12-step forecast on the monthly series (m = 12).
 func BenchmarkHoltWintersMonthly60(b *testing.B) {
-	esBenchFit(b, "monthly60", esMustHW(b, "", true, false), 12)
+	esBenchFit(b, "monthly60", esMustHW(b, FormAdditive, true, false), 12)
 }
 
 func BenchmarkHoltWintersMonthly60Multiplicative(b *testing.B) {

@@ -4,10 +4,6 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"math/cmplx"
-
-	"gonum.org/v1/gonum/floats"
-	"gonum.org/v1/gonum/mat"
 )
 
 // This file estimates the smoothing parameters and the initial states of
@@ -17,10 +13,10 @@ import (
 //  1. the smoothing parameters, initial states fixed: the Nelder–Mead
 //     simplex (esSimplex) on logistic-transformed parameters, which keeps
 //     them inside the usual region;
-//  2. the initial states, smoothing parameters fixed: Levenberg–Marquardt
-//     on the likelihood written as a sum of squares, with the exact
-//     Jacobian carried through the recursions (forward mode). For a linear
-//     form one step solves the least-squares problem exactly.
+//  2. the smoothing parameters and the initial states jointly:
+//     Levenberg–Marquardt on the likelihood written as a sum of squares,
+//     with the exact Jacobian of the initial states carried through the
+//     recursions (forward mode; smoothing_refine.go).
 //
 // Step 2 makes the initial states free parameters at the cost of one pass
 // per iteration, where a simplex over all of them (17 numbers for a monthly
@@ -39,6 +35,10 @@ const (
 // Starting values of the fit, and the Nelder–Mead settings.
 var esStartParams = esParams{alpha: 0.3, beta: 0.1, gamma: 0.1, phi: 0.9}
 
+// esFlatStartParams restart a search that found no finite point, with the
+// initial trend set to 0.
+var esFlatStartParams = esParams{alpha: 0.5, beta: 0.01, gamma: 0.1, phi: 0.9}
+
 const (
 	esSimplexStep = 1.0  // initial simplex size, on the logit scale
 	esFTolStart   = 1e-6 // the same for the first search, which the joint refinement follows
@@ -50,6 +50,7 @@ const (
 	esRoundTol    = 1e-3  // stop alternating when −2 log L improves by less (absolute)
 	esLMIter      = 60    // Levenberg–Marquardt iterations per round
 	esUSaturated  = 15    // |u| beyond which a smoothing parameter sits at its bound
+	esWarmMargin  = 0.02  // a warm start keeps each weight this share of its range inside the bounds
 	esUStep       = 2     // largest refinement step of a smoothing parameter on the logit scale
 	esAdmissTol   = 1e-10 // a root of modulus above 1 − esAdmissTol is not admissible
 )
@@ -257,6 +258,7 @@ func (f *esFitter) initStates(form esForm) error {
 			f.b0 = (kf*stv - st*sv) / den
 		}
 		f.l0 = (sv - f.b0*st) / kf
+		f.keepPositive(form)
 		return nil
 	}
 	d, err := f.decomposition(form.season == esSeasonMultiplicative)
@@ -281,7 +283,24 @@ func (f *esFitter) initStates(form esForm) error {
 		return nil
 	}
 	f.l0, f.b0 = base-slope*t0, slope
+	f.keepPositive(form)
 	return nil
+}
+
+// keepPositive replaces a starting level ≤ 0 (a steep line read back to
+// t = 0) of a form with a multiplicative part by the first observed value,
+// with a flat trend, so that the search starts where the recursion is
+// defined.
+func (f *esFitter) keepPositive(form esForm) {
+	if !form.positive() || f.l0 > 0 {
+		return
+	}
+	for _, v := range f.y {
+		if v == v {
+			f.l0, f.b0 = v, 0
+			return
+		}
+	}
 }
 
 // setSlots lists the parameters of form that the fit varies.
@@ -382,384 +401,6 @@ func (f *esFitter) setTheta(th []float64) {
 	}
 }
 
-// grow returns b resized to n elements, zeroed.
-func esGrow(b []float64, n int) []float64 {
-	if cap(b) < n {
-		b = make([]float64, n)
-	}
-	b = b[:n]
-	clear(b)
-	return b
-}
-
-// residuals writes the least-squares residuals of the likelihood at the
-// last run of the recursions (f.fitted) into r, one per observed value, and
-// returns their count: r_t = e_t for the additive error, r_t = G·e_t/μ_t
-// for the multiplicative error with G the geometric mean of the |μ_t|, so
-// that n·log Σ r_t² is the objective in both cases.
-func (f *esFitter) residuals(st esStats, r []float64) int {
-	g := 1.0
-	mult := f.form.err == esErrorMultiplicative
-	if mult {
-		g = math.Exp(st.logmu / float64(st.nobs))
-	}
-	k := 0
-	for i := f.start; i < len(f.y); i++ {
-		v := f.y[i]
-		if v != v {
-			continue
-		}
-		e := v - f.fitted[i]
-		if mult {
-			e = g * e / f.fitted[i]
-		}
-		r[k] = e
-		k++
-	}
-	return k
-}
-
-// jacobian fills f.res with the residuals at (f.p, initial states) and
-// f.jac (column by column, len(y) apart: d+k columns of nobs values) with
-// their derivatives: by finite
-// differences with respect to the d smoothing parameters on the optimiser's
-// scale u, and exactly (the recursions of esFilter differentiated term by
-// term, forward mode) with respect to the k free initial states. It
-// returns false when the recursion fails at the current point.
-func (f *esFitter) jacobian(u []float64) bool {
-	form, m, k, d := f.form, f.m, f.k, f.d
-	P := d + k
-	n := len(f.y)
-	f.res = esGrow(f.res, n)
-	f.rtmp = esGrow(f.rtmp, n)
-	f.jac = esGrow(f.jac, n*P)
-	st := f.run(f.p)
-	if !st.ok {
-		return false
-	}
-	nobs := f.residuals(st, f.res)
-	// Smoothing parameters: forward differences in u.
-	var uu [esMaxDim]float64
-	copy(uu[:d], u)
-	for c := 0; c < d; c++ {
-		if math.Abs(u[c]) > esUSaturated {
-			// At its bound: the logistic map is flat to rounding, and
-			// the simplex, not the refinement, moves it.
-			for t := 0; t < nobs; t++ {
-				f.jac[c*n+t] = 0
-			}
-			continue
-		}
-		h := 1e-6 * math.Max(1, math.Abs(u[c]))
-		uu[c] = u[c] + h
-		sp := f.run(f.params(uu[:d]))
-		uu[c] = u[c]
-		f.evals++
-		if !sp.ok || sp.nobs != nobs {
-			for t := 0; t < nobs; t++ {
-				f.jac[c*n+t] = 0
-			}
-			continue
-		}
-		f.residuals(sp, f.rtmp)
-		for t := 0; t < nobs; t++ {
-			f.jac[c*n+t] = (f.rtmp[t] - f.res[t]) / h
-		}
-	}
-	// Initial states: forward mode.
-	a, be, ge, phi := f.p.ec(form)
-	for _, b := range []*[]float64{&f.dl, &f.db, &f.zero, &f.g} {
-		*b = esGrow(*b, k)
-	}
-	dl, db, g := f.dl, f.db, f.g
-	dl[0] = 1
-	off := 1
-	if form.trend != esTrendNone {
-		db[1] = 1
-		off = 2
-	}
-	seasonal := form.season != esSeasonNone
-	if seasonal {
-		f.ds = esGrow(f.ds, m*k)
-		for j := 0; j < m-1; j++ {
-			f.ds[j*k+off+j] = 1
-			f.ds[(m-1)*k+off+j] = -1
-		}
-	}
-	copy(f.ring, f.s0)
-	l, b := f.l0, f.b0
-	if form.trend == esTrendNone {
-		b = 0
-	}
-	multErr := form.err == esErrorMultiplicative
-	row := 0
-	j := 0
-	for i := f.start; i < n; i++ {
-		sj, dsj := 0.0, f.zero // without a season: zeros that nothing writes
-		if seasonal {
-			sj, dsj = f.ring[j], f.ds[j*k:(j+1)*k]
-		}
-		base := l + phi*b
-		mu := base
-		switch form.season {
-		case esSeasonAdditive:
-			mu = base + sj
-		case esSeasonMultiplicative:
-			mu = base * sj
-		}
-		yv := f.y[i]
-		if yv != yv {
-			// Missing: the states move on without an update.
-			l, b = base, phi*b
-			for x := range k {
-				dl[x] += phi * db[x]
-				db[x] *= phi
-			}
-		} else {
-			e := yv - mu
-			jr := f.jac[d*n+row:] // column x of the states at jr[x*n]
-			row++
-			// ∂ε_t = −∂μ_t (additive error) or −y·∂μ_t/μ² (multiplicative;
-			// the G factor is applied below).
-			c, cg := -1.0, 0.0
-			if multErr {
-				c, cg = -yv/(mu*mu), 1/mu
-			}
-			switch form.season {
-			case esSeasonMultiplicative:
-				q, r := e/sj, e/base
-				l, b = base+a*q, phi*b+be*q
-				f.ring[j] = sj + ge*r
-				isj, ibase := 1/sj, 1/base
-				for x := range k {
-					dbx := dl[x] + phi*db[x]
-					dsx := dsj[x]
-					dmx := sj*dbx + base*dsx
-					jr[x*n] = c * dmx
-					g[x] += cg * dmx
-					dqx := (-dmx - q*dsx) * isj
-					dsj[x] = dsx + ge*(-dmx-r*dbx)*ibase
-					dl[x] = dbx + a*dqx
-					db[x] = phi*db[x] + be*dqx
-				}
-			default:
-				l, b = base+a*e, phi*b+be*e
-				if seasonal {
-					f.ring[j] = sj + ge*e
-				}
-				for x := range k {
-					dbx := dl[x] + phi*db[x]
-					dmx := dbx + dsj[x]
-					jr[x*n] = c * dmx
-					g[x] += cg * dmx
-					if seasonal {
-						dsj[x] -= ge * dmx
-					}
-					dl[x] = dbx - a*dmx
-					db[x] = phi*db[x] - be*dmx
-				}
-			}
-		}
-		if seasonal {
-			if j++; j == m {
-				j = 0
-			}
-		}
-	}
-	if multErr {
-		// r_t = G·ε_t with log G = Σ log μ_u / n: ∂r_t = G·∂ε_t + r_t·∂log G.
-		G := math.Exp(st.logmu / float64(nobs))
-		for x := range k {
-			g[x] /= float64(nobs)
-		}
-		for x := range k {
-			col := f.jac[(d+x)*n : (d+x)*n+nobs]
-			for t := range col {
-				col[t] = G*col[t] + f.res[t]*g[x]
-			}
-		}
-	}
-	f.nres = nobs
-	return true
-}
-
-// normal forms the normal equations J′J (f.ata) and J′r (f.atb) from f.jac
-// and f.res; false when they are not finite.
-func (f *esFitter) normal() bool {
-	P := f.d + f.k
-	f.ata = esGrow(f.ata, P*P)
-	f.atb = esGrow(f.atb, P)
-	// J′J (upper triangle) and J′r as dot products of the columns of J
-	// (stored column by column, len(y) apart), by gonum's vectorised
-	// floats.Dot.
-	n, nr := len(f.y), f.nres
-	res := f.res[:nr]
-	for x := 0; x < P; x++ {
-		cx := f.jac[x*n : x*n+nr]
-		f.atb[x] = floats.Dot(cx, res)
-		for z := x; z < P; z++ {
-			f.ata[x*P+z] = floats.Dot(cx, f.jac[z*n:z*n+nr])
-		}
-	}
-	for x := 0; x < P; x++ {
-		for z := x + 1; z < P; z++ {
-			f.ata[z*P+x] = f.ata[x*P+z]
-		}
-	}
-	for _, v := range f.ata {
-		if v != v || math.IsInf(v, 0) {
-			return false
-		}
-	}
-	return true
-}
-
-// solveDamped solves (ata + λ·(diag(ata) + ε))·δ = −atb by Cholesky into
-// f.sol; false when the matrix is not positive definite.
-func (f *esFitter) solveDamped(lambda float64) bool {
-	P := f.d + f.k
-	f.chol = esGrow(f.chol, P*P)
-	f.sol = esGrow(f.sol, P)
-	c := f.chol
-	var dmax float64
-	for x := range P {
-		dmax = math.Max(dmax, f.ata[x*P+x])
-	}
-	for x := range P {
-		for z := 0; z <= x; z++ {
-			s := f.ata[x*P+z]
-			if z == x {
-				s += lambda * (f.ata[x*P+x] + 1e-12*dmax)
-			}
-			for w := 0; w < z; w++ {
-				s -= c[x*P+w] * c[z*P+w]
-			}
-			if z == x {
-				if !(s > 0) {
-					return false
-				}
-				c[x*P+x] = math.Sqrt(s)
-			} else {
-				c[x*P+z] = s / c[z*P+z]
-			}
-		}
-	}
-	for x := range P {
-		s := -f.atb[x]
-		for w := 0; w < x; w++ {
-			s -= c[x*P+w] * f.sol[w]
-		}
-		f.sol[x] = s / c[x*P+x]
-	}
-	for x := P - 1; x >= 0; x-- {
-		s := f.sol[x]
-		for w := x + 1; w < P; w++ {
-			s -= c[w*P+x] * f.sol[w]
-		}
-		f.sol[x] = s / c[x*P+x]
-	}
-	return true
-}
-
-// refine minimises the objective jointly over the smoothing parameters
-// (on the optimiser's scale) and the free initial states by
-// Levenberg–Marquardt, from the current point whose objective is obj, and
-// returns the new objective. f.p and the initial states hold the result.
-func (f *esFitter) refine(obj float64) float64 {
-	f.k = f.nFree()
-	d, k := f.d, f.k
-	f.theta = esGrow(f.theta, k)
-	f.trial = esGrow(f.trial, k)
-	f.getTheta(f.theta)
-	var u, ut [esMaxDim]float64
-	f.toU(u[:d])
-	// Marquardt's damping, updated by the gain ratio ρ of actual to
-	// predicted reduction of S = Σ r_t² (Nielsen 1999).
-	lambda, nu := 1e-3, 2.0
-	nf := float64(len(f.y))
-	for it := 0; it < esLMIter; it++ {
-		if !f.jacobian(u[:d]) || !f.normal() {
-			break
-		}
-		nf = float64(f.nres)
-		accepted := false
-		for try := 0; try < 8 && !accepted; try++ {
-			if !f.solveDamped(lambda) {
-				lambda *= nu
-				nu *= 2
-				continue
-			}
-			// Clip the step of each smoothing parameter to ±esUStep on the
-			// logit scale (a parameter heading for its bound gets there
-			// over several steps; the states keep their full step).
-			clipped := false
-			for c := 0; c < d; c++ {
-				if a := math.Abs(f.sol[c]); a > esUStep {
-					f.sol[c] *= esUStep / a
-					clipped = true
-				}
-			}
-			for c := 0; c < d; c++ {
-				ut[c] = u[c] + f.sol[c]
-			}
-			for x := range k {
-				f.trial[x] = f.theta[x] + f.sol[d+x]
-			}
-			f.setTheta(f.trial)
-			p := f.params(ut[:d])
-			f.evals++
-			o := f.run(p).objective(f.form, f.scale)
-			if o < obj {
-				// S_old − S_new relative to S_old, and the predicted
-				// reduction −δ′J′r + λ·δ′Dδ relative to S_old.
-				actual := -math.Expm1(-(obj - o) / nf)
-				var pred float64
-				P := d + k
-				for x := 0; x < P; x++ {
-					pred += f.sol[x] * (lambda*f.sol[x]*f.ata[x*P+x] - f.atb[x])
-				}
-				var sOld float64
-				for t := 0; t < f.nres; t++ {
-					sOld += f.res[t] * f.res[t]
-				}
-				rho := 1.0
-				if pred > 0 && sOld > 0 {
-					rho = actual / (pred / sOld)
-				}
-				gain := obj - o
-				obj = o
-				copy(f.theta, f.trial)
-				u = ut
-				f.p = p
-				accepted = true
-				lambda *= math.Max(1.0/3, 1-math.Pow(2*rho-1, 3))
-				nu = 2
-				if gain < esRoundTol && !clipped {
-					it = esLMIter
-				}
-			} else {
-				lambda *= nu
-				nu *= 2
-			}
-		}
-		f.setTheta(f.theta)
-		if !accepted {
-			break
-		}
-	}
-	return obj
-}
-
-// toU writes f.p on the optimiser's scale into u (len f.d).
-func (f *esFitter) toU(u []float64) {
-	for c := 0; c < f.d; c++ {
-		s := f.slots[c]
-		lo, hi := s.bounds()
-		v := math.Min(math.Max(s.get(&f.p), lo+1e-12*(hi-lo)), hi-1e-12*(hi-lo))
-		u[c] = esLogit(v, lo, hi)
-	}
-}
-
 // optimise fits f.form from f's starting states (set by initStates, or
 // directly by a test) and returns the solution: a first simplex search over
 // the smoothing parameters from esStartParams, then joint refinements
@@ -782,6 +423,14 @@ func (f *esFitter) optimise() esSolution {
 func (f *esFitter) search(p0 esParams) esSolution {
 	f.p = p0
 	obj, conv := f.simplex(esSimplexStep, esFTolStart, esXTolStart, false)
+	if math.IsInf(obj, 1) && f.form.trend != esTrendNone {
+		// No finite point near the start (typically a multiplicative form
+		// whose starting trend drives the level below zero): start again
+		// from a flat trend and a slow one.
+		f.b0 = 0
+		f.p = esFlatStartParams
+		obj, conv = f.simplex(esSimplexStep, esFTolStart, esXTolStart, false)
+	}
 	return f.rounds(obj, conv)
 }
 
@@ -808,14 +457,25 @@ func (f *esFitter) rounds(obj float64, conv bool) esSolution {
 // optimiseFrom fits f.form starting from the smoothing parameters and
 // initial states of a related solution (warm start): the same form with
 // the other error (same recursions), or the undamped form for a damped one
-// (φ = esPhiMax). It skips the first simplex search; when the start has no
+// (φ = 0.95). It skips the first simplex search; when the start has no
 // finite likelihood it falls back to optimise.
 func (f *esFitter) optimiseFrom(from *esSolution) esSolution {
 	f.setSlots(f.form)
 	f.evals = 0
+	// Start inside the region: a weight the related fit left at a bound
+	// would sit where the logistic map is flat and the refinement cannot
+	// move it (esUSaturated), so each is pulled to within esWarmMargin of
+	// its range; the damping of a newly damped trend starts at 0.95.
 	f.p = from.p
 	if f.form.trend == esTrendDamped && from.form.trend != esTrendDamped {
-		f.p.phi = esPhiMax
+		f.p.phi = 0.95
+	}
+	for c := 0; c < f.d; c++ {
+		sl := f.slots[c]
+		lo, hi := sl.bounds()
+		v := sl.get(&f.p)
+		v = math.Min(math.Max(v, lo+esWarmMargin*(hi-lo)), hi-esWarmMargin*(hi-lo))
+		sl.set(&f.p, v)
 	}
 	f.l0, f.b0 = from.l0, from.b0
 	if f.form.season != esSeasonNone {
@@ -849,65 +509,6 @@ func (f *esFitter) solution(obj float64, conv bool) esSolution {
 	sol.obj = sol.stats.objective(f.form, f.scale)
 	sol.admiss = esAdmissible(f.form, f.m, f.p)
 	return sol
-}
-
-// esAdmissible reports whether the smoothing parameters p make the form
-// forecastable: every eigenvalue of the discount matrix D = F − g·w′ of the
-// linear form with the same trend and season (Hyndman et al. 2008, ch. 10)
-// lies inside the unit circle, apart from the unit eigenvalue that the m
-// seasonal states carry by construction (the direction "level up, every
-// seasonal term down by the same amount", which the normalisation removes).
-// For the forms without a season the usual region (esParams with φ ≤ 0.98)
-// lies inside the admissible one (Hyndman et al. 2008, §10.2), so only
-// seasonal forms are checked. Multiplicative seasons are checked through
-// the additive form, common practice for these nonlinear models.
-func esAdmissible(form esForm, m int, p esParams) bool {
-	if form.season == esSeasonNone || m < 2 {
-		return true
-	}
-	a, be, ge, phi := p.ec(form)
-	// States (ℓ, b, s_{t−1}, …, s_{t−m}); w picks ℓ + φb + s_{t−m}.
-	k := m + 2
-	d := mat.NewDense(k, k, nil)
-	w := make([]float64, k)
-	g := make([]float64, k)
-	w[0], w[1], w[k-1] = 1, phi, 1
-	g[0], g[1], g[2] = a, be, ge
-	// F: ℓ' = ℓ + φb, b' = φb, s'_{t} = s_{t−m}, s'_{t−j} = s_{t−j+1}.
-	d.Set(0, 0, 1)
-	if form.trend != esTrendNone {
-		d.Set(0, 1, phi)
-		d.Set(1, 1, phi)
-	} else {
-		w[1] = 0 // no trend state: b ≡ 0 stays 0
-	}
-	d.Set(2, k-1, 1)
-	for j := 3; j < k; j++ {
-		d.Set(j, j-1, 1)
-	}
-	for r := range k {
-		for c := range k {
-			d.Set(r, c, d.At(r, c)-g[r]*w[c])
-		}
-	}
-	var eig mat.Eigen
-	if !eig.Factorize(d, mat.EigenNone) {
-		return false
-	}
-	vals := eig.Values(nil)
-	// Drop the one eigenvalue closest to 1.
-	skip, best := -1, math.Inf(1)
-	for i, z := range vals {
-		if dd := cmplx.Abs(z - 1); dd < best {
-			skip, best = i, dd
-		}
-	}
-	for i, z := range vals {
-		if i != skip && cmplx.Abs(z) >= 1-esAdmissTol {
-			return false
-		}
-	}
-	return true
 }
 
 // esMinObserved is the fewest observed values a form without a season

@@ -4,9 +4,12 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"math/cmplx"
 	"slices"
 	"strings"
 	"testing"
+
+	"gonum.org/v1/gonum/mat"
 )
 
 // TestSmoothingOptions checks the registered names and that the factories
@@ -743,4 +746,88 @@ func TestHoltWintersSeasonalAuto(t *testing.T) {
 	if got, want := fit.(Described).Describe(), "holt_winters(error=additive, trend=damped, season=none; too short to test for a season)"; got != want {
 		t.Errorf("20 values, m = 12: %q, want %q", got, want)
 	}
+}
+
+// TestSmoothingAdmissible checks esAdmissible, which tests the roots of
+// the characteristic polynomial by the Schur–Cohn recursion, against the
+// eigenvalues of the discount matrix D = F − g·w′ computed by gonum's
+// mat.Eigen (all but the one unit eigenvalue inside the unit circle;
+// Hyndman et al. 2008, ch. 10), on 3,000 random parameter sets over and
+// beyond the usual region, for m = 2, 4, 7, 12 and every seasonal trend.
+// The two must agree except within 1e-6 of the boundary.
+func TestSmoothingAdmissible(t *testing.T) {
+	state := uint64(7)
+	rnd := func() float64 {
+		state = state*6364136223846793005 + 1442695040888963407
+		return float64(state>>11) / (1 << 53)
+	}
+	agree, admissible := 0, 0
+	for i := 0; i < 3000; i++ {
+		m := []int{2, 4, 7, 12}[i%4]
+		form := esForm{trend: esTrend(i / 4 % 3), season: esSeasonAdditive}
+		// alpha in (0, 1); beta, gamma as shares, up to 1.6 of their usual
+		// range so that inadmissible points occur; phi in [0.8, 1].
+		p := esParams{alpha: rnd(), beta: 1.6 * rnd(), gamma: 1.6 * rnd(), phi: 0.8 + 0.2*rnd()}
+		got := esAdmissible(form, m, p)
+		radius := esSpectralRadiusWithoutUnit(form, m, p)
+		if math.Abs(radius-1) < 1e-6 {
+			continue
+		}
+		if want := radius < 1; got != want {
+			t.Errorf("%s m=%d %+v: esAdmissible %v, eigenvalues say %v (radius %.9f)", esShort(form), m, p, got, want, radius)
+		} else {
+			agree++
+		}
+		if got {
+			admissible++
+		}
+	}
+	if agree < 2900 || admissible < 300 || admissible > agree-300 {
+		t.Errorf("%d agreeing cases, %d admissible: the sample does not cover both sides", agree, admissible)
+	}
+	t.Logf("%d cases agree, %d admissible", agree, admissible)
+}
+
+// esSpectralRadiusWithoutUnit is the largest modulus of the eigenvalues of
+// D = F − g·w′ other than the one closest to 1.
+func esSpectralRadiusWithoutUnit(form esForm, m int, p esParams) float64 {
+	a, be, ge, phi := p.ec(form)
+	k := m + 2
+	d := mat.NewDense(k, k, nil)
+	w, g := make([]float64, k), make([]float64, k)
+	w[0], w[k-1] = 1, 1
+	g[0], g[1], g[2] = a, be, ge
+	d.Set(0, 0, 1)
+	if form.trend != esTrendNone {
+		w[1] = phi
+		d.Set(0, 1, phi)
+		d.Set(1, 1, phi)
+	}
+	d.Set(2, k-1, 1)
+	for j := 3; j < k; j++ {
+		d.Set(j, j-1, 1)
+	}
+	for r := range k {
+		for c := range k {
+			d.Set(r, c, d.At(r, c)-g[r]*w[c])
+		}
+	}
+	var eig mat.Eigen
+	if !eig.Factorize(d, mat.EigenNone) {
+		return math.Inf(1)
+	}
+	vals := eig.Values(nil)
+	skip, best := -1, math.Inf(1)
+	for i, z := range vals {
+		if dd := cmplx.Abs(z - 1); dd < best {
+			skip, best = i, dd
+		}
+	}
+	radius := 0.0
+	for i, z := range vals {
+		if i != skip {
+			radius = math.Max(radius, cmplx.Abs(z))
+		}
+	}
+	return radius
 }

@@ -44,8 +44,10 @@ type esObjective interface {
 // exchanges every evaluation over channels: about 2 µs per evaluation on
 // top of an objective that costs about 0.6 µs. The fit runs several such
 // searches per form and smoothing_auto fits 15 forms, so the package keeps
-// this one simplex, the only optimiser of the smoothing family, theta and
-// stl.
+// this simplex. With the Levenberg–Marquardt refinement (smoothing_refine.go)
+// and the one-dimensional Brent search of the level-only fit that theta and
+// stl use (esLevelFit, smoothing_level.go), it makes up the optimisers of
+// the one smoothing core.
 //
 // References:
 //   - J. A. Nelder and R. Mead (1965), A simplex method for function
