@@ -1,0 +1,568 @@
+package engines
+
+import (
+	"errors"
+	"fmt"
+	"math"
+)
+
+// ARIMA fits a seasonal ARIMA(p,d,q)(P,D,Q)m model
+//
+//	φ(B) Φ(B^m) [(1 − B)^d (1 − B^m)^D y_t − μ] = θ(B) Θ(B^m) ε_t,
+//	ε_t ~ N(0, σ²) independent,
+//
+// with φ(B) = 1 − φ_1B − … − φ_pB^p, Φ(B^m) = 1 − Φ_1B^m − … − Φ_PB^{mP},
+// θ(B) = 1 + θ_1B + … + θ_qB^q and Θ(B^m) = 1 + Θ_1B^m + … + Θ_QB^{mQ}.
+// The constant μ is the mean of y when d + D = 0 and a drift otherwise:
+// with d + D = 1 the model is y_t = δ·t + u_t with u an ARIMA process, and
+// μ = δ (d = 1) or m·δ (D = 1). With d + D ≥ 2 there is no constant.
+//
+// Estimation is by exact Gaussian maximum likelihood of the differenced
+// series w = (1 − B)^d (1 − B^m)^D y: the ARMA part in the state-space form
+// of Gardner, Harvey & Phillips (1980), started from its stationary
+// covariance (from the autocovariances, Brockwell & Davis 1991 §3.3) and
+// run through the Kalman filter, with σ² concentrated out. Start values
+// come from conditional sum of squares. The AR and MA polynomials are
+// parametrised through partial autocorrelations tanh(u) (Jones 1980;
+// Monahan 1984), so every point the optimiser (gonum's BFGS with central
+// differences) visits is stationary and invertible. Missing values (NaN)
+// are skipped by the filter; with d + D > 0 a missing value also hides the
+// differences it enters, so the likelihood is that of the observed
+// differences. Without missing values this is the likelihood of R's
+// stats::arima(method = "ML"), whose fits are the reference of the tests.
+//
+// Orders:
+//
+//	fixed: the orders given (option p, d, q, seasonal_p, seasonal_d,
+//	       seasonal_q; each defaults to 0).
+//	auto (default): Hyndman & Khandakar (2008): with m ≥ 2 and at least
+//	       three full seasons, D = 1 when the seasonal strength
+//	       max(0, 1 − Var(R)/Var(S+R)) of the classical additive
+//	       decomposition exceeds 0.64 (Wang, Smith & Hyndman 2006);
+//	       then d ∈ {0, 1, 2} by repeated KPSS tests at 5% on the
+//	       (seasonally differenced) series (Kwiatkowski et al. 1992);
+//	       then the stepwise search of the paper by AICc from its four
+//	       start forms, (2,d,2)(1,D,1), (0,d,0)(0,D,0), (1,d,0)(1,D,0),
+//	       (0,d,1)(0,D,1), moving p, q, P or Q by ±1, p and q together
+//	       by ±1, P and Q together by ±1, and adding or dropping the
+//	       constant, within 0 ≤ p, q ≤ 5 and 0 ≤ P, Q ≤ 2 (at most 94
+//	       forms). The constant is in the start forms when d + D ≤ 1.
+//	       Shortcut: during the search each form is scored by AICc of the
+//	       exact likelihood at its CSS estimates; only the chosen form
+//	       is refitted by exact maximum likelihood. Forms with an AR or MA
+//	       root of modulus below 1.001 are refused in the search. When the
+//	       chosen form cannot be refitted the next best is taken, and as
+//	       a last resort (0,d,0)(0,D,0).
+//
+// Option constant (default true) allows the constant; false never fits one.
+//
+// The fitted model forecasts by the Kalman filter's prediction of w,
+// integrated back to y through the last d + mD values (which must be
+// observed). Forecast variances are σ² Σ_{j<h} ψ_j² with ψ the weights of
+// the full model θ(B)Θ(B^m) / [φ(B)Φ(B^m)(1 − B)^d(1 − B^m)^D], plus the
+// uncertainty of the filter's final state (see ForecastVariance). In-sample
+// values are the one-step predictions of the filter (NaN for the first
+// d + mD periods and where a needed value is missing).
+//
+// A fixed form needs at least k + 3 observed differenced values (k
+// coefficients), the automatic choice at least 3 observed values; fewer is
+// ErrTooShort.
+//
+// References:
+//   - Box, G. E. P., Jenkins, G. M. (1976). Time Series Analysis:
+//     Forecasting and Control. Holden-Day.
+//   - Gardner, G., Harvey, A. C., Phillips, G. D. A. (1980). Algorithm
+//     AS 154. Applied Statistics 29(3), 311–322.
+//   - Jones, R. H. (1980). Maximum likelihood fitting of ARMA models to
+//     time series with missing observations. Technometrics 22(3), 389–395.
+//   - Monahan, J. F. (1984). A note on enforcing stationarity in
+//     autoregressive-moving average models. Biometrika 71(2), 403–404.
+//   - Kwiatkowski, D., Phillips, P. C. B., Schmidt, P., Shin, Y. (1992).
+//     Testing the null hypothesis of stationarity against the alternative
+//     of a unit root. Journal of Econometrics 54, 159–178.
+//   - Wang, X., Smith, K. A., Hyndman, R. J. (2006). Characteristic-based
+//     clustering for time series data. Data Mining and Knowledge
+//     Discovery 13(3), 335–364.
+//   - Hyndman, R. J., Khandakar, Y. (2008). Automatic time series
+//     forecasting: the forecast package for R. Journal of Statistical
+//     Software 27(3).
+//   - Durbin, J., Koopman, S. J. (2012). Time Series Analysis by State
+//     Space Methods, 2nd ed. Oxford.
+type ARIMA struct {
+	auto          bool
+	fixed         arimaOrders // m and constant filled per series
+	allowConstant bool
+}
+
+var _ Method = (*ARIMA)(nil)
+
+func init() {
+	Register("arima", func(o Options) (Method, error) { return NewARIMA(o) })
+}
+
+// NewARIMA builds the method from its options (see ARIMA).
+func NewARIMA(o Options) (*ARIMA, error) {
+	m := &ARIMA{allowConstant: o.Bool("constant", true)}
+	switch o.String("orders", "auto") {
+	case "auto":
+		m.auto = true
+		for _, k := range []string{"p", "d", "q", "seasonal_p", "seasonal_d", "seasonal_q"} {
+			if _, set := o[k]; set {
+				return nil, fmt.Errorf("arima: option %s needs orders: fixed", k)
+			}
+		}
+	case "fixed":
+		m.fixed = arimaOrders{
+			p: o.Int("p", 0), d: o.Int("d", 0), q: o.Int("q", 0),
+			sp: o.Int("seasonal_p", 0), sd: o.Int("seasonal_d", 0), sq: o.Int("seasonal_q", 0),
+		}
+		f := m.fixed
+		if f.p < 0 || f.q < 0 || f.sp < 0 || f.sq < 0 || f.d < 0 || f.sd < 0 ||
+			f.p > 10 || f.q > 10 || f.sp > 3 || f.sq > 3 || f.d > 2 || f.sd > 1 {
+			return nil, fmt.Errorf("arima: orders out of range: p, q in 0…10, d in 0…2, seasonal_p, seasonal_q in 0…3, seasonal_d in 0…1")
+		}
+	default:
+		return nil, fmt.Errorf("arima: orders must be auto or fixed, not %q", o.String("orders", ""))
+	}
+	return m, nil
+}
+
+// Name implements Method.
+func (*ARIMA) Name() string { return "arima" }
+
+// Fit implements Method.
+func (a *ARIMA) Fit(y []float64, season int) (Fitted, error) {
+	nobs := 0
+	for _, v := range y {
+		if !math.IsNaN(v) {
+			nobs++
+		}
+	}
+	if nobs == 0 {
+		return nil, ErrAllMissing
+	}
+	if a.auto {
+		return a.fitAuto(y, season, nobs)
+	}
+	o := a.fixed
+	o.m = 1
+	if o.sp+o.sd+o.sq > 0 {
+		if season < 2 {
+			return nil, fmt.Errorf("arima: seasonal orders need a season length of at least 2 (have %d)", season)
+		}
+		o.m = season
+	}
+	o.constant = a.allowConstant && o.d+o.sd <= 1
+	return fitArimaOrders(y, o)
+}
+
+// fitArimaOrders fits one form by exact maximum likelihood.
+func fitArimaOrders(y []float64, o arimaOrders) (*ArimaFitted, error) {
+	w := difference(y, o.diffPoly())
+	pr := newArimaProblem(o, w)
+	if pr.nobs < o.nCoef()+3 {
+		return nil, fmt.Errorf("arima: %s needs at least %d observed values after differencing, have %d: %w",
+			o, o.nCoef()+3, pr.nobs, ErrTooShort)
+	}
+	if err := tailObserved(y, o); err != nil {
+		return nil, err
+	}
+	if constantObserved(w) {
+		return degenerateFit(y, o, pr), nil
+	}
+	est, err := pr.fitML()
+	if err != nil {
+		return nil, err
+	}
+	return newArimaFitted(y, pr, est)
+}
+
+func tailObserved(y []float64, o arimaOrders) error {
+	L := o.lost()
+	for _, v := range y[len(y)-L:] {
+		if math.IsNaN(v) {
+			return fmt.Errorf("arima: %s forecasts from the last %d values, and one of them is missing", o, L)
+		}
+	}
+	return nil
+}
+
+// constantObserved reports whether every observed value of w is the same.
+func constantObserved(w []float64) bool {
+	first := math.NaN()
+	for _, v := range w {
+		if math.IsNaN(v) {
+			continue
+		}
+		if math.IsNaN(first) {
+			first = v
+		} else if v != first {
+			return false
+		}
+	}
+	return true
+}
+
+func (a *ARIMA) fitAuto(y []float64, season, nobs int) (Fitted, error) {
+	if nobs < 3 {
+		return nil, fmt.Errorf("arima: automatic orders need at least 3 observed values, have %d: %w", nobs, ErrTooShort)
+	}
+	d, D, seasonal, strength := autoOrders(y, season)
+	base := arimaOrders{d: d, sd: D, m: 1}
+	if seasonal {
+		base.m = season
+	}
+	// Differencing must leave enough values to fit anything.
+	for base.d+base.sd > 0 && countObserved(difference(y, base.diffPoly())) < 4 {
+		if base.sd > 0 {
+			base.sd = 0
+		} else {
+			base.d--
+		}
+	}
+	w := difference(y, base.diffPoly())
+	var warnings []string
+	var fit *ArimaFitted
+	if constantObserved(w) {
+		o := base
+		o.constant = a.allowConstant && o.d+o.sd <= 1
+		if err := tailObserved(y, o); err != nil {
+			return nil, err
+		}
+		fit = degenerateFit(y, o, newArimaProblem(o, w))
+	} else {
+		scored := stepwise(base, w, seasonal, a.allowConstant)
+		for i, est := range scored {
+			if err := tailObserved(y, est.o); err != nil {
+				return nil, err
+			}
+			pr := newArimaProblem(est.o, w)
+			ml, err := pr.fitML()
+			if err != nil {
+				continue
+			}
+			if f, err := newArimaFitted(y, pr, ml); err == nil {
+				fit = f
+				if i > 0 {
+					warnings = append(warnings, fmt.Sprintf("arima: the best form of the search could not be fitted by maximum likelihood; took %s", est.o))
+				}
+				break
+			}
+		}
+		if fit == nil {
+			// Last resort: no AR or MA terms, with the constant when allowed.
+			for _, c := range []bool{a.allowConstant && base.d+base.sd <= 1, false} {
+				o := base
+				o.constant = c
+				f, err := fitArimaOrders(y, o)
+				if err == nil {
+					fit = f
+					warnings = append(warnings, fmt.Sprintf("arima: the stepwise search found no usable form; fell back to %s", o))
+					break
+				}
+				if errors.Is(err, ErrTooShort) {
+					return nil, err
+				}
+			}
+		}
+		if fit == nil {
+			return nil, fmt.Errorf("arima: no form could be fitted")
+		}
+	}
+	fit.auto = true
+	fit.strength = strength
+	fit.warnings = warnings
+	return fit, nil
+}
+
+func countObserved(x []float64) int {
+	n := 0
+	for _, v := range x {
+		if !math.IsNaN(v) {
+			n++
+		}
+	}
+	return n
+}
+
+// ArimaFitted is a fitted ARIMA model. It implements Described, Warner,
+// InSampler, ForecastVariancer and Parameterized.
+type ArimaFitted struct {
+	o        arimaOrders
+	coef     arimaCoef
+	loglik   float64
+	aicc     float64
+	sigma2   float64
+	nobs     int
+	ss       armaSS    // the ARMA part (phi, theta, r)
+	state    []float64 // predicted state after the last value
+	pEnd     []float64 // its covariance (units of σ²), r×r
+	diff     []float64 // c_0…c_L of the differencing
+	tail     []float64 // last L values of y
+	inSample []float64
+
+	auto     bool
+	strength float64
+	warnings []string
+}
+
+var (
+	_ Fitted            = (*ArimaFitted)(nil)
+	_ Described         = (*ArimaFitted)(nil)
+	_ Warner            = (*ArimaFitted)(nil)
+	_ InSampler         = (*ArimaFitted)(nil)
+	_ ForecastVariancer = (*ArimaFitted)(nil)
+	_ Parameterized     = (*ArimaFitted)(nil)
+)
+
+func newArimaFitted(y []float64, pr *arimaProblem, est arimaEstimate) (*ArimaFitted, error) {
+	o := pr.o
+	if err := pr.setCoef(est.coef); err != nil {
+		return nil, fmt.Errorf("arima: %s: %w", o, err)
+	}
+	pred := make([]float64, len(pr.w))
+	if _, ok := pr.ss.filter(pr.deviations(est.coef.mu), &pr.kw, pred, nil); !ok {
+		return nil, fmt.Errorf("arima: %s: the Kalman filter failed", o)
+	}
+	f := &ArimaFitted{
+		o: o, coef: est.coef, loglik: est.loglik, aicc: est.aicc, sigma2: est.sigma2, nobs: est.nobs,
+		ss: armaSS{
+			r:     pr.ss.r,
+			phi:   append([]float64(nil), pr.ss.phi...),
+			theta: append([]float64(nil), pr.ss.theta...),
+		},
+		state:    append([]float64(nil), pr.kw.a...),
+		pEnd:     append([]float64(nil), pr.kw.P...),
+		diff:     o.diffPoly(),
+		strength: math.NaN(),
+	}
+	L := o.lost()
+	f.tail = append([]float64(nil), y[len(y)-L:]...)
+	f.inSample = make([]float64, len(y))
+	for t := range y {
+		if t < L {
+			f.inSample[t] = math.NaN()
+			continue
+		}
+		v := est.coef.mu + pred[t-L]
+		for k := 1; k <= L; k++ {
+			v -= f.diff[k] * y[t-k]
+		}
+		f.inSample[t] = v
+	}
+	return f, nil
+}
+
+// degenerateFit is the model of a differenced series with one observed
+// value repeated: no AR or MA terms, the constant (when fitted) equal to
+// that value, and σ² the mean square of what is left (zero when the
+// constant takes it all; the log-likelihood is then +Inf).
+func degenerateFit(y []float64, o arimaOrders, pr *arimaProblem) *ArimaFitted {
+	o.p, o.q, o.sp, o.sq = 0, 0, 0, 0
+	c := arimaCoef{}
+	if o.constant {
+		c.mu = pr.center
+	}
+	ss := 0.0
+	for _, v := range pr.w {
+		if !math.IsNaN(v) {
+			ss += (v - c.mu) * (v - c.mu)
+		}
+	}
+	s2 := ss / float64(max(pr.nobs, 1))
+	ll := math.Inf(1)
+	if s2 > 0 {
+		ll = -0.5 * float64(pr.nobs) * (math.Log(2*math.Pi*s2) + 1)
+	}
+	f := &ArimaFitted{
+		o: o, coef: c, loglik: ll, aicc: aiccOf(ll, o.nCoef(), pr.nobs), sigma2: s2, nobs: pr.nobs,
+		ss:       armaSS{r: 1, phi: []float64{0}, theta: []float64{1}},
+		state:    []float64{0},
+		pEnd:     []float64{1},
+		diff:     o.diffPoly(),
+		strength: math.NaN(),
+	}
+	L := o.lost()
+	f.tail = append([]float64(nil), y[len(y)-L:]...)
+	f.inSample = make([]float64, len(y))
+	for t := range y {
+		if t < L {
+			f.inSample[t] = math.NaN()
+			continue
+		}
+		v := c.mu
+		for k := 1; k <= L; k++ {
+			v -= f.diff[k] * y[t-k]
+		}
+		f.inSample[t] = v
+	}
+	return f
+}
+
+// Forecast implements Fitted.
+func (f *ArimaFitted) Forecast(h int) []float64 {
+	if h <= 0 {
+		return []float64{}
+	}
+	dev := f.ss.forecastDeviations(f.state, h)
+	L := len(f.diff) - 1
+	ext := make([]float64, L, L+h)
+	copy(ext, f.tail)
+	out := make([]float64, h)
+	for k := 0; k < h; k++ {
+		v := f.coef.mu + dev[k]
+		n := len(ext)
+		for j := 1; j <= L; j++ {
+			v -= f.diff[j] * ext[n-j]
+		}
+		ext = append(ext, v)
+		out[k] = v
+	}
+	return out
+}
+
+// Describe implements Described: the form fitted, for example
+// "arima(0,1,1)(0,1,1)12".
+func (f *ArimaFitted) Describe() string { return f.o.String() }
+
+// Warnings implements Warner.
+func (f *ArimaFitted) Warnings() []string { return f.warnings }
+
+// InSample implements InSampler.
+func (f *ArimaFitted) InSample() []float64 { return f.inSample }
+
+// ResidualVariance implements ForecastVariancer: the maximum-likelihood σ².
+func (f *ArimaFitted) ResidualVariance() float64 { return f.sigma2 }
+
+// ForecastVariance implements ForecastVariancer. The h-step error of y is
+// Σ_{j=1}^{h} κ_{h−j} u_j, with u_j the j-step error of the differenced
+// series and κ the weights of 1/[(1 − B)^d (1 − B^m)^D]; with P the
+// filter's covariance of the state after the last value,
+//
+//	Var_h = σ² [ g_h' P g_h + Σ_{k=0}^{h−2} ψ_k² ],  g_h' = Σ_j κ_{h−j} Z T^{j−1},
+//
+// where ψ are the weights of the full model. Once the filter has converged
+// (P = R R'), g_h' P g_h = ψ_{h−1}² and this is the textbook σ² Σ_{k<h} ψ_k²;
+// on short series it is the exact finite-sample variance that R's
+// predict.Arima reports.
+func (f *ArimaFitted) ForecastVariance(h int) []float64 {
+	if h < 0 {
+		panic("engines: ArimaFitted.ForecastVariance: negative horizon")
+	}
+	psi := f.psiWeights(h)
+	L := len(f.diff) - 1
+	kappa := make([]float64, h)
+	for k := 0; k < h; k++ {
+		v := 0.0
+		if k == 0 {
+			v = 1
+		}
+		for i := 1; i <= min(k, L); i++ {
+			v -= f.diff[i] * kappa[k-i]
+		}
+		kappa[k] = v
+	}
+	r := f.ss.r
+	z := make([]float64, h*r) // row j−1 holds Z T^{j−1}
+	if h > 0 {
+		z[0] = 1
+	}
+	for j := 1; j < h; j++ {
+		prev, cur := z[(j-1)*r:j*r], z[j*r:(j+1)*r]
+		v := 0.0
+		for i := 0; i < r; i++ {
+			v += prev[i] * f.ss.phi[i]
+		}
+		cur[0] = v
+		copy(cur[1:], prev[:r-1])
+	}
+	out := make([]float64, h)
+	g := make([]float64, r)
+	acc := 0.0 // Σ_{k=0}^{h−2} ψ_k²
+	for hh := 1; hh <= h; hh++ {
+		for i := range g {
+			g[i] = 0
+		}
+		for j := 1; j <= hh; j++ {
+			kj := kappa[hh-j]
+			row := z[(j-1)*r : j*r]
+			for i := range g {
+				g[i] += kj * row[i]
+			}
+		}
+		q := 0.0
+		for i := 0; i < r; i++ {
+			s := 0.0
+			for k := 0; k < r; k++ {
+				s += f.pEnd[i*r+k] * g[k]
+			}
+			q += g[i] * s
+		}
+		out[hh-1] = f.sigma2 * (q + acc)
+		acc += psi[hh-1] * psi[hh-1]
+	}
+	return out
+}
+
+// psiWeights returns ψ_0…ψ_{h−1} of the full model.
+func (f *ArimaFitted) psiWeights(h int) []float64 {
+	a := expandAR(f.coef.phi, f.coef.sphi, f.o.m, nil)
+	b := expandMA(f.coef.theta, f.coef.stheta, f.o.m, nil)
+	// AR side including the differencing: (1 − Σ a_k B^k)·Σ c_k B^k.
+	ar := make([]float64, len(a)+1)
+	ar[0] = 1
+	for i, v := range a {
+		ar[i+1] = -v
+	}
+	full := make([]float64, len(ar)+len(f.diff)-1)
+	for i, u := range ar {
+		for j, c := range f.diff {
+			full[i+j] += u * c
+		}
+	}
+	psi := make([]float64, h)
+	for j := 0; j < h; j++ {
+		v := 0.0
+		if j == 0 {
+			v = 1
+		} else if j <= len(b) {
+			v = b[j-1]
+		}
+		for i := 1; i < len(full) && i <= j; i++ {
+			v -= full[i] * psi[j-i]
+		}
+		psi[j] = v
+	}
+	return psi
+}
+
+// Params implements Parameterized: ar1…, ma1…, seasonal_ar1…,
+// seasonal_ma1…, mean or drift, innovation_variance.
+func (f *ArimaFitted) Params() []Param {
+	var out []Param
+	add := func(prefix string, v []float64) {
+		for i, x := range v {
+			out = append(out, Param{Name: fmt.Sprintf("%s%d", prefix, i+1), Value: x})
+		}
+	}
+	add("ar", f.coef.phi)
+	add("ma", f.coef.theta)
+	add("seasonal_ar", f.coef.sphi)
+	add("seasonal_ma", f.coef.stheta)
+	if f.o.constant {
+		if f.o.d+f.o.sd == 0 {
+			out = append(out, Param{Name: "mean", Value: f.coef.mu})
+		} else {
+			out = append(out, Param{Name: "drift", Value: f.coef.mu / f.o.driftStep()})
+		}
+	}
+	out = append(out, Param{Name: "innovation_variance", Value: f.sigma2})
+	return out
+}
+
+// LogLik returns the maximised exact log-likelihood of the differenced
+// series, and AICc the corrected Akaike criterion from it.
+func (f *ArimaFitted) LogLik() float64 { return f.loglik }
+
+// AICc returns −2ℓ + 2k + 2k(k+1)/(n−k−1), k the coefficients plus σ².
+func (f *ArimaFitted) AICc() float64 { return f.aicc }

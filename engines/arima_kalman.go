@@ -1,0 +1,477 @@
+package engines
+
+import (
+	"errors"
+	"math"
+)
+
+// This file holds the numerics under the arima method: the polynomial
+// products of the multiplicative seasonal model, the transformation that
+// keeps the AR and MA parts stationary and invertible, the stationary start
+// covariance of the state, the Kalman filter that evaluates the exact
+// Gaussian likelihood, and the conditional sum of squares used for start
+// values. Everything works on w, the series after differencing.
+
+// errArimaNonStationary reports a parameter point whose autocovariances do
+// not exist (an AR polynomial with a root on or inside the unit circle, up to
+// rounding). The optimisers treat it as a point to avoid.
+var errArimaNonStationary = errors.New("arima: non-stationary parameters")
+
+// expandAR returns a_1…a_{p+mP} with
+//
+//	(1 − φ_1B − … − φ_pB^p)(1 − Φ_1B^m − … − Φ_PB^{mP}) = 1 − Σ_k a_k B^k.
+func expandAR(phi, sphi []float64, m int, out []float64) []float64 {
+	n := len(phi) + m*len(sphi)
+	out = resize(out, n)
+	copy(out, phi)
+	for j, s := range sphi {
+		k := (j + 1) * m
+		out[k-1] += s
+		for i, f := range phi {
+			out[k+i] -= f * s
+		}
+	}
+	return out
+}
+
+// expandMA returns b_1…b_{q+mQ} with
+//
+//	(1 + θ_1B + … + θ_qB^q)(1 + Θ_1B^m + … + Θ_QB^{mQ}) = 1 + Σ_k b_k B^k.
+func expandMA(theta, stheta []float64, m int, out []float64) []float64 {
+	n := len(theta) + m*len(stheta)
+	out = resize(out, n)
+	copy(out, theta)
+	for j, s := range stheta {
+		k := (j + 1) * m
+		out[k-1] += s
+		for i, f := range theta {
+			out[k+i] += f * s
+		}
+	}
+	return out
+}
+
+// resize returns s with length n and every element zero, reusing its
+// storage when it is large enough.
+func resize(s []float64, n int) []float64 {
+	if cap(s) < n {
+		return make([]float64, n)
+	}
+	s = s[:n]
+	for i := range s {
+		s[i] = 0
+	}
+	return s
+}
+
+// pacfToAR maps unbounded values to the coefficients of a stationary AR
+// polynomial 1 − Σ φ_i B^i: each value becomes a partial autocorrelation
+// tanh(raw_i) ∈ (−1, 1), and the Durbin–Levinson recursion turns the
+// partial autocorrelations into coefficients (Jones 1980; Monahan 1984 for
+// its use on MA polynomials). work needs len(raw) elements.
+func pacfToAR(raw, out, work []float64) {
+	p := len(raw)
+	for j := 0; j < p; j++ {
+		out[j] = math.Tanh(raw[j])
+		work[j] = out[j]
+	}
+	for j := 1; j < p; j++ {
+		a := out[j]
+		for k := 0; k < j; k++ {
+			work[k] -= a * out[j-k-1]
+		}
+		copy(out[:j], work[:j])
+	}
+}
+
+// arToPACF inverts pacfToAR: it runs the Durbin–Levinson recursion
+// backwards and returns atanh of the partial autocorrelations. Partial
+// autocorrelations at or beyond ±1 (a non-stationary input) are clipped to
+// ±0.99, so the result is always finite.
+func arToPACF(phi []float64) []float64 {
+	p := len(phi)
+	cur := append([]float64(nil), phi...)
+	work := make([]float64, p)
+	for j := p - 1; j > 0; j-- {
+		a := clampPACF(cur[j])
+		cur[j] = a
+		for k := 0; k < j; k++ {
+			work[k] = (cur[k] + a*cur[j-k-1]) / (1 - a*a)
+		}
+		copy(cur[:j], work[:j])
+	}
+	out := make([]float64, p)
+	for j := range cur {
+		out[j] = math.Atanh(clampPACF(cur[j]))
+	}
+	return out
+}
+
+func clampPACF(a float64) float64 {
+	const lim = 0.99
+	switch {
+	case math.IsNaN(a):
+		return 0
+	case a > lim:
+		return lim
+	case a < -lim:
+		return -lim
+	}
+	return a
+}
+
+// armaSS is the ARMA(p', q') part of a model in the state-space form of
+// Harvey (1989, §3.4) used by Gardner, Harvey and Phillips (1980): with
+// r = max(p', q'+1), the state α_t has r elements and
+//
+//	w_t − μ = α_t[0],   α_{t+1} = T α_t + R ε_{t+1},
+//
+// where T has φ_1…φ_r (zero beyond p') in its first column and ones on its
+// superdiagonal, and R = (1, θ_1, …, θ_{r−1}) (zero beyond q'). The
+// innovation variance is 1 here; it is concentrated out of the likelihood.
+type armaSS struct {
+	r     int
+	phi   []float64 // φ_1…φ_r, zero-padded
+	theta []float64 // θ_0 = 1, θ_1…θ_{r−1}, zero-padded
+	p0    []float64 // stationary covariance of α_1, r×r row-major
+
+	// scratch
+	psi, gamma, sys []float64
+}
+
+// set loads the expanded polynomials a (AR, 1 − Σ a_k B^k) and b (MA,
+// 1 + Σ b_k B^k) and computes the stationary covariance of the state. It
+// returns errArimaNonStationary when the autocovariances cannot be solved
+// for.
+func (s *armaSS) set(a, b []float64) error {
+	pp, qq := len(a), len(b)
+	r := max(pp, qq+1)
+	s.r = r
+	s.phi = resize(s.phi, r)
+	copy(s.phi, a)
+	s.theta = resize(s.theta, r)
+	s.theta[0] = 1
+	copy(s.theta[1:], b)
+
+	// ψ-weights of the ARMA part: ψ_0 = 1, ψ_j = θ_j + Σ_i φ_i ψ_{j−i}.
+	s.psi = resize(s.psi, r+1)
+	for j := 0; j <= r; j++ {
+		v := 0.0
+		if j < r {
+			v = s.theta[j]
+		}
+		for i := 1; i <= min(j, pp); i++ {
+			v += a[i-1] * s.psi[j-i]
+		}
+		s.psi[j] = v
+	}
+
+	// Autocovariances γ(0…r) (unit innovation variance): for k = 0…p',
+	//   γ(k) − Σ_i φ_i γ(|k−i|) = Σ_{j=k}^{q'} θ_j ψ_{j−k},
+	// a (p'+1)-square linear system; beyond p' the same relation gives
+	// γ(k) directly (Brockwell & Davis 1991, §3.3, method 3).
+	s.gamma = resize(s.gamma, r+1)
+	rhs := func(k int) float64 {
+		v := 0.0
+		for j := k; j <= qq; j++ {
+			th := 1.0
+			if j > 0 {
+				th = b[j-1]
+			}
+			v += th * s.psi[j-k]
+		}
+		return v
+	}
+	nsys := pp + 1
+	s.sys = resize(s.sys, nsys*(nsys+1))
+	A := s.sys // nsys rows of nsys+1 (augmented)
+	w := nsys + 1
+	for k := 0; k <= pp; k++ {
+		A[k*w+k] += 1
+		for i := 1; i <= pp; i++ {
+			l := k - i
+			if l < 0 {
+				l = -l
+			}
+			A[k*w+l] -= a[i-1]
+		}
+		A[k*w+nsys] = rhs(k)
+	}
+	if !solveAugmented(A, nsys) {
+		return errArimaNonStationary
+	}
+	for k := 0; k <= pp && k <= r; k++ {
+		s.gamma[k] = A[k*w+nsys]
+	}
+	for k := pp + 1; k <= r; k++ {
+		v := rhs(k)
+		for i := 1; i <= pp; i++ {
+			v += a[i-1] * s.gamma[k-i]
+		}
+		s.gamma[k] = v
+	}
+	if !(s.gamma[0] > 0) || math.IsInf(s.gamma[0], 0) || s.gamma[0] > 1e12 {
+		return errArimaNonStationary
+	}
+
+	// Stationary covariance P of the state. The first row follows from
+	// α_t[j] = Σ_{k=j}^{r−1} (φ_{k+1} y_{t+j−k−1} + θ_k ε_{t+j−k}):
+	//   P_{0j} = Σ_{k=j}^{r−1} (φ_{k+1} γ(k−j+1) + θ_k ψ_{k−j});
+	// the rest from P = T P T' + R R' written element-wise,
+	//   P_ij = φ_{i+1}φ_{j+1}P_00 + φ_{i+1}P_{0,j+1} + φ_{j+1}P_{0,i+1}
+	//          + P_{i+1,j+1} + θ_iθ_j,
+	// filled from the bottom-right corner (indices ≥ r are zero).
+	s.p0 = resize(s.p0, r*r)
+	P := s.p0
+	for j := 0; j < r; j++ {
+		v := 0.0
+		for k := j; k < r; k++ {
+			v += s.phi[k]*s.gamma[k-j+1] + s.theta[k]*s.psi[k-j]
+		}
+		P[j] = v
+		P[j*r] = v
+	}
+	P[0] = s.gamma[0]
+	at := func(i, j int) float64 {
+		if i >= r || j >= r {
+			return 0
+		}
+		return P[i*r+j]
+	}
+	for i := r - 1; i >= 1; i-- {
+		for j := r - 1; j >= i; j-- {
+			v := s.phi[i]*s.phi[j]*P[0] + s.phi[i]*at(0, j+1) + s.phi[j]*at(0, i+1) +
+				at(i+1, j+1) + s.theta[i]*s.theta[j]
+			P[i*r+j] = v
+			P[j*r+i] = v
+		}
+	}
+	for _, v := range P {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return errArimaNonStationary
+		}
+	}
+	return nil
+}
+
+// solveAugmented solves the n×n system stored row-major with its right-hand
+// side as column n (rows of n+1), by Gaussian elimination with partial
+// pivoting; the solution replaces column n. It reports false when the
+// matrix is singular to working precision.
+func solveAugmented(A []float64, n int) bool {
+	w := n + 1
+	for c := 0; c < n; c++ {
+		piv, best := c, math.Abs(A[c*w+c])
+		for r := c + 1; r < n; r++ {
+			if v := math.Abs(A[r*w+c]); v > best {
+				piv, best = r, v
+			}
+		}
+		if !(best > 1e-13) {
+			return false
+		}
+		if piv != c {
+			for k := c; k < w; k++ {
+				A[c*w+k], A[piv*w+k] = A[piv*w+k], A[c*w+k]
+			}
+		}
+		inv := 1 / A[c*w+c]
+		for r := c + 1; r < n; r++ {
+			f := A[r*w+c] * inv
+			if f == 0 {
+				continue
+			}
+			for k := c; k < w; k++ {
+				A[r*w+k] -= f * A[c*w+k]
+			}
+		}
+	}
+	for c := n - 1; c >= 0; c-- {
+		v := A[c*w+n]
+		for k := c + 1; k < n; k++ {
+			v -= A[c*w+k] * A[k*w+n]
+		}
+		A[c*w+n] = v / A[c*w+c]
+	}
+	return true
+}
+
+// kalmanResult is what one pass of the filter gives.
+type kalmanResult struct {
+	ssq    float64 // Σ v_t² / F_t
+	sumLog float64 // Σ log F_t
+	nobs   int     // observed values used
+}
+
+// kalmanWork is the filter's scratch; a is left holding the predicted state
+// α_{n+1|n} after a pass.
+type kalmanWork struct {
+	a, pc []float64
+	P, M  []float64
+}
+
+// filter runs the Kalman filter of s over the deviations x_t = w_t − μ
+// (NaN = missing: the update is skipped and the prediction carried on),
+// starting from α_1 ~ (0, P0). When pred is not nil, pred[t] receives the
+// one-step prediction of x_t, and when fvar is not nil, fvar[t] its
+// variance F_t (in units of σ²).
+//
+// Once the predicted covariance has converged to R R' (to 1e-12, which
+// happens for any invertible model), the filter switches to the fast
+// recursions of Gardner et al. (1980): F_t = 1 and the gain is R, with no
+// covariance arithmetic, until a missing value makes it return to the full
+// recursions. It reports false when a prediction variance is not positive.
+func (s *armaSS) filter(x []float64, ws *kalmanWork, pred, fvar []float64) (kalmanResult, bool) {
+	r := s.r
+	ws.a = resize(ws.a, r)
+	ws.pc = resize(ws.pc, r)
+	ws.P = resize(ws.P, r*r)
+	ws.M = resize(ws.M, r*r)
+	a, pc, P, M := ws.a, ws.pc, ws.P, ws.M
+	copy(P, s.p0)
+	phi, theta := s.phi, s.theta
+	var res kalmanResult
+	fast := false
+	for t, xt := range x {
+		if pred != nil {
+			pred[t] = a[0]
+		}
+		if fvar != nil {
+			fvar[t] = P[0]
+		}
+		observed := !math.IsNaN(xt)
+		if fast && !observed {
+			// Leave the fast recursions: the predicted covariance is R R'.
+			for i := 0; i < r; i++ {
+				for j := 0; j < r; j++ {
+					P[i*r+j] = theta[i] * theta[j]
+				}
+			}
+			fast = false
+		}
+		if fast {
+			if fvar != nil {
+				fvar[t] = 1
+			}
+			v := xt - a[0]
+			res.ssq += v * v
+			res.nobs++
+			// a ← T (a + R v)
+			for i := 0; i < r; i++ {
+				a[i] += theta[i] * v
+			}
+			a0 := a[0]
+			for i := 0; i < r-1; i++ {
+				a[i] = phi[i]*a0 + a[i+1]
+			}
+			a[r-1] = phi[r-1] * a0
+			continue
+		}
+		if observed {
+			F := P[0]
+			if !(F > 0) || math.IsInf(F, 0) {
+				return res, false
+			}
+			v := xt - a[0]
+			res.ssq += v * v / F
+			res.sumLog += math.Log(F)
+			res.nobs++
+			for i := 0; i < r; i++ {
+				pc[i] = P[i*r]
+			}
+			g := v / F
+			for i := 0; i < r; i++ {
+				a[i] += pc[i] * g
+			}
+			for i := 0; i < r; i++ {
+				f := pc[i] / F
+				for j := 0; j < r; j++ {
+					P[i*r+j] -= f * pc[j]
+				}
+			}
+		}
+		// Predict: a ← T a, P ← T P T' + R R' with M = T P.
+		a0 := a[0]
+		for i := 0; i < r-1; i++ {
+			a[i] = phi[i]*a0 + a[i+1]
+		}
+		a[r-1] = phi[r-1] * a0
+		for i := 0; i < r; i++ {
+			for j := 0; j < r; j++ {
+				v := phi[i] * P[j]
+				if i+1 < r {
+					v += P[(i+1)*r+j]
+				}
+				M[i*r+j] = v
+			}
+		}
+		conv := true
+		for i := 0; i < r; i++ {
+			mi0 := M[i*r]
+			for j := 0; j < r; j++ {
+				v := phi[j]*mi0 + theta[i]*theta[j]
+				if j+1 < r {
+					v += M[i*r+j+1]
+				}
+				P[i*r+j] = v
+				if conv && math.Abs(v-theta[i]*theta[j]) > 1e-12 {
+					conv = false
+				}
+			}
+		}
+		fast = conv
+	}
+	return res, true
+}
+
+// forecastDeviations returns the 1…h step predictions of x after the end of
+// a filtered series, from the predicted state a = α_{n+1|n}.
+func (s *armaSS) forecastDeviations(a []float64, h int) []float64 {
+	r := s.r
+	st := append([]float64(nil), a...)
+	out := make([]float64, h)
+	for k := 0; k < h; k++ {
+		out[k] = st[0]
+		a0 := st[0]
+		for i := 0; i < r-1; i++ {
+			st[i] = s.phi[i]*a0 + st[i+1]
+		}
+		st[r-1] = s.phi[r-1] * a0
+	}
+	return out
+}
+
+// cssResiduals computes the conditional residuals of the deviations x
+// under AR coefficients a and MA coefficients b: for t ≥ len(a),
+//
+//	e_t = x_t − Σ_i a_i x_{t−i} − Σ_j b_j e_{t−j},
+//
+// with e_t = 0 before len(a) and wherever a needed x is missing. It
+// returns Σ e_t² and the number of residuals that entered it.
+func cssResiduals(x, a, b, e []float64) (float64, int) {
+	pp := len(a)
+	ssq, nu := 0.0, 0
+	for t := range x {
+		e[t] = 0
+		if t < pp {
+			continue
+		}
+		v := x[t]
+		for i, ai := range a {
+			v -= ai * x[t-i-1]
+		}
+		if math.IsNaN(v) {
+			continue
+		}
+		for j, bj := range b {
+			if t-j-1 < 0 {
+				break
+			}
+			v -= bj * e[t-j-1]
+		}
+		e[t] = v
+		ssq += v * v
+		nu++
+	}
+	return ssq, nu
+}
