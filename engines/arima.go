@@ -89,10 +89,13 @@ import (
 //   - Durbin, J., Koopman, S. J. (2012). Time Series Analysis by State
 //     Space Methods, 2nd ed. Oxford.
 type ARIMA struct {
-	auto          bool
-	fixed         arimaOrders // m and constant filled per series
-	allowConstant bool
+	// each order is fixed (≥ 0) or chosen per series (autoOrder)
+	p, d, q, sp, sd, sq int
+	allowConstant       bool
 }
+
+// autoOrder marks an order the method chooses per series.
+const autoOrder = -1
 
 var _ Method = (*ARIMA)(nil)
 
@@ -100,32 +103,44 @@ func init() {
 	Register("arima", func(o Options) (Method, error) { return NewARIMA(o) })
 }
 
-// NewARIMA builds the method from its options (see ARIMA).
+// NewARIMA builds the method from its options (see ARIMA): p, d, q,
+// seasonal_p, seasonal_d, seasonal_q each an integer or "auto" (the
+// default), and constant (bool, default true).
 func NewARIMA(o Options) (*ARIMA, error) {
 	m := &ARIMA{allowConstant: o.Bool("constant", true)}
-	switch o.String("orders", "auto") {
-	case "auto":
-		m.auto = true
-		for _, k := range []string{"p", "d", "q", "seasonal_p", "seasonal_d", "seasonal_q"} {
-			if _, set := o[k]; set {
-				return nil, fmt.Errorf("arima: option %s needs orders: fixed", k)
+	for _, f := range []struct {
+		key string
+		dst *int
+		max int
+	}{
+		{"p", &m.p, autoMaxP}, {"d", &m.d, autoMaxD}, {"q", &m.q, autoMaxQ},
+		{"seasonal_p", &m.sp, autoMaxSP}, {"seasonal_d", &m.sd, 1}, {"seasonal_q", &m.sq, autoMaxSQ},
+	} {
+		*f.dst = autoOrder
+		v, set := o[f.key]
+		if !set {
+			continue
+		}
+		if w, ok := v.(string); ok {
+			if w != "auto" {
+				return nil, fmt.Errorf("arima: %s must be an integer or auto, not %q", f.key, w)
 			}
+			continue
 		}
-	case "fixed":
-		m.fixed = arimaOrders{
-			p: o.Int("p", 0), d: o.Int("d", 0), q: o.Int("q", 0),
-			sp: o.Int("seasonal_p", 0), sd: o.Int("seasonal_d", 0), sq: o.Int("seasonal_q", 0),
+		n := o.Int(f.key, -1)
+		if n < 0 || n > f.max {
+			return nil, fmt.Errorf("arima: %s must be auto or an integer in 0…%d, found %v", f.key, f.max, v)
 		}
-		f := m.fixed
-		if f.p < 0 || f.q < 0 || f.sp < 0 || f.sq < 0 || f.d < 0 || f.sd < 0 ||
-			f.p > 10 || f.q > 10 || f.sp > 3 || f.sq > 3 || f.d > 2 || f.sd > 1 {
-			return nil, fmt.Errorf("arima: orders out of range: p, q in 0…10, d in 0…2, seasonal_p, seasonal_q in 0…3, seasonal_d in 0…1")
-		}
-	default:
-		return nil, fmt.Errorf("arima: orders must be auto or fixed, not %q", o.String("orders", ""))
+		*f.dst = n
 	}
 	return m, nil
 }
+
+func (a *ARIMA) allFixed() bool {
+	return a.p >= 0 && a.d >= 0 && a.q >= 0 && a.sp >= 0 && a.sd >= 0 && a.sq >= 0
+}
+
+func (a *ARIMA) anySeasonalFixed() bool { return a.sp > 0 || a.sd > 0 || a.sq > 0 }
 
 // Name implements Method.
 func (*ARIMA) Name() string { return "arima" }
@@ -141,15 +156,14 @@ func (a *ARIMA) Fit(y []float64, season int) (Fitted, error) {
 	if nobs == 0 {
 		return nil, ErrAllMissing
 	}
-	if a.auto {
+	if a.anySeasonalFixed() && season < 2 {
+		return nil, fmt.Errorf("arima: seasonal orders need a season length of at least 2 (have %d)", season)
+	}
+	if !a.allFixed() {
 		return a.fitAuto(y, season, nobs)
 	}
-	o := a.fixed
-	o.m = 1
+	o := arimaOrders{p: a.p, d: a.d, q: a.q, sp: a.sp, sd: a.sd, sq: a.sq, m: 1}
 	if o.sp+o.sd+o.sq > 0 {
-		if season < 2 {
-			return nil, fmt.Errorf("arima: seasonal orders need a season length of at least 2 (have %d)", season)
-		}
 		o.m = season
 	}
 	o.constant = a.allowConstant && o.d+o.sd <= 1
@@ -207,19 +221,26 @@ func (a *ARIMA) fitAuto(y []float64, season, nobs int) (Fitted, error) {
 	if nobs < 3 {
 		return nil, fmt.Errorf("arima: automatic orders need at least 3 observed values, have %d: %w", nobs, ErrTooShort)
 	}
-	d, D, seasonal, strength := autoOrders(y, season)
+	d, D, seasonal, strength := autoOrders(y, season, a.d, a.sd)
+	if a.anySeasonalFixed() {
+		seasonal = true
+	}
 	base := arimaOrders{d: d, sd: D, m: 1}
 	if seasonal {
 		base.m = season
 	}
-	// Differencing must leave enough values to fit anything.
+	// Differencing chosen by the tests must leave enough values to fit
+	// anything.
 	for base.d+base.sd > 0 && countObserved(difference(y, base.diffPoly())) < 4 {
-		if base.sd > 0 {
+		if base.sd > 0 && a.sd == autoOrder {
 			base.sd = 0
-		} else {
+		} else if base.d > 0 && a.d == autoOrder {
 			base.d--
+		} else {
+			break
 		}
 	}
+	fix := searchKey{p: a.p, q: a.q, sp: a.sp, sq: a.sq}
 	w := difference(y, base.diffPoly())
 	var warnings []string
 	var fit *ArimaFitted
@@ -231,13 +252,13 @@ func (a *ARIMA) fitAuto(y []float64, season, nobs int) (Fitted, error) {
 		}
 		fit = degenerateFit(y, o, newArimaProblem(o, w))
 	} else {
-		scored := stepwise(base, w, seasonal, a.allowConstant)
+		scored := stepwise(base, w, seasonal, a.allowConstant, fix)
 		for i, est := range scored {
 			if err := tailObserved(y, est.o); err != nil {
 				return nil, err
 			}
 			pr := newArimaProblem(est.o, w)
-			ml, err := pr.fitML()
+			ml, err := pr.fitMLFrom(est.raw)
 			if err != nil {
 				continue
 			}
@@ -250,9 +271,11 @@ func (a *ARIMA) fitAuto(y []float64, season, nobs int) (Fitted, error) {
 			}
 		}
 		if fit == nil {
-			// Last resort: no AR or MA terms, with the constant when allowed.
+			// Last resort: no AR or MA terms beyond the fixed ones, with the
+			// constant when allowed.
 			for _, c := range []bool{a.allowConstant && base.d+base.sd <= 1, false} {
 				o := base
+				o.p, o.q, o.sp, o.sq = max(a.p, 0), max(a.q, 0), max(a.sp, 0), max(a.sq, 0)
 				o.constant = c
 				f, err := fitArimaOrders(y, o)
 				if err == nil {

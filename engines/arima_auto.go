@@ -249,24 +249,32 @@ type autoChoice struct {
 	tried    int     // forms scored by the search
 }
 
-// autoOrders chooses D and d for y with season length m (m < 2: none).
-// seasonal reports whether seasonal terms are considered at all: m ≥ 2 and
-// at least three full seasons of values.
-func autoOrders(y []float64, m int) (d, D int, seasonal bool, strength float64) {
+// autoOrders chooses D and d for y with season length m (m < 2: none);
+// fixedD and fixedd, when not autoOrder, are taken as given. seasonal
+// reports whether seasonal terms are considered at all: m ≥ 2 and at least
+// three full seasons of values.
+func autoOrders(y []float64, m, fixedd, fixedD int) (d, D int, seasonal bool, strength float64) {
 	strength = math.NaN()
 	seasonal = m >= 2 && len(y) >= 3*m
 	x := y
-	if seasonal {
+	switch {
+	case fixedD >= 0:
+		D = fixedD
+	case seasonal:
 		if s, ok := seasonalStrength(y, m); ok {
 			strength = s
 			if s > seasonalStrengthLimit {
 				D = 1
-				x = difference(y, arimaOrders{sd: 1, m: m}.diffPoly())
 			}
 		}
 	}
-	d = kpssDiffs(x)
-	return d, D, seasonal, strength
+	if D > 0 {
+		x = difference(y, arimaOrders{sd: D, m: m}.diffPoly())
+	}
+	if fixedd >= 0 {
+		return fixedd, D, seasonal, strength
+	}
+	return kpssDiffs(x), D, seasonal, strength
 }
 
 type searchKey struct {
@@ -276,8 +284,9 @@ type searchKey struct {
 
 // stepwise runs the stepwise search over (p, q, P, Q, constant) on the
 // differenced series w. base carries d, D and m; allowConst whether a
-// constant may be tried. It returns the scored forms, best first.
-func stepwise(base arimaOrders, w []float64, seasonal, allowConst bool) []arimaEstimate {
+// constant may be tried; the orders of fix that are not autoOrder are held
+// at their values. It returns the scored forms, best first.
+func stepwise(base arimaOrders, w []float64, seasonal, allowConst bool, fix searchKey) []arimaEstimate {
 	seen := map[searchKey]bool{}
 	var scored []arimaEstimate
 	best := math.Inf(1)
@@ -286,6 +295,22 @@ func stepwise(base arimaOrders, w []float64, seasonal, allowConst bool) []arimaE
 	constOK := allowConst && base.d+base.sd <= 1
 
 	try := func(k searchKey) bool {
+		if fix.p >= 0 {
+			k.p = fix.p
+		}
+		if fix.q >= 0 {
+			k.q = fix.q
+		}
+		if fix.sp >= 0 {
+			k.sp = fix.sp
+		}
+		if fix.sq >= 0 {
+			k.sq = fix.sq
+		}
+		if k.p < 0 || k.q < 0 || k.sp < 0 || k.sq < 0 ||
+			k.p > autoMaxP || k.q > autoMaxQ || k.sp > autoMaxSP || k.sq > autoMaxSQ {
+			return false
+		}
 		if seen[k] || len(seen) >= autoMaxModels {
 			return false
 		}
@@ -346,10 +371,6 @@ func stepwise(base arimaOrders, w []float64, seasonal, allowConst bool) []arimaE
 			moves = append(moves, searchKey{c.p, c.q, c.sp, c.sq, !c.c})
 		}
 		for _, k := range moves {
-			if k.p < 0 || k.q < 0 || k.sp < 0 || k.sq < 0 ||
-				k.p > autoMaxP || k.q > autoMaxQ || k.sp > autoMaxSP || k.sq > autoMaxSQ {
-				continue
-			}
 			if try(k) {
 				moved = true
 				break

@@ -381,7 +381,11 @@ func (pr *arimaProblem) evaluateCoef(c arimaCoef) (arimaEstimate, error) {
 
 // fitML fits the form by exact maximum likelihood from CSS start values.
 func (pr *arimaProblem) fitML() (arimaEstimate, error) {
-	start := pr.startCSS(200)
+	return pr.fitMLFrom(pr.startCSS(200))
+}
+
+// fitMLFrom fits the form by exact maximum likelihood from start.
+func (pr *arimaProblem) fitMLFrom(start []float64) (arimaEstimate, error) {
 	x, _ := minimiseBFGS(pr.exact, start, 500)
 	return pr.evaluate(x)
 }

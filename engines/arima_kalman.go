@@ -303,11 +303,11 @@ type kalmanResult struct {
 	nobs   int     // observed values used
 }
 
-// kalmanWork is the filter's scratch; a is left holding the predicted state
-// α_{n+1|n} after a pass.
+// kalmanWork is the filter's scratch; after a pass a holds the predicted
+// state α_{n+1|n} and P its covariance (full, r×r).
 type kalmanWork struct {
-	a, pc []float64
-	P, M  []float64
+	a, pc, row []float64
+	P          []float64
 }
 
 // filter runs the Kalman filter of s over the deviations x_t = w_t − μ
@@ -316,18 +316,21 @@ type kalmanWork struct {
 // one-step prediction of x_t, and when fvar is not nil, fvar[t] its
 // variance F_t (in units of σ²).
 //
-// Once the predicted covariance has converged to R R' (to 1e-12, which
-// happens for any invertible model), the filter switches to the fast
-// recursions of Gardner et al. (1980): F_t = 1 and the gain is R, with no
-// covariance arithmetic, until a missing value makes it return to the full
+// Only the upper triangle of the covariance is kept during the pass (the
+// update and the prediction read nothing else), which halves the work;
+// it is mirrored at the end. Once the predicted covariance has converged
+// to R R' (every element within 1e-12, which happens for any invertible
+// model given enough data), the filter switches to the fast recursions of
+// Gardner et al. (1980): F_t = 1 and the gain is R, with no covariance
+// arithmetic, until a missing value makes it return to the full
 // recursions. It reports false when a prediction variance is not positive.
 func (s *armaSS) filter(x []float64, ws *kalmanWork, pred, fvar []float64) (kalmanResult, bool) {
 	r := s.r
 	ws.a = resize(ws.a, r)
 	ws.pc = resize(ws.pc, r)
+	ws.row = resize(ws.row, r+1)
 	ws.P = resize(ws.P, r*r)
-	ws.M = resize(ws.M, r*r)
-	a, pc, P, M := ws.a, ws.pc, ws.P, ws.M
+	a, pc, row, P := ws.a, ws.pc, ws.row, ws.P
 	copy(P, s.p0)
 	phi, theta := s.phi, s.theta
 	var res kalmanResult
@@ -343,7 +346,7 @@ func (s *armaSS) filter(x []float64, ws *kalmanWork, pred, fvar []float64) (kalm
 		if fast && !observed {
 			// Leave the fast recursions: the predicted covariance is R R'.
 			for i := 0; i < r; i++ {
-				for j := 0; j < r; j++ {
+				for j := i; j < r; j++ {
 					P[i*r+j] = theta[i] * theta[j]
 				}
 			}
@@ -376,50 +379,54 @@ func (s *armaSS) filter(x []float64, ws *kalmanWork, pred, fvar []float64) (kalm
 			res.ssq += v * v / F
 			res.sumLog += math.Log(F)
 			res.nobs++
-			for i := 0; i < r; i++ {
-				pc[i] = P[i*r]
-			}
+			copy(pc, P[:r]) // P[0][i] = P[i][0]
 			g := v / F
 			for i := 0; i < r; i++ {
 				a[i] += pc[i] * g
 			}
 			for i := 0; i < r; i++ {
 				f := pc[i] / F
-				for j := 0; j < r; j++ {
-					P[i*r+j] -= f * pc[j]
+				if f == 0 {
+					continue
+				}
+				pi := P[i*r : (i+1)*r]
+				for j := i; j < r; j++ {
+					pi[j] -= f * pc[j]
 				}
 			}
 		}
-		// Predict: a ← T a, P ← T P T' + R R' with M = T P.
+		// Predict: a ← T a and, element-wise on the upper triangle,
+		//   P_ij ← φ_iφ_j P_00 + φ_i P_{0,j+1} + φ_j P_{0,i+1} + P_{i+1,j+1} + θ_iθ_j
+		// (indices ≥ r are zero), in place in ascending order: P_{i+1,j+1}
+		// is read before it is overwritten, row 0 is saved first.
 		a0 := a[0]
 		for i := 0; i < r-1; i++ {
 			a[i] = phi[i]*a0 + a[i+1]
 		}
 		a[r-1] = phi[r-1] * a0
-		for i := 0; i < r; i++ {
-			for j := 0; j < r; j++ {
-				v := phi[i] * P[j]
-				if i+1 < r {
-					v += P[(i+1)*r+j]
-				}
-				M[i*r+j] = v
-			}
-		}
+		copy(row, P[:r])
+		row[r] = 0
+		p00 := row[0]
 		conv := true
 		for i := 0; i < r; i++ {
-			mi0 := M[i*r]
-			for j := 0; j < r; j++ {
-				v := phi[j]*mi0 + theta[i]*theta[j]
-				if j+1 < r {
-					v += M[i*r+j+1]
+			fi, ti, ri := phi[i], theta[i], row[i+1]
+			for j := i; j < r; j++ {
+				v := fi*phi[j]*p00 + fi*row[j+1] + phi[j]*ri + ti*theta[j]
+				if i+1 < r && j+1 < r {
+					v += P[(i+1)*r+j+1]
 				}
 				P[i*r+j] = v
-				if conv && math.Abs(v-theta[i]*theta[j]) > 1e-12 {
+				if conv && math.Abs(v-ti*theta[j]) > 1e-12 {
 					conv = false
 				}
 			}
 		}
 		fast = conv
+	}
+	for i := 0; i < r; i++ {
+		for j := i + 1; j < r; j++ {
+			P[j*r+i] = P[i*r+j]
+		}
 	}
 	return res, true
 }
@@ -447,8 +454,21 @@ func (s *armaSS) forecastDeviations(a []float64, h int) []float64 {
 //	e_t = x_t − Σ_i a_i x_{t−i} − Σ_j b_j e_{t−j},
 //
 // with e_t = 0 before len(a) and wherever a needed x is missing. It
-// returns Σ e_t² and the number of residuals that entered it.
+// returns Σ e_t² and the number of residuals that entered it. Zero
+// coefficients (most of a seasonal product) are skipped.
 func cssResiduals(x, a, b, e []float64) (float64, int) {
+	var ai, bi [64]int
+	aIdx, bIdx := ai[:0], bi[:0]
+	for i, v := range a {
+		if v != 0 {
+			aIdx = append(aIdx, i)
+		}
+	}
+	for j, v := range b {
+		if v != 0 {
+			bIdx = append(bIdx, j)
+		}
+	}
 	pp := len(a)
 	ssq, nu := 0.0, 0
 	for t := range x {
@@ -457,17 +477,17 @@ func cssResiduals(x, a, b, e []float64) (float64, int) {
 			continue
 		}
 		v := x[t]
-		for i, ai := range a {
-			v -= ai * x[t-i-1]
+		for _, i := range aIdx {
+			v -= a[i] * x[t-i-1]
 		}
 		if math.IsNaN(v) {
 			continue
 		}
-		for j, bj := range b {
+		for _, j := range bIdx {
 			if t-j-1 < 0 {
 				break
 			}
-			v -= bj * e[t-j-1]
+			v -= b[j] * e[t-j-1]
 		}
 		e[t] = v
 		ssq += v * v
