@@ -31,30 +31,34 @@ import (
 // differences. Without missing values this is the likelihood of R's
 // stats::arima(method = "ML"), whose fits are the reference of the tests.
 //
-// Orders:
+// Options (registered name "arima"): p, d, q, seasonal_p, seasonal_d,
+// seasonal_q, each "auto" (the default) or a fixed order (p, q 0…5; d 0…2;
+// seasonal_p, seasonal_q 0…2; seasonal_d 0…1), and constant (default
+// true: a constant may be fitted; false: never). Fixed orders are held;
+// the others are chosen per series as Hyndman & Khandakar (2008, §3.2):
 //
-//	fixed: the orders given (option p, d, q, seasonal_p, seasonal_d,
-//	       seasonal_q; each defaults to 0).
-//	auto (default): Hyndman & Khandakar (2008): with m ≥ 2 and at least
-//	       three full seasons, D = 1 when the seasonal strength
-//	       max(0, 1 − Var(R)/Var(S+R)) of the classical additive
-//	       decomposition exceeds 0.64 (Wang, Smith & Hyndman 2006);
-//	       then d ∈ {0, 1, 2} by repeated KPSS tests at 5% on the
-//	       (seasonally differenced) series (Kwiatkowski et al. 1992);
-//	       then the stepwise search of the paper by AICc from its four
-//	       start forms, (2,d,2)(1,D,1), (0,d,0)(0,D,0), (1,d,0)(1,D,0),
-//	       (0,d,1)(0,D,1), moving p, q, P or Q by ±1, p and q together
-//	       by ±1, P and Q together by ±1, and adding or dropping the
-//	       constant, within 0 ≤ p, q ≤ 5 and 0 ≤ P, Q ≤ 2 (at most 94
-//	       forms). The constant is in the start forms when d + D ≤ 1.
-//	       Shortcut: during the search each form is scored by AICc of the
-//	       exact likelihood at its CSS estimates; only the chosen form
-//	       is refitted by exact maximum likelihood. Forms with an AR or MA
-//	       root of modulus below 1.001 are refused in the search. When the
-//	       chosen form cannot be refitted the next best is taken, and as
-//	       a last resort (0,d,0)(0,D,0).
+//   - D: with m ≥ 2 and at least three full seasons, 1 when the seasonal
+//     strength max(0, 1 − Var(R)/Var(S+R)) of the classical additive
+//     decomposition exceeds 0.64 (Wang, Smith & Hyndman 2006; the paper
+//     used a seasonal unit-root test instead).
+//   - d ∈ {0, 1, 2}: repeated KPSS tests at 5% on the (seasonally
+//     differenced) series (Kwiatkowski et al. 1992; ℓ4 lags).
+//   - p, q, P, Q and the constant: the paper's stepwise search by AICc
+//     from its four start forms, (2,d,2)(1,D,1), (0,d,0)(0,D,0),
+//     (1,d,0)(1,D,0), (0,d,1)(0,D,1), with the constant when d + D ≤ 1;
+//     moves: p, q, P or Q by ±1, p and q together by ±1, P and Q together
+//     by ±1, the constant in or out; the first move that lowers the AICc
+//     is taken, until none does; 0 ≤ p, q ≤ 5, 0 ≤ P, Q ≤ 2, at most 94
+//     forms. Without seasonal terms (m < 2 or fewer than three seasons) P
+//     and Q stay 0.
 //
-// Option constant (default true) allows the constant; false never fits one.
+// Shortcut: during the search each form is scored by the AICc of the exact
+// likelihood at its CSS estimates; only the chosen form is refitted by
+// exact maximum likelihood. Forms with an AR or MA root of modulus below
+// 1.001 are refused in the search. When the chosen form cannot be refitted
+// the next best is taken, and as a last resort (0,d,0)(0,D,0) (with the
+// fixed orders), so the search returns a model for any series it can fit
+// at all.
 //
 // The fitted model forecasts by the Kalman filter's prediction of w,
 // integrated back to y through the last d + mD values (which must be
