@@ -262,7 +262,7 @@ func (a *ARIMA) fitAuto(y []float64, season, nobs int) (Fitted, error) {
 				return nil, err
 			}
 			pr := newArimaProblem(est.o, w)
-			ml, err := pr.fitMLFrom(est.raw)
+			ml, err := pr.fitMLFrom(est.raw, tolSearch)
 			if err != nil {
 				continue
 			}

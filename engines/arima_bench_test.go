@@ -61,3 +61,19 @@ func BenchmarkArimaAirlineMonthly120(b *testing.B) {
 func BenchmarkArima201Monthly120(b *testing.B) {
 	benchArima(b, Options{"p": 2, "d": 0, "q": 1, "seasonal_p": 0, "seasonal_d": 0, "seasonal_q": 0})
 }
+
+// One exact likelihood evaluation of arima(1,0,0)(0,1,1)12 with drift on
+// the seasonally differenced series (state dimension 13, 108 values), by
+// the Chandrasekhar recursions the optimiser uses.
+func BenchmarkArimaLikelihoodMonthly120(b *testing.B) {
+	y, _ := arimaBenchSeries(b)
+	o := arimaOrders{p: 1, sd: 1, sq: 1, m: 12, constant: true}
+	pr := newArimaProblem(o, difference(y, o.diffPoly()))
+	x := []float64{0.37, 1.5, -0.02}
+	if v := pr.exact(x); v >= arimaPenalty {
+		b.Fatal("likelihood not evaluated")
+	}
+	for b.Loop() {
+		pr.exact(x)
+	}
+}

@@ -103,6 +103,7 @@ type arimaProblem struct {
 	o      arimaOrders
 	w      []float64 // differenced series, NaN = missing
 	nobs   int       // observed values of w
+	gaps   bool      // some value of w is missing
 	center float64   // mean of the observed w
 	scale  float64   // their standard deviation (1 when zero)
 
@@ -124,6 +125,7 @@ func newArimaProblem(o arimaOrders, w []float64) *arimaProblem {
 		}
 	}
 	pr.nobs = n
+	pr.gaps = n < len(w)
 	if n > 0 {
 		pr.center = sum / float64(n)
 	}
@@ -254,7 +256,7 @@ func (pr *arimaProblem) exact(raw []float64) float64 {
 	if err := pr.ss.set(pr.a, pr.b); err != nil {
 		return arimaPenalty
 	}
-	res, ok := pr.ss.filter(pr.deviations(mu), &pr.kw, nil, nil)
+	res, ok := pr.sums(mu)
 	if !ok || res.nobs == 0 || !(res.ssq > 0) || math.IsInf(res.ssq, 0) {
 		return arimaPenalty
 	}
@@ -266,11 +268,43 @@ func (pr *arimaProblem) exact(raw []float64) float64 {
 	return v
 }
 
+// sums runs the filter at the loaded coefficients with mean mu: the
+// Chandrasekhar recursions when w has no missing values, else the full
+// filter.
+func (pr *arimaProblem) sums(mu float64) (kalmanResult, bool) {
+	if pr.gaps {
+		return pr.ss.filter(pr.deviations(mu), &pr.kw, nil, nil)
+	}
+	return pr.ss.filterChandrasekhar(pr.deviations(mu), &pr.kw)
+}
+
 // loglikFromCriterion converts the exact criterion over n observations.
 func loglikFromCriterion(crit float64, n int) float64 {
 	fn := float64(n)
 	return -0.5 * fn * (2*crit + 1 + math.Log(2*math.Pi))
 }
+
+// bfgsTolerance is when minimiseBFGS stops: the gradient's largest
+// element below grad, or no decrease of the value by more than
+// f·(1 + |value|) over iter iterations. The gradient is by central
+// differences (step 1e-5·max(1, |x|)), or forward ones (step 1e-7·max(1, |x|)).
+type bfgsTolerance struct {
+	grad, f float64
+	iter    int
+	forward bool // forward differences (half the evaluations, less accurate)
+}
+
+var (
+	// tolReference: fixed orders, converged far enough for the 1e-4
+	// agreement with R's coefficients on weakly identified ones.
+	tolReference = bfgsTolerance{grad: 1e-9, f: 1e-13, iter: 4}
+	// tolSearch: the final fit of the automatic choice, about R's
+	// optim(reltol = 1e-8), which stops a fit that runs to a unit root
+	// long before the value stops changing in the last digits.
+	tolSearch = bfgsTolerance{grad: 1e-6, f: 1e-10, iter: 2}
+	// tolStart: CSS start values.
+	tolStart = bfgsTolerance{grad: 1e-4, f: 1e-7, iter: 2, forward: true}
+)
 
 // minimiseBFGS minimises f from x0 with gonum's BFGS and a central
 // difference gradient. It returns the best point seen and its value; it
@@ -281,7 +315,7 @@ func loglikFromCriterion(crit float64, n int) float64 {
 // method needs several times fewer evaluations than the simplex for the
 // tight convergence the reference checks ask (1e-4 relative on the
 // coefficients).
-func minimiseBFGS(f func([]float64) float64, x0 []float64, maxIter int) ([]float64, float64) {
+func minimiseBFGS(f func([]float64) float64, x0 []float64, maxIter int, tol bfgsTolerance) ([]float64, float64) {
 	f0 := f(x0)
 	if len(x0) == 0 {
 		return x0, f0
@@ -289,22 +323,32 @@ func minimiseBFGS(f func([]float64) float64, x0 []float64, maxIter int) ([]float
 	buf := make([]float64, len(x0))
 	grad := func(g, x []float64) {
 		copy(buf, x)
+		var f0 float64
+		if tol.forward {
+			f0 = f(x)
+		}
 		for i := range x {
-			h := 1e-5 * math.Max(1, math.Abs(x[i]))
-			buf[i] = x[i] + h
-			fp := f(buf)
-			buf[i] = x[i] - h
-			fm := f(buf)
+			if tol.forward {
+				h := 1e-7 * math.Max(1, math.Abs(x[i]))
+				buf[i] = x[i] + h
+				g[i] = (f(buf) - f0) / h
+			} else {
+				h := 1e-5 * math.Max(1, math.Abs(x[i]))
+				buf[i] = x[i] + h
+				fp := f(buf)
+				buf[i] = x[i] - h
+				fm := f(buf)
+				g[i] = (fp - fm) / (2 * h)
+			}
 			buf[i] = x[i]
-			g[i] = (fp - fm) / (2 * h)
 			if math.IsNaN(g[i]) || math.IsInf(g[i], 0) {
 				g[i] = 0
 			}
 		}
 	}
 	settings := &optimize.Settings{
-		GradientThreshold: 1e-9,
-		Converger:         &optimize.FunctionConverge{Absolute: 1e-13, Relative: 1e-13, Iterations: 4},
+		GradientThreshold: tol.grad,
+		Converger:         &optimize.FunctionConverge{Absolute: tol.f, Relative: tol.f, Iterations: tol.iter},
 		MajorIterations:   maxIter,
 	}
 	res, _ := optimize.Minimize(optimize.Problem{Func: f, Grad: grad}, x0, settings, &optimize.BFGS{})
@@ -344,7 +388,7 @@ func (pr *arimaProblem) startCSS(maxIter int) []float64 {
 	if len(pr.w)-ncond < pr.o.nCoef()+1 {
 		return x0
 	}
-	x, _ := minimiseBFGS(pr.css, x0, maxIter)
+	x, _ := minimiseBFGS(pr.css, x0, maxIter, tolStart)
 	return x
 }
 
@@ -361,7 +405,7 @@ func (pr *arimaProblem) evaluateCoef(c arimaCoef) (arimaEstimate, error) {
 	if err := pr.setCoef(c); err != nil {
 		return arimaEstimate{}, fmt.Errorf("arima: %s: %w", pr.o, err)
 	}
-	res, ok := pr.ss.filter(pr.deviations(c.mu), &pr.kw, nil, nil)
+	res, ok := pr.sums(c.mu)
 	if !ok || res.nobs == 0 || !(res.ssq > 0) || math.IsInf(res.ssq, 0) {
 		return arimaEstimate{}, fmt.Errorf("arima: %s: the likelihood cannot be evaluated", pr.o)
 	}
@@ -381,12 +425,12 @@ func (pr *arimaProblem) evaluateCoef(c arimaCoef) (arimaEstimate, error) {
 
 // fitML fits the form by exact maximum likelihood from CSS start values.
 func (pr *arimaProblem) fitML() (arimaEstimate, error) {
-	return pr.fitMLFrom(pr.startCSS(200))
+	return pr.fitMLFrom(pr.startCSS(200), tolReference)
 }
 
 // fitMLFrom fits the form by exact maximum likelihood from start.
-func (pr *arimaProblem) fitMLFrom(start []float64) (arimaEstimate, error) {
-	x, _ := minimiseBFGS(pr.exact, start, 500)
+func (pr *arimaProblem) fitMLFrom(start []float64, tol bfgsTolerance) (arimaEstimate, error) {
+	x, _ := minimiseBFGS(pr.exact, start, 500, tol)
 	return pr.evaluate(x)
 }
 

@@ -410,13 +410,22 @@ func (s *armaSS) filter(x []float64, ws *kalmanWork, pred, fvar []float64) (kalm
 		conv := true
 		for i := 0; i < r; i++ {
 			fi, ti, ri := phi[i], theta[i], row[i+1]
+			pi := P[i*r : (i+1)*r]
+			var next []float64 // row i+1 shifted: next[j] = P[i+1][j+1]
+			if i+1 < r {
+				next = P[(i+1)*r+1 : (i+2)*r]
+			}
 			for j := i; j < r; j++ {
-				v := fi*phi[j]*p00 + fi*row[j+1] + phi[j]*ri + ti*theta[j]
-				if i+1 < r && j+1 < r {
-					v += P[(i+1)*r+j+1]
+				tt := ti * theta[j]
+				v := phi[j]*ri + tt
+				if fi != 0 {
+					v += fi * (phi[j]*p00 + row[j+1])
 				}
-				P[i*r+j] = v
-				if conv && math.Abs(v-ti*theta[j]) > 1e-12 {
+				if j < len(next) {
+					v += next[j]
+				}
+				pi[j] = v
+				if conv && math.Abs(v-tt) > 1e-12 {
 					conv = false
 				}
 			}
@@ -427,6 +436,78 @@ func (s *armaSS) filter(x []float64, ws *kalmanWork, pred, fvar []float64) (kalm
 		for j := i + 1; j < r; j++ {
 			P[j*r+i] = P[i*r+j]
 		}
+	}
+	return res, true
+}
+
+// filterChandrasekhar computes what filter computes for the sums (not the
+// predictions or the final state) over a series without missing values, by
+// the Chandrasekhar recursions (Morf, Sidhu & Kailath 1974; in the form of
+// Herbst 2015, J. Economic Dynamics & Control 54): because α_1 starts from
+// the stationary covariance, P_{t+1} − P_t = W_t M_t W_t' has rank one, and
+// with the prediction-form gain K_t = T P_t Z'/F_t
+//
+//	F_{t+1} = F_t + M_t (Z W_t)²
+//	K_{t+1} = (K_t F_t + M_t (Z W_t) T W_t) / F_{t+1}
+//	M_{t+1} = M_t + M_t² (Z W_t)² / F_t
+//	W_{t+1} = T W_t − K_{t+1} (Z W_t)
+//
+// from W_1 = K_1, M_1 = −F_1: O(r) work a step instead of O(r²). The
+// values agree with filter's to rounding (the reference tests check the
+// log-likelihood through both).
+func (s *armaSS) filterChandrasekhar(x []float64, ws *kalmanWork) (kalmanResult, bool) {
+	r := s.r
+	ws.a = resize(ws.a, r)
+	ws.pc = resize(ws.pc, r)
+	ws.row = resize(ws.row, r+1)
+	a, K, W := ws.a, ws.pc, ws.row[:r]
+	phi, p0 := s.phi, s.p0
+	var res kalmanResult
+	F := p0[0]
+	if !(F > 0) {
+		return res, false
+	}
+	// K_1 = T P0 Z' / F_1: (T P0)_{i0} = φ_i P0_00 + P0_{i+1,0}.
+	for i := 0; i < r; i++ {
+		v := phi[i] * p0[0]
+		if i+1 < r {
+			v += p0[(i+1)*r]
+		}
+		K[i] = v / F
+		W[i] = K[i]
+	}
+	M := -F
+	for _, xt := range x {
+		if !(F > 0) || math.IsInf(F, 0) {
+			return res, false
+		}
+		v := xt - a[0]
+		res.ssq += v * v / F
+		res.sumLog += math.Log(F)
+		res.nobs++
+		// a ← T a + K v
+		a0 := a[0]
+		for i := 0; i < r-1; i++ {
+			a[i] = phi[i]*a0 + a[i+1] + K[i]*v
+		}
+		a[r-1] = phi[r-1]*a0 + K[r-1]*v
+		zw := W[0]
+		mzw := M * zw
+		Fn := F + mzw*zw
+		if mzw == 0 {
+			continue // converged: K, F and M stay as they are
+		}
+		// W ← T W (in place, ascending), K ← (K F + M zw T W) / Fn
+		for i := 0; i < r-1; i++ {
+			W[i] = phi[i]*zw + W[i+1]
+		}
+		W[r-1] = phi[r-1] * zw
+		for i := 0; i < r; i++ {
+			K[i] = (K[i]*F + mzw*W[i]) / Fn
+			W[i] -= K[i] * zw
+		}
+		M += mzw * mzw / F
+		F = Fn
 	}
 	return res, true
 }

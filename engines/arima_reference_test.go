@@ -222,3 +222,33 @@ func TestArimaFitMatchesReference(t *testing.T) {
 		})
 	}
 }
+
+// TestArimaChandrasekharAgrees: the O(r) recursions give the sums of the
+// full Kalman filter to 1e-10 relative at R's estimates (series without
+// missing values).
+func TestArimaChandrasekharAgrees(t *testing.T) {
+	n := 0
+	for _, c := range loadArimaRef(t) {
+		y := nullable(c.Y)
+		o := c.orders()
+		pr := newArimaProblem(o, difference(y, o.diffPoly()))
+		if pr.gaps {
+			continue
+		}
+		k := c.coef(t)
+		if err := pr.setCoef(k); err != nil {
+			t.Fatal(err)
+		}
+		x := pr.deviations(k.mu)
+		full, ok1 := pr.ss.filter(x, &kalmanWork{}, nil, nil)
+		fast, ok2 := pr.ss.filterChandrasekhar(x, &kalmanWork{})
+		if !ok1 || !ok2 || full.nobs != fast.nobs ||
+			relErr(fast.ssq, full.ssq) > 1e-10 || math.Abs(fast.sumLog-full.sumLog) > 1e-10*math.Max(1, math.Abs(full.sumLog)) {
+			t.Errorf("%s: full %+v, Chandrasekhar %+v", c.Name, full, fast)
+		}
+		n++
+	}
+	if n < 15 {
+		t.Fatalf("only %d cases compared", n)
+	}
+}
