@@ -114,26 +114,27 @@ func logOf(x []float64) []float64 {
 }
 
 // TestArimaAutoChoices: the automatic orders on R datasets. The differencing
-// follows from the tests (checked above against outside values). The search
-// scores forms at their CSS estimates, so a start form refitted by exact ML
-// can beat the chosen one; the test allows 10 AICc points for that (nottem
-// is the known case, 6.97 points) and fails beyond. Fit must not modify y,
+// follows from the tests (checked above against outside values). Every
+// start form of the search, refitted by exact ML, must not beat the chosen
+// form by more than 2 AICc points (the search scores forms at their CSS
+// estimates, so it can miss by a little), unless that ML fit has a root
+// within 1.001 of the unit circle, which the search refuses (nottem's
+// (2,0,2)(1,1,1)12 has an MA root at 1.0000001). Fit must not modify y,
 // and the forecasts and variances must be finite and positive.
 func TestArimaAutoChoices(t *testing.T) {
 	cases := []struct {
 		name   string
 		y      []float64
 		m      int
-		d, D   int
-		wantSe bool // a seasonal difference expected
+		wantSe bool // a seasonal difference expected (strength > 0.64)
 	}{
-		{"AirPassengers(log)", logOf(refSeries(t, "AirPassengers")), 12, 1, 1, true},
-		{"USAccDeaths", refSeries(t, "USAccDeaths"), 12, 0, 1, true},
-		{"Nile", refSeries(t, "Nile"), 1, 1, 0, false},
-		{"LakeHuron", refSeries(t, "LakeHuron"), 1, 1, 0, false},
-		{"WWWusage", refSeries(t, "WWWusage"), 1, 1, 0, false},
-		{"UKgas(log)", logOf(refSeries(t, "UKgas")), 4, 1, 1, true},
-		{"nottem", refSeries(t, "nottem"), 12, 0, 1, true},
+		{"AirPassengers(log)", logOf(refSeries(t, "AirPassengers")), 12, true},
+		{"USAccDeaths", refSeries(t, "USAccDeaths"), 12, true},
+		{"Nile", refSeries(t, "Nile"), 1, false},
+		{"LakeHuron", refSeries(t, "LakeHuron"), 1, false},
+		{"WWWusage", refSeries(t, "WWWusage"), 1, false},
+		{"UKgas(log)", logOf(refSeries(t, "UKgas")), 4, true},
+		{"nottem", refSeries(t, "nottem"), 12, true},
 	}
 	m, err := New("arima", Options{})
 	if err != nil {
@@ -167,10 +168,11 @@ func TestArimaAutoChoices(t *testing.T) {
 				}
 				o.constant = o.d+o.sd <= 1
 				alt, err := fitArimaOrders(c.y, o)
-				if err != nil {
+				if err != nil || nearUnitRoot(alt.coef, o.m) {
 					continue
 				}
-				if alt.AICc() < f.AICc()-10 {
+				t.Logf("  start form %s: AICc %.3f", o, alt.AICc())
+				if alt.AICc() < f.AICc()-2 {
 					t.Errorf("start form %s has AICc %.4f below the chosen %s (%.4f)", o, alt.AICc(), f.o, f.AICc())
 				}
 			}
