@@ -61,8 +61,11 @@ import (
 // at all.
 //
 // The fitted model forecasts by the Kalman filter's prediction of w,
-// integrated back to y through the last d + mD values (which must be
-// observed). Forecast variances are σ² Σ_{j<h} ψ_j² with ψ the weights of
+// integrated back to y through the last d + mD values; a missing value
+// among them (or anywhere after the first d + mD) is replaced by its
+// one-step prediction, in time order (a filtered, not a smoothed,
+// estimate); one among the first d + mD, which has no prediction, by
+// linear interpolation. Forecast variances are σ² Σ_{j<h} ψ_j² with ψ the weights of
 // the full model θ(B)Θ(B^m) / [φ(B)Φ(B^m)(1 − B)^d(1 − B^m)^D], plus the
 // uncertainty of the filter's final state (see ForecastVariance). In-sample
 // values are the one-step predictions of the filter (NaN for the first
@@ -182,9 +185,6 @@ func fitArimaOrders(y []float64, o arimaOrders) (*ArimaFitted, error) {
 		return nil, fmt.Errorf("arima: %s needs at least %d observed values after differencing, have %d: %w",
 			o, o.nCoef()+3, pr.nobs, ErrTooShort)
 	}
-	if err := tailObserved(y, o); err != nil {
-		return nil, err
-	}
 	if constantObserved(w) {
 		return degenerateFit(y, o, pr), nil
 	}
@@ -193,16 +193,6 @@ func fitArimaOrders(y []float64, o arimaOrders) (*ArimaFitted, error) {
 		return nil, err
 	}
 	return newArimaFitted(y, pr, est)
-}
-
-func tailObserved(y []float64, o arimaOrders) error {
-	L := o.lost()
-	for _, v := range y[len(y)-L:] {
-		if math.IsNaN(v) {
-			return fmt.Errorf("arima: %s forecasts from the last %d values, and one of them is missing", o, L)
-		}
-	}
-	return nil
 }
 
 // constantObserved reports whether every observed value of w is the same.
@@ -251,16 +241,10 @@ func (a *ARIMA) fitAuto(y []float64, season, nobs int) (Fitted, error) {
 	if constantObserved(w) {
 		o := base
 		o.constant = a.allowConstant && o.d+o.sd <= 1
-		if err := tailObserved(y, o); err != nil {
-			return nil, err
-		}
 		fit = degenerateFit(y, o, newArimaProblem(o, w))
 	} else {
 		scored := stepwise(base, w, seasonal, a.allowConstant, fix)
 		for i, est := range scored {
-			if err := tailObserved(y, est.o); err != nil {
-				return nil, err
-			}
 			pr := newArimaProblem(est.o, w)
 			ml, err := pr.fitMLFrom(est.raw, tolSearch)
 			if err != nil {
@@ -363,8 +347,11 @@ func newArimaFitted(y []float64, pr *arimaProblem, est arimaEstimate) (*ArimaFit
 		diff:     o.diffPoly(),
 		strength: math.NaN(),
 	}
+	// In-sample values, and the series with each missing value (after the
+	// first L) replaced by its one-step prediction, in time order, so that
+	// the forecasts can be integrated through missing values at the end.
 	L := o.lost()
-	f.tail = append([]float64(nil), y[len(y)-L:]...)
+	filled := fillStart(y, L)
 	f.inSample = make([]float64, len(y))
 	for t := range y {
 		if t < L {
@@ -373,11 +360,49 @@ func newArimaFitted(y []float64, pr *arimaProblem, est arimaEstimate) (*ArimaFit
 		}
 		v := est.coef.mu + pred[t-L]
 		for k := 1; k <= L; k++ {
-			v -= f.diff[k] * y[t-k]
+			v -= f.diff[k] * filled[t-k]
 		}
 		f.inSample[t] = v
+		if math.IsNaN(filled[t]) {
+			filled[t] = v
+		}
+	}
+	f.tail = filled[len(y)-L:]
+	for _, v := range f.tail {
+		if math.IsNaN(v) {
+			return nil, fmt.Errorf("arima: %s forecasts from the last %d values, and one of them is missing without a prediction (too close to the start)", o, L)
+		}
 	}
 	return f, nil
+}
+
+// fillStart returns a copy of y whose missing values among the first L are
+// filled by linear interpolation between the nearest observed values (the
+// nearest one at an end), so that predictions can be integrated past them;
+// the model never sees these values.
+func fillStart(y []float64, L int) []float64 {
+	out := append([]float64(nil), y...)
+	for t := 0; t < L && t < len(y); t++ {
+		if !math.IsNaN(out[t]) {
+			continue
+		}
+		lo, hi := t-1, t+1
+		for lo >= 0 && math.IsNaN(y[lo]) {
+			lo--
+		}
+		for hi < len(y) && math.IsNaN(y[hi]) {
+			hi++
+		}
+		switch {
+		case lo >= 0 && hi < len(y):
+			out[t] = y[lo] + (y[hi]-y[lo])*float64(t-lo)/float64(hi-lo)
+		case lo >= 0:
+			out[t] = y[lo]
+		case hi < len(y):
+			out[t] = y[hi]
+		}
+	}
+	return out
 }
 
 // degenerateFit is the model of a differenced series with one observed
@@ -410,7 +435,7 @@ func degenerateFit(y []float64, o arimaOrders, pr *arimaProblem) *ArimaFitted {
 		strength: math.NaN(),
 	}
 	L := o.lost()
-	f.tail = append([]float64(nil), y[len(y)-L:]...)
+	filled := fillStart(y, L)
 	f.inSample = make([]float64, len(y))
 	for t := range y {
 		if t < L {
@@ -419,10 +444,14 @@ func degenerateFit(y []float64, o arimaOrders, pr *arimaProblem) *ArimaFitted {
 		}
 		v := c.mu
 		for k := 1; k <= L; k++ {
-			v -= f.diff[k] * y[t-k]
+			v -= f.diff[k] * filled[t-k]
 		}
 		f.inSample[t] = v
+		if math.IsNaN(filled[t]) {
+			filled[t] = v
+		}
 	}
+	f.tail = filled[len(y)-L:]
 	return f
 }
 

@@ -429,9 +429,18 @@ func (pr *arimaProblem) fitML() (arimaEstimate, error) {
 }
 
 // fitMLFrom fits the form by exact maximum likelihood from start.
+// When the optimum cannot be evaluated to the end (an autocovariance that
+// overflows at the edge of the stationary region), the start point is
+// taken if it can be.
 func (pr *arimaProblem) fitMLFrom(start []float64, tol bfgsTolerance) (arimaEstimate, error) {
 	x, _ := minimiseBFGS(pr.exact, start, 500, tol)
-	return pr.evaluate(x)
+	e, err := pr.evaluate(x)
+	if err != nil {
+		if e0, err0 := pr.evaluate(start); err0 == nil {
+			return e0, nil
+		}
+	}
+	return e, err
 }
 
 // fitApprox gives the search's estimate of the form: CSS coefficients,
