@@ -21,11 +21,14 @@ import (
 // series w = (1 − B)^d (1 − B^m)^D y: the ARMA part in the state-space form
 // of Gardner, Harvey & Phillips (1980), started from its stationary
 // covariance (from the autocovariances, Brockwell & Davis 1991 §3.3) and
-// run through the Kalman filter, with σ² concentrated out. Start values
-// come from conditional sum of squares. The AR and MA polynomials are
+// run through the Kalman filter, with σ² concentrated out; without missing
+// values the filter's sums come from the Chandrasekhar recursions (Morf,
+// Sidhu & Kailath 1974), O(r) a step instead of O(r²). Start values come
+// from conditional sum of squares. The AR and MA polynomials are
 // parametrised through partial autocorrelations tanh(u) (Jones 1980;
 // Monahan 1984), so every point the optimiser (gonum's BFGS with central
-// differences) visits is stationary and invertible. Missing values (NaN)
+// differences; see minimiseBFGS for why BFGS) visits is stationary and
+// invertible. Missing values (NaN)
 // are skipped by the filter; with d + D > 0 a missing value also hides the
 // differences it enters, so the likelihood is that of the observed
 // differences. Without missing values this is the likelihood of R's
@@ -40,7 +43,7 @@ import (
 //   - D: with m ≥ 2 and at least three full seasons, 1 when the seasonal
 //     strength max(0, 1 − Var(R)/Var(S+R)) of the classical additive
 //     decomposition exceeds 0.64 (Wang, Smith & Hyndman 2006; the paper
-//     used a seasonal unit-root test instead).
+//     used a seasonal unit-root test instead, from memory).
 //   - d ∈ {0, 1, 2}: repeated KPSS tests at 5% on the (seasonally
 //     differenced) series (Kwiatkowski et al. 1992; ℓ4 lags).
 //   - p, q, P, Q and the constant: the paper's stepwise search by AICc
@@ -65,9 +68,11 @@ import (
 // among them (or anywhere after the first d + mD) is replaced by its
 // one-step prediction, in time order (a filtered, not a smoothed,
 // estimate); one among the first d + mD, which has no prediction, by
-// linear interpolation. Forecast variances are σ² Σ_{j<h} ψ_j² with ψ the weights of
-// the full model θ(B)Θ(B^m) / [φ(B)Φ(B^m)(1 − B)^d(1 − B^m)^D], plus the
-// uncertainty of the filter's final state (see ForecastVariance). In-sample
+// linear interpolation. Forecast variances are the exact finite-sample
+// ones from the filter's final state (see ForecastVariance), which reduce
+// to σ² Σ_{j<h} ψ_j² with ψ the weights of the full model
+// θ(B)Θ(B^m) / [φ(B)Φ(B^m)(1 − B)^d(1 − B^m)^D] once the filter has
+// converged. In-sample
 // values are the one-step predictions of the filter (NaN for the first
 // d + mD periods and where a needed value is missing).
 //
@@ -91,8 +96,15 @@ import (
 //     clustering for time series data. Data Mining and Knowledge
 //     Discovery 13(3), 335–364.
 //   - Hyndman, R. J., Khandakar, Y. (2008). Automatic time series
-//     forecasting: the forecast package for R. Journal of Statistical
-//     Software 27(3).
+//     forecasting. Journal of Statistical Software 27(3).
+//   - Brockwell, P. J., Davis, R. A. (1991). Time Series: Theory and
+//     Methods, 2nd ed. Springer.
+//   - Morf, M., Sidhu, G. S., Kailath, T. (1974). Some new algorithms for
+//     recursive estimation in constant, linear, discrete-time systems.
+//     IEEE Transactions on Automatic Control 19(4), 315–323.
+//   - Herbst, E. (2015). Using the "Chandrasekhar recursions" for
+//     likelihood evaluation of DSGE models. Computational Economics 45,
+//     693–705.
 //   - Durbin, J., Koopman, S. J. (2012). Time Series Analysis by State
 //     Space Methods, 2nd ed. Oxford.
 type ARIMA struct {

@@ -443,7 +443,7 @@ func (s *armaSS) filter(x []float64, ws *kalmanWork, pred, fvar []float64) (kalm
 // filterChandrasekhar computes what filter computes for the sums (not the
 // predictions or the final state) over a series without missing values, by
 // the Chandrasekhar recursions (Morf, Sidhu & Kailath 1974; in the form of
-// Herbst 2015, J. Economic Dynamics & Control 54): because α_1 starts from
+// Herbst 2015): because α_1 starts from
 // the stationary covariance, P_{t+1} − P_t = W_t M_t W_t' has rank one, and
 // with the prediction-form gain K_t = T P_t Z'/F_t
 //
