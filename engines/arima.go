@@ -27,7 +27,7 @@ import (
 // from conditional sum of squares. The AR and MA polynomials are
 // parametrised through partial autocorrelations tanh(u) (Jones 1980;
 // Monahan 1984), so every point the optimiser (gonum's BFGS with central
-// differences; see minimiseBFGS for why BFGS) visits is stationary and
+// differences; see arimaMinimise for why BFGS) visits is stationary and
 // invertible. Missing values (NaN)
 // are skipped by the filter; with d + D > 0 a missing value also hides the
 // differences it enters, so the likelihood is that of the observed
@@ -108,13 +108,13 @@ import (
 //   - Durbin, J., Koopman, S. J. (2012). Time Series Analysis by State
 //     Space Methods, 2nd ed. Oxford.
 type ARIMA struct {
-	// each order is fixed (≥ 0) or chosen per series (autoOrder)
+	// each order is fixed (≥ 0) or chosen per series (arimaAutoOrder)
 	p, d, q, sp, sd, sq int
 	allowConstant       bool
 }
 
-// autoOrder marks an order the method chooses per series.
-const autoOrder = -1
+// arimaAutoOrder marks an order the method chooses per series.
+const arimaAutoOrder = -1
 
 var _ Method = (*ARIMA)(nil)
 
@@ -132,10 +132,10 @@ func NewARIMA(o Options) (*ARIMA, error) {
 		dst *int
 		max int
 	}{
-		{"p", &m.p, autoMaxP}, {"d", &m.d, autoMaxD}, {"q", &m.q, autoMaxQ},
-		{"seasonal_p", &m.sp, autoMaxSP}, {"seasonal_d", &m.sd, 1}, {"seasonal_q", &m.sq, autoMaxSQ},
+		{"p", &m.p, arimaMaxP}, {"d", &m.d, arimaMaxD}, {"q", &m.q, arimaMaxQ},
+		{"seasonal_p", &m.sp, arimaMaxSP}, {"seasonal_d", &m.sd, 1}, {"seasonal_q", &m.sq, arimaMaxSQ},
 	} {
-		*f.dst = autoOrder
+		*f.dst = arimaAutoOrder
 		v, set := o[f.key]
 		if !set {
 			continue
@@ -191,13 +191,13 @@ func (a *ARIMA) Fit(y []float64, season int) (Fitted, error) {
 
 // fitArimaOrders fits one form by exact maximum likelihood.
 func fitArimaOrders(y []float64, o arimaOrders) (*ArimaFitted, error) {
-	w := difference(y, o.diffPoly())
+	w := arimaDifference(y, o.diffPoly())
 	pr := newArimaProblem(o, w)
 	if pr.nobs < o.nCoef()+3 {
 		return nil, fmt.Errorf("arima: %s needs at least %d observed values after differencing, have %d: %w",
 			o, o.nCoef()+3, pr.nobs, ErrTooShort)
 	}
-	if constantObserved(w) {
+	if arimaConstantObserved(w) {
 		return degenerateFit(y, o, pr), nil
 	}
 	est, err := pr.fitML()
@@ -207,8 +207,8 @@ func fitArimaOrders(y []float64, o arimaOrders) (*ArimaFitted, error) {
 	return newArimaFitted(y, pr, est)
 }
 
-// constantObserved reports whether every observed value of w is the same.
-func constantObserved(w []float64) bool {
+// arimaConstantObserved reports whether every observed value of w is the same.
+func arimaConstantObserved(w []float64) bool {
 	first := math.NaN()
 	for _, v := range w {
 		if math.IsNaN(v) {
@@ -227,7 +227,7 @@ func (a *ARIMA) fitAuto(y []float64, season, nobs int) (Fitted, error) {
 	if nobs < 3 {
 		return nil, fmt.Errorf("arima: automatic orders need at least 3 observed values, have %d: %w", nobs, ErrTooShort)
 	}
-	d, D, seasonal, strength := autoOrders(y, season, a.d, a.sd)
+	d, D, seasonal, strength := arimaAutoOrders(y, season, a.d, a.sd)
 	if a.anySeasonalFixed() {
 		seasonal = true
 	}
@@ -237,28 +237,28 @@ func (a *ARIMA) fitAuto(y []float64, season, nobs int) (Fitted, error) {
 	}
 	// Differencing chosen by the tests must leave enough values to fit
 	// anything.
-	for base.d+base.sd > 0 && countObserved(difference(y, base.diffPoly())) < 4 {
-		if base.sd > 0 && a.sd == autoOrder {
+	for base.d+base.sd > 0 && arimaCountObserved(arimaDifference(y, base.diffPoly())) < 4 {
+		if base.sd > 0 && a.sd == arimaAutoOrder {
 			base.sd = 0
-		} else if base.d > 0 && a.d == autoOrder {
+		} else if base.d > 0 && a.d == arimaAutoOrder {
 			base.d--
 		} else {
 			break
 		}
 	}
-	fix := searchKey{p: a.p, q: a.q, sp: a.sp, sq: a.sq}
-	w := difference(y, base.diffPoly())
+	fix := arimaKey{p: a.p, q: a.q, sp: a.sp, sq: a.sq}
+	w := arimaDifference(y, base.diffPoly())
 	var warnings []string
 	var fit *ArimaFitted
-	if constantObserved(w) {
+	if arimaConstantObserved(w) {
 		o := base
 		o.constant = a.allowConstant && o.d+o.sd <= 1
 		fit = degenerateFit(y, o, newArimaProblem(o, w))
 	} else {
-		scored := stepwise(base, w, seasonal, a.allowConstant, fix)
+		scored := arimaStepwise(base, w, seasonal, a.allowConstant, fix)
 		for i, est := range scored {
 			pr := newArimaProblem(est.o, w)
-			ml, err := pr.fitMLFrom(est.raw, tolSearch)
+			ml, err := pr.fitMLFrom(est.raw, arimaTolSearch)
 			if err != nil {
 				continue
 			}
@@ -280,7 +280,7 @@ func (a *ARIMA) fitAuto(y []float64, season, nobs int) (Fitted, error) {
 				f, err := fitArimaOrders(y, o)
 				if err == nil {
 					fit = f
-					warnings = append(warnings, fmt.Sprintf("arima: the stepwise search found no usable form; fell back to %s", o))
+					warnings = append(warnings, fmt.Sprintf("arima: the arimaStepwise search found no usable form; fell back to %s", o))
 					break
 				}
 				if errors.Is(err, ErrTooShort) {
@@ -298,7 +298,7 @@ func (a *ARIMA) fitAuto(y []float64, season, nobs int) (Fitted, error) {
 	return fit, nil
 }
 
-func countObserved(x []float64) int {
+func arimaCountObserved(x []float64) int {
 	n := 0
 	for _, v := range x {
 		if !math.IsNaN(v) {
@@ -363,7 +363,7 @@ func newArimaFitted(y []float64, pr *arimaProblem, est arimaEstimate) (*ArimaFit
 	// first L) replaced by its one-step prediction, in time order, so that
 	// the forecasts can be integrated through missing values at the end.
 	L := o.lost()
-	filled := fillStart(y, L)
+	filled := arimaFillStart(y, L)
 	f.inSample = make([]float64, len(y))
 	for t := range y {
 		if t < L {
@@ -388,11 +388,11 @@ func newArimaFitted(y []float64, pr *arimaProblem, est arimaEstimate) (*ArimaFit
 	return f, nil
 }
 
-// fillStart returns a copy of y whose missing values among the first L are
+// arimaFillStart returns a copy of y whose missing values among the first L are
 // filled by linear interpolation between the nearest observed values (the
 // nearest one at an end), so that predictions can be integrated past them;
 // the model never sees these values.
-func fillStart(y []float64, L int) []float64 {
+func arimaFillStart(y []float64, L int) []float64 {
 	out := append([]float64(nil), y...)
 	for t := 0; t < L && t < len(y); t++ {
 		if !math.IsNaN(out[t]) {
@@ -439,7 +439,7 @@ func degenerateFit(y []float64, o arimaOrders, pr *arimaProblem) *ArimaFitted {
 		ll = -0.5 * float64(pr.nobs) * (math.Log(2*math.Pi*s2) + 1)
 	}
 	f := &ArimaFitted{
-		o: o, coef: c, loglik: ll, aicc: aiccOf(ll, o.nCoef(), pr.nobs), sigma2: s2, nobs: pr.nobs,
+		o: o, coef: c, loglik: ll, aicc: arimaAICcOf(ll, o.nCoef(), pr.nobs), sigma2: s2, nobs: pr.nobs,
 		ss:       armaSS{r: 1, phi: []float64{0}, theta: []float64{1}},
 		state:    []float64{0},
 		pEnd:     []float64{1},
@@ -447,7 +447,7 @@ func degenerateFit(y []float64, o arimaOrders, pr *arimaProblem) *ArimaFitted {
 		strength: math.NaN(),
 	}
 	L := o.lost()
-	filled := fillStart(y, L)
+	filled := arimaFillStart(y, L)
 	f.inSample = make([]float64, len(y))
 	for t := range y {
 		if t < L {
@@ -574,8 +574,8 @@ func (f *ArimaFitted) ForecastVariance(h int) []float64 {
 
 // psiWeights returns ψ_0…ψ_{h−1} of the full model.
 func (f *ArimaFitted) psiWeights(h int) []float64 {
-	a := expandAR(f.coef.phi, f.coef.sphi, f.o.m, nil)
-	b := expandMA(f.coef.theta, f.coef.stheta, f.o.m, nil)
+	a := arimaExpandAR(f.coef.phi, f.coef.sphi, f.o.m, nil)
+	b := arimaExpandMA(f.coef.theta, f.coef.stheta, f.o.m, nil)
 	// AR side including the differencing: (1 − Σ a_k B^k)·Σ c_k B^k.
 	ar := make([]float64, len(a)+1)
 	ar[0] = 1

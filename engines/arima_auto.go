@@ -11,32 +11,32 @@ import (
 // 2008, §3.2): D from a seasonal-strength test, d from repeated KPSS tests,
 // then a stepwise search over (p, q, P, Q) and the constant by AICc.
 
-// kpssCritical5 is the 5% critical value of the KPSS level-stationarity
+// arimaKPSSCritical5 is the 5% critical value of the KPSS level-stationarity
 // statistic (Kwiatkowski, Phillips, Schmidt & Shin 1992, Table 1: 0.463).
-const kpssCritical5 = 0.463
+const arimaKPSSCritical5 = 0.463
 
-// seasonalStrengthLimit: a series whose seasonal strength exceeds it is
+// arimaStrengthLimit: a series whose seasonal strength exceeds it is
 // differenced seasonally once. The strength measure is that of Wang, Smith
 // & Hyndman (2006); the limit 0.64 is common practice for this test (the
 // value named in the issue that asked for it).
-const seasonalStrengthLimit = 0.64
+const arimaStrengthLimit = 0.64
 
 // Search bounds of the stepwise search (Hyndman & Khandakar 2008, §3.2,
 // from memory): 0 ≤ p, q ≤ 5, 0 ≤ P, Q ≤ 2, at most 94 forms tried.
 const (
-	autoMaxP      = 5
-	autoMaxQ      = 5
-	autoMaxSP     = 2
-	autoMaxSQ     = 2
-	autoMaxModels = 94
-	autoMaxD      = 2
-	// autoRootMargin: forms with an AR or MA root of modulus below it are
+	arimaMaxP      = 5
+	arimaMaxQ      = 5
+	arimaMaxSP     = 2
+	arimaMaxSQ     = 2
+	arimaMaxModels = 94
+	arimaMaxD      = 2
+	// arimaRootMargin: forms with an AR or MA root of modulus below it are
 	// refused during the search as near unit roots (common practice; 1.001
 	// from memory).
-	autoRootMargin = 1.001
+	arimaRootMargin = 1.001
 )
 
-// kpssLevel returns the KPSS statistic for level stationarity of the
+// arimaKPSS returns the KPSS statistic for level stationarity of the
 // observed values of x (missing values are dropped):
 //
 //	η = Σ_t S_t² / (n² s²(ℓ)),  S_t = Σ_{i≤t} (x_i − x̄),
@@ -45,7 +45,7 @@ const (
 // with the Bartlett window and the lag ℓ = ⌊4 (n/100)^{1/4}⌋ (the ℓ4 of
 // Kwiatkowski et al. 1992). ok is false for fewer than 3 values or a
 // constant series.
-func kpssLevel(x []float64) (stat float64, ok bool) {
+func arimaKPSS(x []float64) (stat float64, ok bool) {
 	e := make([]float64, 0, len(x))
 	for _, v := range x {
 		if !math.IsNaN(v) {
@@ -85,30 +85,30 @@ func kpssLevel(x []float64) (stat float64, ok bool) {
 	return num / (float64(n) * float64(n) * s2), true
 }
 
-// kpssDiffs returns how many first differences (0…autoMaxD) the KPSS test
+// arimaKPSSDiffs returns how many first differences (0…arimaMaxD) the KPSS test
 // at the 5% level asks for: difference while the statistic exceeds the
 // critical value.
-func kpssDiffs(x []float64) int {
+func arimaKPSSDiffs(x []float64) int {
 	d := 0
-	for d < autoMaxD {
-		stat, ok := kpssLevel(x)
-		if !ok || stat < kpssCritical5 {
+	for d < arimaMaxD {
+		stat, ok := arimaKPSS(x)
+		if !ok || stat < arimaKPSSCritical5 {
 			break
 		}
 		d++
-		x = difference(x, []float64{1, -1})
+		x = arimaDifference(x, []float64{1, -1})
 	}
 	return d
 }
 
-// seasonalDecomposeAdditive is the classical additive decomposition with season
+// arimaDecompose is the classical additive decomposition with season
 // length m (the computation of R's stats::decompose): the trend is the
 // centred moving average of order m (2×m when m is even), the seasonal
 // figure the mean detrended value at each position (counted from the first
 // value) centred to sum to zero, and the remainder what is left. Missing
 // values make the trend missing wherever its window touches them and are
 // left out of the position means.
-func seasonalDecomposeAdditive(y []float64, m int) (trend, seasonal, remainder []float64) {
+func arimaDecompose(y []float64, m int) (trend, seasonal, remainder []float64) {
 	n := len(y)
 	trend = make([]float64, n)
 	h := m / 2
@@ -164,11 +164,11 @@ func seasonalDecomposeAdditive(y []float64, m int) (trend, seasonal, remainder [
 	return trend, seasonal, remainder
 }
 
-// seasonalStrength is max(0, 1 − Var(R)/Var(S + R)) over the points where
+// arimaSeasonalStrength is max(0, 1 − Var(R)/Var(S + R)) over the points where
 // the remainder R of the classical additive decomposition is known (Wang,
 // Smith & Hyndman 2006). ok is false when it cannot be computed.
-func seasonalStrength(y []float64, m int) (float64, bool) {
-	_, s, r := seasonalDecomposeAdditive(y, m)
+func arimaSeasonalStrength(y []float64, m int) (float64, bool) {
+	_, s, r := arimaDecompose(y, m)
 	var rs, ss []float64
 	for t := range r {
 		if !math.IsNaN(r[t]) && !math.IsNaN(s[t]) {
@@ -179,14 +179,14 @@ func seasonalStrength(y []float64, m int) (float64, bool) {
 	if len(rs) < 3 {
 		return 0, false
 	}
-	vr, vs := sampleVar(rs), sampleVar(ss)
+	vr, vs := arimaSampleVar(rs), arimaSampleVar(ss)
 	if !(vs > 0) {
 		return 0, false
 	}
 	return math.Max(0, 1-vr/vs), true
 }
 
-func sampleVar(x []float64) float64 {
+func arimaSampleVar(x []float64) float64 {
 	mean := 0.0
 	for _, v := range x {
 		mean += v
@@ -199,10 +199,10 @@ func sampleVar(x []float64) float64 {
 	return s / float64(len(x)-1)
 }
 
-// minRootModulus returns the smallest modulus of the roots of
+// arimaMinRootModulus returns the smallest modulus of the roots of
 // 1 − c_1 z − … − c_k z^k (+Inf when k = 0 or every c is zero): the
 // reciprocal of the largest eigenvalue modulus of the companion matrix.
-func minRootModulus(c []float64) float64 {
+func arimaMinRootModulus(c []float64) float64 {
 	k := len(c)
 	for k > 0 && c[k-1] == 0 {
 		k--
@@ -231,29 +231,22 @@ func minRootModulus(c []float64) float64 {
 	return 1 / big
 }
 
-// nearUnitRoot reports whether a form has an AR or MA factor with a root of
-// modulus below autoRootMargin (seasonal factors in B^m: a root ρ of the
+// arimaNearUnitRoot reports whether a form has an AR or MA factor with a root of
+// modulus below arimaRootMargin (seasonal factors in B^m: a root ρ of the
 // factor in z = B^m gives roots of modulus |ρ|^{1/m} in B).
-func nearUnitRoot(c arimaCoef, m int) bool {
+func arimaNearUnitRoot(c arimaCoef, m int) bool {
 	mm := float64(max(m, 1))
-	return minRootModulus(c.phi) < autoRootMargin ||
-		minRootModulus(neg(c.theta)) < autoRootMargin ||
-		math.Pow(minRootModulus(c.sphi), 1/mm) < autoRootMargin ||
-		math.Pow(minRootModulus(neg(c.stheta)), 1/mm) < autoRootMargin
+	return arimaMinRootModulus(c.phi) < arimaRootMargin ||
+		arimaMinRootModulus(arimaNeg(c.theta)) < arimaRootMargin ||
+		math.Pow(arimaMinRootModulus(c.sphi), 1/mm) < arimaRootMargin ||
+		math.Pow(arimaMinRootModulus(arimaNeg(c.stheta)), 1/mm) < arimaRootMargin
 }
 
-// autoChoice is the outcome of the order choice, kept for the model's
-// description and tests.
-type autoChoice struct {
-	strength float64 // seasonal strength (NaN when not tested)
-	tried    int     // forms scored by the search
-}
-
-// autoOrders chooses D and d for y with season length m (m < 2: none);
-// fixedD and fixedd, when not autoOrder, are taken as given. seasonal
+// arimaAutoOrders chooses D and d for y with season length m (m < 2: none);
+// fixedD and fixedd, when not arimaAutoOrder, are taken as given. seasonal
 // reports whether seasonal terms are considered at all: m ≥ 2 and at least
 // three full seasons of values.
-func autoOrders(y []float64, m, fixedd, fixedD int) (d, D int, seasonal bool, strength float64) {
+func arimaAutoOrders(y []float64, m, fixedd, fixedD int) (d, D int, seasonal bool, strength float64) {
 	strength = math.NaN()
 	seasonal = m >= 2 && len(y) >= 3*m
 	x := y
@@ -261,40 +254,40 @@ func autoOrders(y []float64, m, fixedd, fixedD int) (d, D int, seasonal bool, st
 	case fixedD >= 0:
 		D = fixedD
 	case seasonal:
-		if s, ok := seasonalStrength(y, m); ok {
+		if s, ok := arimaSeasonalStrength(y, m); ok {
 			strength = s
-			if s > seasonalStrengthLimit {
+			if s > arimaStrengthLimit {
 				D = 1
 			}
 		}
 	}
 	if D > 0 {
-		x = difference(y, arimaOrders{sd: D, m: m}.diffPoly())
+		x = arimaDifference(y, arimaOrders{sd: D, m: m}.diffPoly())
 	}
 	if fixedd >= 0 {
 		return fixedd, D, seasonal, strength
 	}
-	return kpssDiffs(x), D, seasonal, strength
+	return arimaKPSSDiffs(x), D, seasonal, strength
 }
 
-type searchKey struct {
+type arimaKey struct {
 	p, q, sp, sq int
 	c            bool
 }
 
-// stepwise runs the stepwise search over (p, q, P, Q, constant) on the
+// arimaStepwise runs the stepwise search over (p, q, P, Q, constant) on the
 // differenced series w. base carries d, D and m; allowConst whether a
-// constant may be tried; the orders of fix that are not autoOrder are held
+// constant may be tried; the orders of fix that are not arimaAutoOrder are held
 // at their values. It returns the scored forms, best first.
-func stepwise(base arimaOrders, w []float64, seasonal, allowConst bool, fix searchKey) []arimaEstimate {
-	seen := map[searchKey]bool{}
+func arimaStepwise(base arimaOrders, w []float64, seasonal, allowConst bool, fix arimaKey) []arimaEstimate {
+	seen := map[arimaKey]bool{}
 	var scored []arimaEstimate
 	best := math.Inf(1)
-	var bestKey searchKey
+	var bestKey arimaKey
 	haveBest := false
 	constOK := allowConst && base.d+base.sd <= 1
 
-	try := func(k searchKey) bool {
+	try := func(k arimaKey) bool {
 		if fix.p >= 0 {
 			k.p = fix.p
 		}
@@ -308,10 +301,10 @@ func stepwise(base arimaOrders, w []float64, seasonal, allowConst bool, fix sear
 			k.sq = fix.sq
 		}
 		if k.p < 0 || k.q < 0 || k.sp < 0 || k.sq < 0 ||
-			k.p > autoMaxP || k.q > autoMaxQ || k.sp > autoMaxSP || k.sq > autoMaxSQ {
+			k.p > arimaMaxP || k.q > arimaMaxQ || k.sp > arimaMaxSP || k.sq > arimaMaxSQ {
 			return false
 		}
-		if seen[k] || len(seen) >= autoMaxModels {
+		if seen[k] || len(seen) >= arimaMaxModels {
 			return false
 		}
 		seen[k] = true
@@ -322,7 +315,7 @@ func stepwise(base arimaOrders, w []float64, seasonal, allowConst bool, fix sear
 			return false
 		}
 		est, err := pr.fitApprox()
-		if err != nil || math.IsInf(est.aicc, 0) || math.IsNaN(est.aicc) || nearUnitRoot(est.coef, o.m) {
+		if err != nil || math.IsInf(est.aicc, 0) || math.IsNaN(est.aicc) || arimaNearUnitRoot(est.coef, o.m) {
 			return false
 		}
 		scored = append(scored, est)
@@ -333,7 +326,7 @@ func stepwise(base arimaOrders, w []float64, seasonal, allowConst bool, fix sear
 		return false
 	}
 
-	starts := []searchKey{{2, 2, 1, 1, constOK}, {0, 0, 0, 0, constOK}, {1, 0, 1, 0, constOK}, {0, 1, 0, 1, constOK}}
+	starts := []arimaKey{{2, 2, 1, 1, constOK}, {0, 0, 0, 0, constOK}, {1, 0, 1, 0, constOK}, {0, 1, 0, 1, constOK}}
 	for _, k := range starts {
 		if !seasonal {
 			k.sp, k.sq = 0, 0
@@ -346,29 +339,29 @@ func stepwise(base arimaOrders, w []float64, seasonal, allowConst bool, fix sear
 	for {
 		moved := false
 		c := bestKey
-		var moves []searchKey
+		var moves []arimaKey
 		for _, dp := range []int{-1, 1} {
 			moves = append(moves,
-				searchKey{c.p + dp, c.q, c.sp, c.sq, c.c},
-				searchKey{c.p, c.q + dp, c.sp, c.sq, c.c})
+				arimaKey{c.p + dp, c.q, c.sp, c.sq, c.c},
+				arimaKey{c.p, c.q + dp, c.sp, c.sq, c.c})
 		}
 		if seasonal {
 			for _, dp := range []int{-1, 1} {
 				moves = append(moves,
-					searchKey{c.p, c.q, c.sp + dp, c.sq, c.c},
-					searchKey{c.p, c.q, c.sp, c.sq + dp, c.c})
+					arimaKey{c.p, c.q, c.sp + dp, c.sq, c.c},
+					arimaKey{c.p, c.q, c.sp, c.sq + dp, c.c})
 			}
 		}
 		for _, dd := range [][2]int{{-1, -1}, {1, 1}, {-1, 1}, {1, -1}} {
-			moves = append(moves, searchKey{c.p + dd[0], c.q + dd[1], c.sp, c.sq, c.c})
+			moves = append(moves, arimaKey{c.p + dd[0], c.q + dd[1], c.sp, c.sq, c.c})
 		}
 		if seasonal {
 			for _, dd := range [][2]int{{-1, -1}, {1, 1}, {-1, 1}, {1, -1}} {
-				moves = append(moves, searchKey{c.p, c.q, c.sp + dd[0], c.sq + dd[1], c.c})
+				moves = append(moves, arimaKey{c.p, c.q, c.sp + dd[0], c.sq + dd[1], c.c})
 			}
 		}
 		if constOK {
-			moves = append(moves, searchKey{c.p, c.q, c.sp, c.sq, !c.c})
+			moves = append(moves, arimaKey{c.p, c.q, c.sp, c.sq, !c.c})
 		}
 		for _, k := range moves {
 			if try(k) {
@@ -376,7 +369,7 @@ func stepwise(base arimaOrders, w []float64, seasonal, allowConst bool, fix sear
 				break
 			}
 		}
-		if !moved || len(seen) >= autoMaxModels {
+		if !moved || len(seen) >= arimaMaxModels {
 			break
 		}
 	}

@@ -68,7 +68,7 @@ func BenchmarkArima201Monthly120(b *testing.B) {
 func BenchmarkArimaLikelihoodMonthly120(b *testing.B) {
 	y, _ := arimaBenchSeries(b)
 	o := arimaOrders{p: 1, sd: 1, sq: 1, m: 12, constant: true}
-	pr := newArimaProblem(o, difference(y, o.diffPoly()))
+	pr := newArimaProblem(o, arimaDifference(y, o.diffPoly()))
 	x := []float64{0.37, 1.5, -0.02}
 	if v := pr.exact(x); v >= arimaPenalty {
 		b.Fatal("likelihood not evaluated")

@@ -77,9 +77,9 @@ func (o arimaOrders) String() string {
 	return s
 }
 
-// difference returns w_t = Σ_k c_k y_{t+L−k} for t = 0…n−L−1 (NaN when a
+// arimaDifference returns w_t = Σ_k c_k y_{t+L−k} for t = 0…n−L−1 (NaN when a
 // value it needs is missing).
-func difference(y, c []float64) []float64 {
+func arimaDifference(y, c []float64) []float64 {
 	L := len(c) - 1
 	if len(y) <= L {
 		return nil
@@ -111,8 +111,7 @@ type arimaProblem struct {
 	phi, theta, sphi, stheta []float64
 	a, b, work, x, e         []float64
 	ss                       armaSS
-	kw                       kalmanWork
-	xbuf                     []float64
+	kw                       arimaKalmanWork
 }
 
 func newArimaProblem(o arimaOrders, w []float64) *arimaProblem {
@@ -151,22 +150,22 @@ func newArimaProblem(o arimaOrders, w []float64) *arimaProblem {
 }
 
 // decode turns the optimiser's unbounded vector into coefficients: the AR
-// and MA blocks through pacfToAR (so every point is stationary and
+// and MA blocks through arimaPACFToAR (so every point is stationary and
 // invertible), the constant as center + scale·u. It returns the mean μ of
 // the differenced series.
 func (pr *arimaProblem) decode(raw []float64) float64 {
 	o := pr.o
 	i := 0
-	pacfToAR(raw[i:i+o.p], pr.phi, pr.work)
+	arimaPACFToAR(raw[i:i+o.p], pr.phi, pr.work)
 	i += o.p
-	pacfToAR(raw[i:i+o.q], pr.theta, pr.work)
+	arimaPACFToAR(raw[i:i+o.q], pr.theta, pr.work)
 	for j := range pr.theta {
 		pr.theta[j] = -pr.theta[j]
 	}
 	i += o.q
-	pacfToAR(raw[i:i+o.sp], pr.sphi, pr.work)
+	arimaPACFToAR(raw[i:i+o.sp], pr.sphi, pr.work)
 	i += o.sp
-	pacfToAR(raw[i:i+o.sq], pr.stheta, pr.work)
+	arimaPACFToAR(raw[i:i+o.sq], pr.stheta, pr.work)
 	for j := range pr.stheta {
 		pr.stheta[j] = -pr.stheta[j]
 	}
@@ -177,20 +176,7 @@ func (pr *arimaProblem) decode(raw []float64) float64 {
 	return 0
 }
 
-// encode is the inverse of decode for a stationary, invertible point.
-func (pr *arimaProblem) encode(c arimaCoef) []float64 {
-	raw := make([]float64, 0, pr.o.nCoef())
-	raw = append(raw, arToPACF(c.phi)...)
-	raw = append(raw, arToPACF(neg(c.theta))...)
-	raw = append(raw, arToPACF(c.sphi)...)
-	raw = append(raw, arToPACF(neg(c.stheta))...)
-	if pr.o.constant {
-		raw = append(raw, (c.mu-pr.center)/pr.scale)
-	}
-	return raw
-}
-
-func neg(v []float64) []float64 {
+func arimaNeg(v []float64) []float64 {
 	out := make([]float64, len(v))
 	for i, x := range v {
 		out[i] = -x
@@ -230,8 +216,8 @@ func (pr *arimaProblem) deviations(mu float64) []float64 {
 // css is the conditional-sum-of-squares criterion ½·log(Σe²/n_e) at raw.
 func (pr *arimaProblem) css(raw []float64) float64 {
 	mu := pr.decode(raw)
-	pr.a = expandAR(pr.phi, pr.sphi, pr.o.m, pr.a)
-	pr.b = expandMA(pr.theta, pr.stheta, pr.o.m, pr.b)
+	pr.a = arimaExpandAR(pr.phi, pr.sphi, pr.o.m, pr.a)
+	pr.b = arimaExpandMA(pr.theta, pr.stheta, pr.o.m, pr.b)
 	ssq, nu := cssResiduals(pr.deviations(mu), pr.a, pr.b, pr.e)
 	if nu == 0 || !(ssq > 0) || math.IsInf(ssq, 0) {
 		return arimaPenalty
@@ -241,8 +227,8 @@ func (pr *arimaProblem) css(raw []float64) float64 {
 
 // setCoef loads the state-space form at the natural coefficients c.
 func (pr *arimaProblem) setCoef(c arimaCoef) error {
-	pr.a = expandAR(c.phi, c.sphi, pr.o.m, pr.a)
-	pr.b = expandMA(c.theta, c.stheta, pr.o.m, pr.b)
+	pr.a = arimaExpandAR(c.phi, c.sphi, pr.o.m, pr.a)
+	pr.b = arimaExpandMA(c.theta, c.stheta, pr.o.m, pr.b)
 	return pr.ss.set(pr.a, pr.b)
 }
 
@@ -251,8 +237,8 @@ func (pr *arimaProblem) setCoef(c arimaCoef) error {
 // −½·n·(2·criterion + 1 + log 2π).
 func (pr *arimaProblem) exact(raw []float64) float64 {
 	mu := pr.decode(raw)
-	pr.a = expandAR(pr.phi, pr.sphi, pr.o.m, pr.a)
-	pr.b = expandMA(pr.theta, pr.stheta, pr.o.m, pr.b)
+	pr.a = arimaExpandAR(pr.phi, pr.sphi, pr.o.m, pr.a)
+	pr.b = arimaExpandMA(pr.theta, pr.stheta, pr.o.m, pr.b)
 	if err := pr.ss.set(pr.a, pr.b); err != nil {
 		return arimaPenalty
 	}
@@ -271,42 +257,42 @@ func (pr *arimaProblem) exact(raw []float64) float64 {
 // sums runs the filter at the loaded coefficients with mean mu: the
 // Chandrasekhar recursions when w has no missing values, else the full
 // filter.
-func (pr *arimaProblem) sums(mu float64) (kalmanResult, bool) {
+func (pr *arimaProblem) sums(mu float64) (arimaSums, bool) {
 	if pr.gaps {
 		return pr.ss.filter(pr.deviations(mu), &pr.kw, nil, nil)
 	}
 	return pr.ss.filterChandrasekhar(pr.deviations(mu), &pr.kw)
 }
 
-// loglikFromCriterion converts the exact criterion over n observations.
-func loglikFromCriterion(crit float64, n int) float64 {
+// arimaLoglik converts the exact criterion over n observations.
+func arimaLoglik(crit float64, n int) float64 {
 	fn := float64(n)
 	return -0.5 * fn * (2*crit + 1 + math.Log(2*math.Pi))
 }
 
-// bfgsTolerance is when minimiseBFGS stops: the gradient's largest
+// arimaTolerance is when arimaMinimise stops: the gradient's largest
 // element below grad, or no decrease of the value by more than
 // f·(1 + |value|) over iter iterations. The gradient is by central
 // differences (step 1e-5·max(1, |x|)), or forward ones (step 1e-7·max(1, |x|)).
-type bfgsTolerance struct {
+type arimaTolerance struct {
 	grad, f float64
 	iter    int
 	forward bool // forward differences (half the evaluations, less accurate)
 }
 
 var (
-	// tolReference: fixed orders, converged far enough for the 1e-4
+	// arimaTolReference: fixed orders, converged far enough for the 1e-4
 	// agreement with R's coefficients on weakly identified ones.
-	tolReference = bfgsTolerance{grad: 1e-9, f: 1e-13, iter: 4}
-	// tolSearch: the final fit of the automatic choice, about R's
+	arimaTolReference = arimaTolerance{grad: 1e-9, f: 1e-13, iter: 4}
+	// arimaTolSearch: the final fit of the automatic choice, about R's
 	// optim(reltol = 1e-8), which stops a fit that runs to a unit root
 	// long before the value stops changing in the last digits.
-	tolSearch = bfgsTolerance{grad: 1e-6, f: 1e-10, iter: 2}
-	// tolStart: CSS start values.
-	tolStart = bfgsTolerance{grad: 1e-4, f: 1e-7, iter: 2, forward: true}
+	arimaTolSearch = arimaTolerance{grad: 1e-6, f: 1e-10, iter: 2}
+	// arimaTolStart: CSS start values.
+	arimaTolStart = arimaTolerance{grad: 1e-4, f: 1e-7, iter: 2, forward: true}
 )
 
-// minimiseBFGS minimises f from x0 with gonum's BFGS and a central
+// arimaMinimise minimises f from x0 with gonum's BFGS and a central
 // difference gradient. It returns the best point seen and its value; it
 // never fails (a method that stops early still returns its best point).
 //
@@ -315,7 +301,7 @@ var (
 // method needs several times fewer evaluations than the simplex for the
 // tight convergence the reference checks ask (1e-4 relative on the
 // coefficients).
-func minimiseBFGS(f func([]float64) float64, x0 []float64, maxIter int, tol bfgsTolerance) ([]float64, float64) {
+func arimaMinimise(f func([]float64) float64, x0 []float64, maxIter int, tol arimaTolerance) ([]float64, float64) {
 	f0 := f(x0)
 	if len(x0) == 0 {
 		return x0, f0
@@ -371,7 +357,7 @@ type arimaEstimate struct {
 }
 
 // aicc is −2ℓ + 2k + 2k(k+1)/(n−k−1) with k the coefficients plus σ².
-func aiccOf(loglik float64, nCoef, n int) float64 {
+func arimaAICcOf(loglik float64, nCoef, n int) float64 {
 	k := float64(nCoef + 1)
 	fn := float64(n)
 	if fn-k-1 <= 0 {
@@ -388,7 +374,7 @@ func (pr *arimaProblem) startCSS(maxIter int) []float64 {
 	if len(pr.w)-ncond < pr.o.nCoef()+1 {
 		return x0
 	}
-	x, _ := minimiseBFGS(pr.css, x0, maxIter, tolStart)
+	x, _ := arimaMinimise(pr.css, x0, maxIter, arimaTolStart)
 	return x
 }
 
@@ -415,8 +401,8 @@ func (pr *arimaProblem) evaluateCoef(c arimaCoef) (arimaEstimate, error) {
 		crit: 0.5 * (math.Log(res.ssq/n) + res.sumLog/n),
 		nobs: res.nobs, sigma2: res.ssq / n,
 	}
-	e.loglik = loglikFromCriterion(e.crit, res.nobs)
-	e.aicc = aiccOf(e.loglik, pr.o.nCoef(), res.nobs)
+	e.loglik = arimaLoglik(e.crit, res.nobs)
+	e.aicc = arimaAICcOf(e.loglik, pr.o.nCoef(), res.nobs)
 	if math.IsNaN(e.loglik) || math.IsInf(e.loglik, 0) {
 		return arimaEstimate{}, fmt.Errorf("arima: %s: the likelihood cannot be evaluated", pr.o)
 	}
@@ -425,15 +411,15 @@ func (pr *arimaProblem) evaluateCoef(c arimaCoef) (arimaEstimate, error) {
 
 // fitML fits the form by exact maximum likelihood from CSS start values.
 func (pr *arimaProblem) fitML() (arimaEstimate, error) {
-	return pr.fitMLFrom(pr.startCSS(200), tolReference)
+	return pr.fitMLFrom(pr.startCSS(200), arimaTolReference)
 }
 
 // fitMLFrom fits the form by exact maximum likelihood from start.
 // When the optimum cannot be evaluated to the end (an autocovariance that
 // overflows at the edge of the stationary region), the start point is
 // taken if it can be.
-func (pr *arimaProblem) fitMLFrom(start []float64, tol bfgsTolerance) (arimaEstimate, error) {
-	x, _ := minimiseBFGS(pr.exact, start, 500, tol)
+func (pr *arimaProblem) fitMLFrom(start []float64, tol arimaTolerance) (arimaEstimate, error) {
+	x, _ := arimaMinimise(pr.exact, start, 500, tol)
 	e, err := pr.evaluate(x)
 	if err != nil {
 		if e0, err0 := pr.evaluate(start); err0 == nil {

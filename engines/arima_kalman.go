@@ -17,12 +17,12 @@ import (
 // rounding). The optimisers treat it as a point to avoid.
 var errArimaNonStationary = errors.New("arima: non-stationary parameters")
 
-// expandAR returns a_1…a_{p+mP} with
+// arimaExpandAR returns a_1…a_{p+mP} with
 //
 //	(1 − φ_1B − … − φ_pB^p)(1 − Φ_1B^m − … − Φ_PB^{mP}) = 1 − Σ_k a_k B^k.
-func expandAR(phi, sphi []float64, m int, out []float64) []float64 {
+func arimaExpandAR(phi, sphi []float64, m int, out []float64) []float64 {
 	n := len(phi) + m*len(sphi)
-	out = resize(out, n)
+	out = arimaResize(out, n)
 	copy(out, phi)
 	for j, s := range sphi {
 		k := (j + 1) * m
@@ -34,12 +34,12 @@ func expandAR(phi, sphi []float64, m int, out []float64) []float64 {
 	return out
 }
 
-// expandMA returns b_1…b_{q+mQ} with
+// arimaExpandMA returns b_1…b_{q+mQ} with
 //
 //	(1 + θ_1B + … + θ_qB^q)(1 + Θ_1B^m + … + Θ_QB^{mQ}) = 1 + Σ_k b_k B^k.
-func expandMA(theta, stheta []float64, m int, out []float64) []float64 {
+func arimaExpandMA(theta, stheta []float64, m int, out []float64) []float64 {
 	n := len(theta) + m*len(stheta)
-	out = resize(out, n)
+	out = arimaResize(out, n)
 	copy(out, theta)
 	for j, s := range stheta {
 		k := (j + 1) * m
@@ -51,9 +51,9 @@ func expandMA(theta, stheta []float64, m int, out []float64) []float64 {
 	return out
 }
 
-// resize returns s with length n and every element zero, reusing its
+// arimaResize returns s with length n and every element zero, reusing its
 // storage when it is large enough.
-func resize(s []float64, n int) []float64 {
+func arimaResize(s []float64, n int) []float64 {
 	if cap(s) < n {
 		return make([]float64, n)
 	}
@@ -64,12 +64,12 @@ func resize(s []float64, n int) []float64 {
 	return s
 }
 
-// pacfToAR maps unbounded values to the coefficients of a stationary AR
+// arimaPACFToAR maps unbounded values to the coefficients of a stationary AR
 // polynomial 1 − Σ φ_i B^i: each value becomes a partial autocorrelation
 // tanh(raw_i) ∈ (−1, 1), and the Durbin–Levinson recursion turns the
 // partial autocorrelations into coefficients (Jones 1980; Monahan 1984 for
 // its use on MA polynomials). work needs len(raw) elements.
-func pacfToAR(raw, out, work []float64) {
+func arimaPACFToAR(raw, out, work []float64) {
 	p := len(raw)
 	for j := 0; j < p; j++ {
 		out[j] = math.Tanh(raw[j])
@@ -82,42 +82,6 @@ func pacfToAR(raw, out, work []float64) {
 		}
 		copy(out[:j], work[:j])
 	}
-}
-
-// arToPACF inverts pacfToAR: it runs the Durbin–Levinson recursion
-// backwards and returns atanh of the partial autocorrelations. Partial
-// autocorrelations at or beyond ±1 (a non-stationary input) are clipped to
-// ±0.99, so the result is always finite.
-func arToPACF(phi []float64) []float64 {
-	p := len(phi)
-	cur := append([]float64(nil), phi...)
-	work := make([]float64, p)
-	for j := p - 1; j > 0; j-- {
-		a := clampPACF(cur[j])
-		cur[j] = a
-		for k := 0; k < j; k++ {
-			work[k] = (cur[k] + a*cur[j-k-1]) / (1 - a*a)
-		}
-		copy(cur[:j], work[:j])
-	}
-	out := make([]float64, p)
-	for j := range cur {
-		out[j] = math.Atanh(clampPACF(cur[j]))
-	}
-	return out
-}
-
-func clampPACF(a float64) float64 {
-	const lim = 0.99
-	switch {
-	case math.IsNaN(a):
-		return 0
-	case a > lim:
-		return lim
-	case a < -lim:
-		return -lim
-	}
-	return a
 }
 
 // armaSS is the ARMA(p', q') part of a model in the state-space form of
@@ -147,14 +111,14 @@ func (s *armaSS) set(a, b []float64) error {
 	pp, qq := len(a), len(b)
 	r := max(pp, qq+1)
 	s.r = r
-	s.phi = resize(s.phi, r)
+	s.phi = arimaResize(s.phi, r)
 	copy(s.phi, a)
-	s.theta = resize(s.theta, r)
+	s.theta = arimaResize(s.theta, r)
 	s.theta[0] = 1
 	copy(s.theta[1:], b)
 
 	// ψ-weights of the ARMA part: ψ_0 = 1, ψ_j = θ_j + Σ_i φ_i ψ_{j−i}.
-	s.psi = resize(s.psi, r+1)
+	s.psi = arimaResize(s.psi, r+1)
 	for j := 0; j <= r; j++ {
 		v := 0.0
 		if j < r {
@@ -170,7 +134,7 @@ func (s *armaSS) set(a, b []float64) error {
 	//   γ(k) − Σ_i φ_i γ(|k−i|) = Σ_{j=k}^{q'} θ_j ψ_{j−k},
 	// a (p'+1)-square linear system; beyond p' the same relation gives
 	// γ(k) directly (Brockwell & Davis 1991, §3.3, method 3).
-	s.gamma = resize(s.gamma, r+1)
+	s.gamma = arimaResize(s.gamma, r+1)
 	rhs := func(k int) float64 {
 		v := 0.0
 		for j := k; j <= qq; j++ {
@@ -183,7 +147,7 @@ func (s *armaSS) set(a, b []float64) error {
 		return v
 	}
 	nsys := pp + 1
-	s.sys = resize(s.sys, nsys*(nsys+1))
+	s.sys = arimaResize(s.sys, nsys*(nsys+1))
 	A := s.sys // nsys rows of nsys+1 (augmented)
 	w := nsys + 1
 	for k := 0; k <= pp; k++ {
@@ -197,7 +161,7 @@ func (s *armaSS) set(a, b []float64) error {
 		}
 		A[k*w+nsys] = rhs(k)
 	}
-	if !solveAugmented(A, nsys) {
+	if !arimaSolve(A, nsys) {
 		return errArimaNonStationary
 	}
 	for k := 0; k <= pp && k <= r; k++ {
@@ -221,7 +185,7 @@ func (s *armaSS) set(a, b []float64) error {
 	//   P_ij = φ_{i+1}φ_{j+1}P_00 + φ_{i+1}P_{0,j+1} + φ_{j+1}P_{0,i+1}
 	//          + P_{i+1,j+1} + θ_iθ_j,
 	// filled from the bottom-right corner (indices ≥ r are zero).
-	s.p0 = resize(s.p0, r*r)
+	s.p0 = arimaResize(s.p0, r*r)
 	P := s.p0
 	for j := 0; j < r; j++ {
 		v := 0.0
@@ -254,11 +218,11 @@ func (s *armaSS) set(a, b []float64) error {
 	return nil
 }
 
-// solveAugmented solves the n×n system stored row-major with its right-hand
+// arimaSolve solves the n×n system stored row-major with its right-hand
 // side as column n (rows of n+1), by Gaussian elimination with partial
 // pivoting; the solution replaces column n. It reports false when the
 // matrix is singular to working precision.
-func solveAugmented(A []float64, n int) bool {
+func arimaSolve(A []float64, n int) bool {
 	w := n + 1
 	for c := 0; c < n; c++ {
 		piv, best := c, math.Abs(A[c*w+c])
@@ -296,16 +260,16 @@ func solveAugmented(A []float64, n int) bool {
 	return true
 }
 
-// kalmanResult is what one pass of the filter gives.
-type kalmanResult struct {
+// arimaSums is what one pass of the filter gives.
+type arimaSums struct {
 	ssq    float64 // Σ v_t² / F_t
 	sumLog float64 // Σ log F_t
 	nobs   int     // observed values used
 }
 
-// kalmanWork is the filter's scratch; after a pass a holds the predicted
+// arimaKalmanWork is the filter's scratch; after a pass a holds the predicted
 // state α_{n+1|n} and P its covariance (full, r×r).
-type kalmanWork struct {
+type arimaKalmanWork struct {
 	a, pc, row []float64
 	P          []float64
 }
@@ -324,16 +288,16 @@ type kalmanWork struct {
 // Gardner et al. (1980): F_t = 1 and the gain is R, with no covariance
 // arithmetic, until a missing value makes it return to the full
 // recursions. It reports false when a prediction variance is not positive.
-func (s *armaSS) filter(x []float64, ws *kalmanWork, pred, fvar []float64) (kalmanResult, bool) {
+func (s *armaSS) filter(x []float64, ws *arimaKalmanWork, pred, fvar []float64) (arimaSums, bool) {
 	r := s.r
-	ws.a = resize(ws.a, r)
-	ws.pc = resize(ws.pc, r)
-	ws.row = resize(ws.row, r+1)
-	ws.P = resize(ws.P, r*r)
+	ws.a = arimaResize(ws.a, r)
+	ws.pc = arimaResize(ws.pc, r)
+	ws.row = arimaResize(ws.row, r+1)
+	ws.P = arimaResize(ws.P, r*r)
 	a, pc, row, P := ws.a, ws.pc, ws.row, ws.P
 	copy(P, s.p0)
 	phi, theta := s.phi, s.theta
-	var res kalmanResult
+	var res arimaSums
 	fast := false
 	for t, xt := range x {
 		if pred != nil {
@@ -455,14 +419,14 @@ func (s *armaSS) filter(x []float64, ws *kalmanWork, pred, fvar []float64) (kalm
 // from W_1 = K_1, M_1 = −F_1: O(r) work a step instead of O(r²). The
 // values agree with filter's to rounding (the reference tests check the
 // log-likelihood through both).
-func (s *armaSS) filterChandrasekhar(x []float64, ws *kalmanWork) (kalmanResult, bool) {
+func (s *armaSS) filterChandrasekhar(x []float64, ws *arimaKalmanWork) (arimaSums, bool) {
 	r := s.r
-	ws.a = resize(ws.a, r)
-	ws.pc = resize(ws.pc, r)
-	ws.row = resize(ws.row, r+1)
+	ws.a = arimaResize(ws.a, r)
+	ws.pc = arimaResize(ws.pc, r)
+	ws.row = arimaResize(ws.row, r+1)
 	a, K, W := ws.a, ws.pc, ws.row[:r]
 	phi, p0 := s.phi, s.p0
-	var res kalmanResult
+	var res arimaSums
 	F := p0[0]
 	if !(F > 0) {
 		return res, false

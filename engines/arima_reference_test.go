@@ -29,7 +29,7 @@ type arimaRefCase struct {
 	Convergent int        `json:"convergence"`
 }
 
-func loadArimaRef(t *testing.T) []arimaRefCase {
+func arimaLoadRef(t *testing.T) []arimaRefCase {
 	t.Helper()
 	b, err := os.ReadFile("testdata/reference/arima/fits.json")
 	if err != nil {
@@ -47,7 +47,7 @@ func loadArimaRef(t *testing.T) []arimaRefCase {
 	return f.Cases
 }
 
-func nullable(v []*float64) []float64 {
+func arimaNullable(v []*float64) []float64 {
 	out := make([]float64, len(v))
 	for i, p := range v {
 		if p == nil {
@@ -100,7 +100,7 @@ func (c arimaRefCase) coef(t *testing.T) arimaCoef {
 	return k
 }
 
-func relErr(got, want float64) float64 {
+func arimaRelErr(got, want float64) float64 {
 	return math.Abs(got-want) / math.Max(math.Abs(want), 1e-300)
 }
 
@@ -110,19 +110,19 @@ func relErr(got, want float64) float64 {
 // (24 steps) to 1e-6 relative, and the standardised one-step innovations
 // (y − InSample)/√F to R's residuals within 1e-6 σ.
 func TestArimaLikelihoodAtReferenceCoefficients(t *testing.T) {
-	for _, c := range loadArimaRef(t) {
+	for _, c := range arimaLoadRef(t) {
 		t.Run(c.Name, func(t *testing.T) {
-			y := nullable(c.Y)
+			y := arimaNullable(c.Y)
 			o := c.orders()
-			pr := newArimaProblem(o, difference(y, o.diffPoly()))
+			pr := newArimaProblem(o, arimaDifference(y, o.diffPoly()))
 			est, err := pr.evaluateCoef(c.coef(t))
 			if err != nil {
 				t.Fatal(err)
 			}
-			if e := relErr(est.loglik, c.Loglik); e > 1e-7 {
+			if e := arimaRelErr(est.loglik, c.Loglik); e > 1e-7 {
 				t.Errorf("loglik %.10g, R %.10g (rel %.2g)", est.loglik, c.Loglik, e)
 			}
-			if e := relErr(est.sigma2, c.Sigma2); e > 1e-7 {
+			if e := arimaRelErr(est.sigma2, c.Sigma2); e > 1e-7 {
 				t.Errorf("sigma2 %.10g, R %.10g (rel %.2g)", est.sigma2, c.Sigma2, e)
 			}
 			f, err := newArimaFitted(y, pr, est)
@@ -132,7 +132,7 @@ func TestArimaLikelihoodAtReferenceCoefficients(t *testing.T) {
 			fc := f.Forecast(len(c.Forecast))
 			worst := 0.0
 			for i := range fc {
-				worst = math.Max(worst, relErr(fc[i], c.Forecast[i]))
+				worst = math.Max(worst, arimaRelErr(fc[i], c.Forecast[i]))
 			}
 			if worst > 1e-6 {
 				t.Errorf("forecast max rel error %.2g > 1e-6", worst)
@@ -140,7 +140,7 @@ func TestArimaLikelihoodAtReferenceCoefficients(t *testing.T) {
 			fv := f.ForecastVariance(len(c.SE))
 			wse := 0.0
 			for i := range fv {
-				wse = math.Max(wse, relErr(math.Sqrt(fv[i]), c.SE[i]))
+				wse = math.Max(wse, arimaRelErr(math.Sqrt(fv[i]), c.SE[i]))
 			}
 			if wse > 1e-6 {
 				t.Errorf("standard error max rel error %.2g > 1e-6", wse)
@@ -149,7 +149,7 @@ func TestArimaLikelihoodAtReferenceCoefficients(t *testing.T) {
 			n := len(pr.w)
 			pred, fvar := make([]float64, n), make([]float64, n)
 			pr.ss.filter(pr.deviations(est.coef.mu), &pr.kw, pred, fvar)
-			res := nullable(c.Residuals)
+			res := arimaNullable(c.Residuals)
 			ins := f.InSample()
 			L := o.lost()
 			wi := 0.0
@@ -163,7 +163,7 @@ func TestArimaLikelihoodAtReferenceCoefficients(t *testing.T) {
 			if wi > 1e-6 {
 				t.Errorf("standardised innovations differ from R's residuals by %.2g σ > 1e-6 σ", wi)
 			}
-			t.Logf("loglik rel %.1e, forecast rel %.1e, se rel %.1e, residuals %.1e σ", relErr(est.loglik, c.Loglik), worst, wse, wi)
+			t.Logf("loglik rel %.1e, forecast rel %.1e, se rel %.1e, residuals %.1e σ", arimaRelErr(est.loglik, c.Loglik), worst, wse, wi)
 		})
 	}
 }
@@ -175,9 +175,9 @@ func TestArimaLikelihoodAtReferenceCoefficients(t *testing.T) {
 // forecasts and their standard errors to 1e-5 relative (they move with the
 // coefficients; at equal coefficients they agree to 1e-6, see above).
 func TestArimaFitMatchesReference(t *testing.T) {
-	for _, c := range loadArimaRef(t) {
+	for _, c := range arimaLoadRef(t) {
 		t.Run(c.Name, func(t *testing.T) {
-			y := nullable(c.Y)
+			y := arimaNullable(c.Y)
 			o := c.orders()
 			f, err := fitArimaOrders(y, o)
 			if err != nil {
@@ -202,15 +202,15 @@ func TestArimaFitMatchesReference(t *testing.T) {
 			if o.constant {
 				check("constant", []float64{got.mu}, []float64{want.mu})
 			}
-			if e := relErr(f.LogLik(), c.Loglik); e > 1e-8 || f.LogLik() < c.Loglik-1e-9*math.Abs(c.Loglik) {
+			if e := arimaRelErr(f.LogLik(), c.Loglik); e > 1e-8 || f.LogLik() < c.Loglik-1e-9*math.Abs(c.Loglik) {
 				t.Errorf("loglik %.12g, R %.12g (rel %.2g; must be within 1e-8 and not below R's)", f.LogLik(), c.Loglik, e)
 			}
 			fc := f.Forecast(len(c.Forecast))
 			sd := f.ForecastVariance(len(c.SE))
 			wf, ws := 0.0, 0.0
 			for i := range fc {
-				wf = math.Max(wf, relErr(fc[i], c.Forecast[i]))
-				ws = math.Max(ws, relErr(math.Sqrt(sd[i]), c.SE[i]))
+				wf = math.Max(wf, arimaRelErr(fc[i], c.Forecast[i]))
+				ws = math.Max(ws, arimaRelErr(math.Sqrt(sd[i]), c.SE[i]))
 			}
 			if wf > 1e-5 {
 				t.Errorf("forecast max rel error %.2g > 1e-5", wf)
@@ -218,7 +218,7 @@ func TestArimaFitMatchesReference(t *testing.T) {
 			if ws > 1e-5 {
 				t.Errorf("standard error max rel error %.2g > 1e-5", ws)
 			}
-			t.Logf("coef rel %.1e, loglik rel %.1e (almanac − R %+.2g), forecast rel %.1e, se rel %.1e", worstCoef, relErr(f.LogLik(), c.Loglik), f.LogLik()-c.Loglik, wf, ws)
+			t.Logf("coef rel %.1e, loglik rel %.1e (almanac − R %+.2g), forecast rel %.1e, se rel %.1e", worstCoef, arimaRelErr(f.LogLik(), c.Loglik), f.LogLik()-c.Loglik, wf, ws)
 		})
 	}
 }
@@ -228,10 +228,10 @@ func TestArimaFitMatchesReference(t *testing.T) {
 // missing values).
 func TestArimaChandrasekharAgrees(t *testing.T) {
 	n := 0
-	for _, c := range loadArimaRef(t) {
-		y := nullable(c.Y)
+	for _, c := range arimaLoadRef(t) {
+		y := arimaNullable(c.Y)
 		o := c.orders()
-		pr := newArimaProblem(o, difference(y, o.diffPoly()))
+		pr := newArimaProblem(o, arimaDifference(y, o.diffPoly()))
 		if pr.gaps {
 			continue
 		}
@@ -240,10 +240,10 @@ func TestArimaChandrasekharAgrees(t *testing.T) {
 			t.Fatal(err)
 		}
 		x := pr.deviations(k.mu)
-		full, ok1 := pr.ss.filter(x, &kalmanWork{}, nil, nil)
-		fast, ok2 := pr.ss.filterChandrasekhar(x, &kalmanWork{})
+		full, ok1 := pr.ss.filter(x, &arimaKalmanWork{}, nil, nil)
+		fast, ok2 := pr.ss.filterChandrasekhar(x, &arimaKalmanWork{})
 		if !ok1 || !ok2 || full.nobs != fast.nobs ||
-			relErr(fast.ssq, full.ssq) > 1e-10 || math.Abs(fast.sumLog-full.sumLog) > 1e-10*math.Max(1, math.Abs(full.sumLog)) {
+			arimaRelErr(fast.ssq, full.ssq) > 1e-10 || math.Abs(fast.sumLog-full.sumLog) > 1e-10*math.Max(1, math.Abs(full.sumLog)) {
 			t.Errorf("%s: full %+v, Chandrasekhar %+v", c.Name, full, fast)
 		}
 		n++

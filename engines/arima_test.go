@@ -11,7 +11,7 @@ import (
 	"testing"
 )
 
-// TestKPSSMatchesStatsmodels: kpssLevel against statsmodels 0.13.5
+// TestKPSSMatchesStatsmodels: arimaKPSS against statsmodels 0.13.5
 // kpss(regression="c", nlags=⌊4(n/100)^¼⌋) on eight R datasets, raw and
 // differenced once and twice (testdata/reference/arima/make_kpss.py), to
 // 1e-10 relative; the 5% critical value is statsmodels' too.
@@ -36,12 +36,12 @@ func TestKPSSMatchesStatsmodels(t *testing.T) {
 		t.Fatalf("only %d cases", len(f.Cases))
 	}
 	for _, c := range f.Cases {
-		got, ok := kpssLevel(c.X)
-		if !ok || relErr(got, c.Stat) > 1e-10 {
+		got, ok := arimaKPSS(c.X)
+		if !ok || arimaRelErr(got, c.Stat) > 1e-10 {
 			t.Errorf("%s diff %d: KPSS %.12g, statsmodels %.12g", c.Name, c.Diffs, got, c.Stat)
 		}
-		if c.Crit != kpssCritical5 {
-			t.Errorf("5%% critical value %g, statsmodels %g", kpssCritical5, c.Crit)
+		if c.Crit != arimaKPSSCritical5 {
+			t.Errorf("5%% critical value %g, statsmodels %g", arimaKPSSCritical5, c.Crit)
 		}
 	}
 }
@@ -70,8 +70,8 @@ func TestSeasonalDecomposeMatchesR(t *testing.T) {
 		t.Fatal(err)
 	}
 	for _, c := range f.Cases {
-		tr, se, re := seasonalDecomposeAdditive(c.Y, c.Season)
-		wt, wr := nullable(c.Trend), nullable(c.Remainder)
+		tr, se, re := arimaDecompose(c.Y, c.Season)
+		wt, wr := arimaNullable(c.Trend), arimaNullable(c.Remainder)
 		for i := range c.Y {
 			if math.IsNaN(wt[i]) != math.IsNaN(tr[i]) || (!math.IsNaN(wt[i]) && math.Abs(tr[i]-wt[i]) > 1e-10*math.Abs(wt[i])) {
 				t.Fatalf("%s trend[%d] = %g, R %g", c.Name, i, tr[i], wt[i])
@@ -83,7 +83,7 @@ func TestSeasonalDecomposeMatchesR(t *testing.T) {
 				t.Fatalf("%s remainder[%d] = %g, R %g", c.Name, i, re[i], wr[i])
 			}
 		}
-		s, ok := seasonalStrength(c.Y, c.Season)
+		s, ok := arimaSeasonalStrength(c.Y, c.Season)
 		if !ok || math.Abs(s-c.Strength) > 1e-10 {
 			t.Errorf("%s strength %.12g, R %.12g", c.Name, s, c.Strength)
 		}
@@ -91,7 +91,7 @@ func TestSeasonalDecomposeMatchesR(t *testing.T) {
 	}
 }
 
-func refSeries(t *testing.T, name string) []float64 {
+func arimaRefSeries(t *testing.T, name string) []float64 {
 	t.Helper()
 	b, err := os.ReadFile("testdata/reference/data/" + name + ".json")
 	if err != nil {
@@ -106,7 +106,7 @@ func refSeries(t *testing.T, name string) []float64 {
 	return d.X
 }
 
-func logOf(x []float64) []float64 {
+func arimaLogOf(x []float64) []float64 {
 	out := make([]float64, len(x))
 	for i, v := range x {
 		out[i] = math.Log(v)
@@ -129,13 +129,13 @@ func TestArimaAutoChoices(t *testing.T) {
 		m      int
 		wantSe bool // a seasonal difference expected (strength > 0.64)
 	}{
-		{"AirPassengers(log)", logOf(refSeries(t, "AirPassengers")), 12, true},
-		{"USAccDeaths", refSeries(t, "USAccDeaths"), 12, true},
-		{"Nile", refSeries(t, "Nile"), 1, false},
-		{"LakeHuron", refSeries(t, "LakeHuron"), 1, false},
-		{"WWWusage", refSeries(t, "WWWusage"), 1, false},
-		{"UKgas(log)", logOf(refSeries(t, "UKgas")), 4, true},
-		{"nottem", refSeries(t, "nottem"), 12, true},
+		{"AirPassengers(log)", arimaLogOf(arimaRefSeries(t, "AirPassengers")), 12, true},
+		{"USAccDeaths", arimaRefSeries(t, "USAccDeaths"), 12, true},
+		{"Nile", arimaRefSeries(t, "Nile"), 1, false},
+		{"LakeHuron", arimaRefSeries(t, "LakeHuron"), 1, false},
+		{"WWWusage", arimaRefSeries(t, "WWWusage"), 1, false},
+		{"UKgas(log)", arimaLogOf(arimaRefSeries(t, "UKgas")), 4, true},
+		{"nottem", arimaRefSeries(t, "nottem"), 12, true},
 	}
 	m, err := New("arima", Options{})
 	if err != nil {
@@ -154,14 +154,14 @@ func TestArimaAutoChoices(t *testing.T) {
 			f := fit.(*ArimaFitted)
 			t.Logf("%s: %s, AICc %.3f, strength %.3f, warnings %v", c.name, f.Describe(), f.AICc(), f.strength, f.Warnings())
 			// d and D: recompute the tests directly.
-			d, D, _, _ := autoOrders(c.y, c.m, autoOrder, autoOrder)
+			d, D, _, _ := arimaAutoOrders(c.y, c.m, arimaAutoOrder, arimaAutoOrder)
 			if f.o.d != d || f.o.sd != D {
 				t.Errorf("fitted d=%d D=%d, tests say d=%d D=%d", f.o.d, f.o.sd, d, D)
 			}
 			if (D == 1) != c.wantSe {
-				t.Errorf("seasonal difference %d, want %v", D, c.wantSe)
+				t.Errorf("seasonal arimaDifference %d, want %v", D, c.wantSe)
 			}
-			for _, k := range []searchKey{{2, 2, 1, 1, true}, {0, 0, 0, 0, true}, {1, 0, 1, 0, true}, {0, 1, 0, 1, true}} {
+			for _, k := range []arimaKey{{2, 2, 1, 1, true}, {0, 0, 0, 0, true}, {1, 0, 1, 0, true}, {0, 1, 0, 1, true}} {
 				o := f.o
 				o.p, o.q = k.p, k.q
 				if o.m > 1 {
@@ -169,7 +169,7 @@ func TestArimaAutoChoices(t *testing.T) {
 				}
 				o.constant = o.d+o.sd <= 1
 				alt, err := fitArimaOrders(c.y, o)
-				if err != nil || nearUnitRoot(alt.coef, o.m) {
+				if err != nil || arimaNearUnitRoot(alt.coef, o.m) {
 					continue
 				}
 				t.Logf("  start form %s: AICc %.3f", o, alt.AICc())
@@ -191,7 +191,7 @@ func TestArimaAutoChoices(t *testing.T) {
 // TestArimaPartlyFixedOrders: fixed orders are held while the others are
 // chosen.
 func TestArimaPartlyFixedOrders(t *testing.T) {
-	y := logOf(refSeries(t, "AirPassengers"))
+	y := arimaLogOf(arimaRefSeries(t, "AirPassengers"))
 	m, err := New("arima", Options{"d": 1, "seasonal_d": 1, "q": 1, "p": 0})
 	if err != nil {
 		t.Fatal(err)
@@ -230,7 +230,7 @@ func TestArimaOptionErrors(t *testing.T) {
 		}
 	}
 	m, _ := New("arima", Options{"seasonal_p": 1})
-	if _, err := m.Fit(refSeries(t, "Nile"), 1); err == nil {
+	if _, err := m.Fit(arimaRefSeries(t, "Nile"), 1); err == nil {
 		t.Error("seasonal order with season length 1 accepted")
 	}
 }
@@ -297,7 +297,7 @@ func TestArimaRobustness(t *testing.T) {
 	// A missing last value: the likelihood is that of the series without
 	// it, and the forecasts are the 2…h+1-step forecasts from the shorter
 	// series.
-	y := logOf(refSeries(t, "AirPassengers"))
+	y := arimaLogOf(arimaRefSeries(t, "AirPassengers"))
 	short := slices.Clone(y[:len(y)-1])
 	y[len(y)-1] = nan
 	m, _ := New("arima", Options{"p": 0, "d": 1, "q": 1, "seasonal_p": 0, "seasonal_d": 1, "seasonal_q": 1})
@@ -322,7 +322,7 @@ func TestArimaRobustness(t *testing.T) {
 // same result as serially (run with -race).
 func TestArimaConcurrent(t *testing.T) {
 	auto, _ := New("arima", Options{})
-	series := [][]float64{logOf(refSeries(t, "AirPassengers")), refSeries(t, "USAccDeaths"), refSeries(t, "Nile"), refSeries(t, "WWWusage")}
+	series := [][]float64{arimaLogOf(arimaRefSeries(t, "AirPassengers")), arimaRefSeries(t, "USAccDeaths"), arimaRefSeries(t, "Nile"), arimaRefSeries(t, "WWWusage")}
 	seasons := []int{12, 12, 1, 1}
 	want := make([][]float64, len(series))
 	for i, y := range series {
@@ -389,7 +389,7 @@ func TestArimaNeverPanics(t *testing.T) {
 		for _, meth := range []Method{auto, fixedS, fixedN} {
 			f, err := meth.Fit(y, m)
 			if err != nil {
-				if meth == auto && countObserved(y) >= 3 && !errors.Is(err, ErrTooShort) {
+				if meth == auto && arimaCountObserved(y) >= 3 && !errors.Is(err, ErrTooShort) {
 					t.Errorf("series %d (n=%d, m=%d, kind %d): automatic choice failed: %v", k, n, m, kind, err)
 				}
 				failed++
