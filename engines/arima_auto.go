@@ -242,13 +242,18 @@ func arimaNearUnitRoot(c arimaCoef, m int) bool {
 		math.Pow(arimaMinRootModulus(arimaNeg(c.stheta)), 1/mm) < arimaRootMargin
 }
 
+// arimaSeasonsNeeded: seasonal terms (and the seasonal difference) are
+// considered only with at least this many full seasons of values (see the
+// ARIMA doc comment for the evidence behind 2).
+const arimaSeasonsNeeded = 2
+
 // arimaAutoOrders chooses D and d for y with season length m (m < 2: none);
 // fixedD and fixedd, when not arimaAutoOrder, are taken as given. seasonal
 // reports whether seasonal terms are considered at all: m ≥ 2 and at least
-// three full seasons of values.
+// two full seasons of values.
 func arimaAutoOrders(y []float64, m, fixedd, fixedD int) (d, D int, seasonal bool, strength float64) {
 	strength = math.NaN()
-	seasonal = m >= 2 && len(y) >= 3*m
+	seasonal = m >= 2 && len(y) >= arimaSeasonsNeeded*m
 	x := y
 	switch {
 	case fixedD >= 0:
