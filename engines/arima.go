@@ -29,10 +29,14 @@ import (
 // Monahan 1984), so every point the optimiser (gonum's BFGS with central
 // differences; see arimaMinimise for why BFGS) visits is stationary and
 // invertible. Missing values (NaN)
-// are skipped by the filter; with d + D > 0 a missing value also hides the
-// differences it enters, so the likelihood is that of the observed
-// differences. Without missing values this is the likelihood of R's
-// stats::arima(method = "ML"), whose fits are the reference of the tests.
+// are skipped by the filter. When the model differences a series with
+// gaps, the filter runs over y itself with the last d + mD values in the
+// state (filterIntegrated), so that a missing value costs one observation
+// rather than every difference it enters; a missing value among the first
+// d + mD starts as a diffuse state element, as in R. This is the
+// likelihood of R's stats::arima(method = "ML"), whose fits are the
+// reference of the tests (conditional on the first d + mD values, which is
+// R's diffuse likelihood in the limit of its kappa).
 //
 // Options (registered name "arima"): p, d, q, seasonal_p, seasonal_d,
 // seasonal_q, each "auto" (the default) or a fixed order (p, q 0…5; d 0…2;
@@ -59,25 +63,23 @@ import (
 //     terms allowed; the other seasonal M1 series are unaffected.)
 //
 // Shortcut: during the search each form is scored by the AICc of the exact
-// likelihood at its CSS estimates; only the chosen form is refitted by
-// exact maximum likelihood. Forms with an AR or MA root of modulus below
+// likelihood at its CSS estimates (for a series with gaps, the likelihood
+// of the observed differences); only the chosen form is refitted by exact
+// maximum likelihood. Forms with an AR or MA root of modulus below
 // 1.001 are refused in the search. When the chosen form cannot be refitted
 // the next best is taken, and as a last resort (0,d,0)(0,D,0) (with the
 // fixed orders), so the search returns a model for any series it can fit
 // at all.
 //
 // The fitted model forecasts by the Kalman filter's prediction of w,
-// integrated back to y through the last d + mD values; a missing value
-// among them (or anywhere after the first d + mD) is replaced by its
-// one-step prediction, in time order (a filtered, not a smoothed,
-// estimate); one among the first d + mD, which has no prediction, by
-// linear interpolation. Forecast variances are the exact finite-sample
-// ones from the filter's final state (see ForecastVariance), which reduce
-// to σ² Σ_{j<h} ψ_j² with ψ the weights of the full model
-// θ(B)Θ(B^m) / [φ(B)Φ(B^m)(1 − B)^d(1 − B^m)^D] once the filter has
-// converged. In-sample
-// values are the one-step predictions of the filter (NaN for the first
-// d + mD periods and where a needed value is missing).
+// integrated back to y through the last d + mD values; for a differenced
+// series with gaps, by continuing the filter over y, which estimates
+// missing values near the end from everything observed. Forecast
+// variances are the exact finite-sample ones from the filter's final state
+// (see ForecastVariance), which reduce to σ² Σ_{j<h} ψ_j² with ψ the
+// weights of the full model θ(B)Θ(B^m) / [φ(B)Φ(B^m)(1 − B)^d(1 − B^m)^D]
+// once the filter has converged. In-sample values are the one-step
+// predictions of the filter (NaN for the first d + mD periods).
 //
 // A fixed form needs at least k + 3 observed differenced values (k
 // coefficients), the automatic choice at least 3 observed values; fewer is
@@ -196,6 +198,7 @@ func (a *ARIMA) Fit(y []float64, season int) (Fitted, error) {
 func fitArimaOrders(y []float64, o arimaOrders) (*ArimaFitted, error) {
 	w := arimaDifference(y, o.diffPoly())
 	pr := newArimaProblem(o, w)
+	pr.useLevels(y)
 	if pr.nobs < o.nCoef()+3 {
 		return nil, fmt.Errorf("arima: %s needs at least %d observed values after differencing, have %d: %w",
 			o, o.nCoef()+3, pr.nobs, ErrTooShort)
@@ -261,6 +264,7 @@ func (a *ARIMA) fitAuto(y []float64, season, nobs int) (Fitted, error) {
 		scored := arimaStepwise(base, w, seasonal, a.allowConstant, fix)
 		for i, est := range scored {
 			pr := newArimaProblem(est.o, w)
+			pr.useLevels(y)
 			ml, err := pr.fitMLFrom(est.raw, arimaTolSearch)
 			if err != nil {
 				continue
@@ -330,6 +334,10 @@ type ArimaFitted struct {
 	auto     bool
 	strength float64
 	warnings []string
+
+	// levels: a differenced series with gaps, forecast by continuing the
+	// filter over y (state and pEnd then hold its state, r + L elements).
+	levels bool
 }
 
 var (
@@ -345,6 +353,9 @@ func newArimaFitted(y []float64, pr *arimaProblem, est arimaEstimate) (*ArimaFit
 	o := pr.o
 	if err := pr.setCoef(est.coef); err != nil {
 		return nil, fmt.Errorf("arima: %s: %w", o, err)
+	}
+	if pr.y != nil {
+		return newArimaFittedLevels(y, pr, est)
 	}
 	pred := make([]float64, len(pr.w))
 	if _, ok := pr.ss.filter(pr.deviations(est.coef.mu), &pr.kw, pred, nil); !ok {
@@ -389,6 +400,57 @@ func newArimaFitted(y []float64, pr *arimaProblem, est arimaEstimate) (*ArimaFit
 		}
 	}
 	return f, nil
+}
+
+// newArimaFittedLevels is newArimaFitted for a differenced series with
+// gaps: in-sample values, forecasts and their variances all come from the
+// filter over y with the differencing in the state (filterIntegrated), as
+// the likelihood did, so missing values near the end are estimated from
+// everything observed.
+func newArimaFittedLevels(y []float64, pr *arimaProblem, est arimaEstimate) (*ArimaFitted, error) {
+	o := pr.o
+	if err := pr.setCoef(est.coef); err != nil {
+		return nil, fmt.Errorf("arima: %s: %w", o, err)
+	}
+	pred := make([]float64, len(y))
+	var ws arimaKalmanWork
+	if _, ok := pr.ss.filterIntegrated(y, pr.yStart, pr.diff, est.coef.mu, &ws, pred, nil, true); !ok {
+		return nil, fmt.Errorf("arima: %s: the Kalman filter failed", o)
+	}
+	L := o.lost()
+	for t := 0; t < L; t++ {
+		pred[t] = math.NaN()
+	}
+	f := &ArimaFitted{
+		o: o, coef: est.coef, loglik: est.loglik, aicc: est.aicc, sigma2: est.sigma2, nobs: est.nobs,
+		ss: armaSS{
+			r:     pr.ss.r,
+			phi:   append([]float64(nil), pr.ss.phi...),
+			theta: append([]float64(nil), pr.ss.theta...),
+		},
+		diff:     o.diffPoly(),
+		strength: math.NaN(),
+		inSample: pred,
+		levels:   true,
+		state:    append([]float64(nil), ws.a...),
+		pEnd:     append([]float64(nil), ws.P...),
+	}
+	return f, nil
+}
+
+// levelsAhead continues the filter over y from the end of the series
+// through h missing values: the forecasts and their variances (units of
+// σ²).
+func (f *ArimaFitted) levelsAhead(h int) (mean, fvar []float64) {
+	L := len(f.diff) - 1
+	ws := arimaKalmanWork{a: append([]float64(nil), f.state...), P: append([]float64(nil), f.pEnd...)}
+	y := make([]float64, L+h)
+	for i := range y {
+		y[i] = math.NaN()
+	}
+	pred, fv := make([]float64, L+h), make([]float64, L+h)
+	f.ss.filterIntegrated(y, nil, f.diff, f.coef.mu, &ws, pred, fv, false)
+	return pred[L:], fv[L:]
 }
 
 // arimaFillStart returns a copy of y whose missing values among the first L are
@@ -475,6 +537,10 @@ func (f *ArimaFitted) Forecast(h int) []float64 {
 	if h <= 0 {
 		return []float64{}
 	}
+	if f.levels {
+		m, _ := f.levelsAhead(h)
+		return m
+	}
 	dev := f.ss.forecastDeviations(f.state, h)
 	L := len(f.diff) - 1
 	ext := make([]float64, L, L+h)
@@ -505,7 +571,9 @@ func (f *ArimaFitted) InSample() []float64 { return f.inSample }
 // ResidualVariance implements ForecastVariancer: the maximum-likelihood σ².
 func (f *ArimaFitted) ResidualVariance() float64 { return f.sigma2 }
 
-// ForecastVariance implements ForecastVariancer. The h-step error of y is
+// ForecastVariance implements ForecastVariancer. (For a differenced series
+// with gaps it is the variance of the filter over y continued h steps.)
+// The h-step error of y is
 // Σ_{j=1}^{h} κ_{h−j} u_j, with u_j the j-step error of the differenced
 // series and κ the weights of 1/[(1 − B)^d (1 − B^m)^D]; with P the
 // filter's covariance of the state after the last value,
@@ -519,6 +587,13 @@ func (f *ArimaFitted) ResidualVariance() float64 { return f.sigma2 }
 func (f *ArimaFitted) ForecastVariance(h int) []float64 {
 	if h < 0 {
 		panic("engines: ArimaFitted.ForecastVariance: negative horizon")
+	}
+	if f.levels {
+		_, fv := f.levelsAhead(h)
+		for i := range fv {
+			fv[i] *= f.sigma2
+		}
+		return fv
 	}
 	psi := f.psiWeights(h)
 	L := len(f.diff) - 1

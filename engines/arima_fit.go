@@ -100,12 +100,17 @@ func arimaDifference(y, c []float64) []float64 {
 // arimaProblem evaluates the criteria of one model form on one differenced
 // series. It is used by a single goroutine.
 type arimaProblem struct {
-	o      arimaOrders
-	w      []float64 // differenced series, NaN = missing
-	nobs   int       // observed values of w
-	gaps   bool      // some value of w is missing
-	center float64   // mean of the observed w
-	scale  float64   // their standard deviation (1 when zero)
+	o    arimaOrders
+	w    []float64 // differenced series, NaN = missing
+	nobs int       // observed values of w
+	gaps bool      // some value of w is missing
+	// y and yStart, when set (series with gaps and d + D > 0), make the
+	// likelihood that of y through filterIntegrated rather than that of
+	// the observed differences.
+	y, yStart []float64
+	diff      []float64
+	center    float64 // mean of the observed w
+	scale     float64 // their standard deviation (1 when zero)
 
 	// scratch
 	phi, theta, sphi, stheta []float64
@@ -255,13 +260,29 @@ func (pr *arimaProblem) exact(raw []float64) float64 {
 }
 
 // sums runs the filter at the loaded coefficients with mean mu: the
-// Chandrasekhar recursions when w has no missing values, else the full
-// filter.
+// Chandrasekhar recursions when w has no missing values, the filter over y
+// with the differencing in the state when y has gaps and is differenced
+// (see useLevels), else the full filter over w.
 func (pr *arimaProblem) sums(mu float64) (arimaSums, bool) {
+	if pr.y != nil {
+		return pr.ss.filterIntegrated(pr.y, pr.yStart, pr.diff, mu, &pr.kw, nil, nil, true)
+	}
 	if pr.gaps {
 		return pr.ss.filter(pr.deviations(mu), &pr.kw, nil, nil)
 	}
 	return pr.ss.filterChandrasekhar(pr.deviations(mu), &pr.kw)
+}
+
+// useLevels makes the likelihood that of y (filterIntegrated) when w has
+// gaps and the model differences, so that a missing value costs one
+// observation.
+func (pr *arimaProblem) useLevels(y []float64) {
+	if !pr.gaps || pr.o.lost() == 0 {
+		return
+	}
+	pr.y = y
+	pr.diff = pr.o.diffPoly()
+	pr.yStart = arimaFillStart(y, pr.o.lost())
 }
 
 // arimaLoglik converts the exact criterion over n observations.
