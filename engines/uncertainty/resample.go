@@ -16,8 +16,40 @@ import (
 type Paths struct {
 	H, Reps int
 	v       []float64 // v[r*H+s]
-	steps   [][]float64
-	totals  map[int][]float64
+	steps   []column  // sorted simulated values per step, built on first use
+	totals  map[int]column
+}
+
+// column is a sorted sample stored as its count of zeros and its sorted
+// positive values: most simulated periods of a slow mover are zero, and
+// only the rest need sorting.
+type column struct {
+	zeros int
+	pos   []float64
+}
+
+func newColumn(vals []float64) column {
+	c := column{pos: vals[:0]}
+	for _, v := range vals {
+		if v == 0 {
+			c.zeros++
+		} else {
+			c.pos = append(c.pos, v)
+		}
+	}
+	slices.Sort(c.pos)
+	return c
+}
+
+// quantile is sampleQuantile over the whole sample.
+func (c column) quantile(p float64) float64 {
+	n := c.zeros + len(c.pos)
+	k := int(math.Ceil(p*float64(n)-1e-9)) - 1 // 0-based rank
+	k = max(0, min(k, n-1))
+	if k < c.zeros {
+		return 0
+	}
+	return c.pos[k-c.zeros]
 }
 
 // Jitter says how a resampled demand size is varied.
@@ -94,7 +126,7 @@ func Resample(y []float64, h, reps int, seed uint64, jitter Jitter) (*Paths, err
 	}
 	last := state(obs[len(obs)-1])
 	rng := rand.New(rand.NewPCG(seed, seed^0x9e3779b97f4a7c15))
-	p := &Paths{H: h, Reps: reps, v: make([]float64, h*reps), totals: map[int][]float64{}}
+	p := &Paths{H: h, Reps: reps, v: make([]float64, h*reps), totals: map[int]column{}}
 	jit := jitter == JitterPublished && whole
 	for r := 0; r < reps; r++ {
 		st := last
@@ -125,20 +157,20 @@ func state(v float64) int {
 }
 
 // StepQuantile is the p-quantile of the simulated values at step s+1.
+// Paths build their sorted columns on first use, so one Paths value must
+// not be read from several goroutines at once.
 func (p *Paths) StepQuantile(s int, prob float64) float64 {
 	if p.steps == nil {
-		p.steps = make([][]float64, p.H)
+		p.steps = make([]column, p.H)
 	}
-	col := p.steps[s]
-	if col == nil {
-		col = make([]float64, p.Reps)
-		for r := range col {
-			col[r] = p.v[r*p.H+s]
+	if p.steps[s].pos == nil {
+		vals := make([]float64, p.Reps)
+		for r := range vals {
+			vals[r] = p.v[r*p.H+s]
 		}
-		slices.Sort(col)
-		p.steps[s] = col
+		p.steps[s] = newColumn(vals)
 	}
-	return sampleQuantile(col, prob)
+	return p.steps[s].quantile(prob)
 }
 
 // Quantile implements Quantiler.
@@ -149,20 +181,20 @@ func (p *Paths) TotalQuantile(l int, prob float64) float64 {
 	if l < 1 || l > p.H {
 		panic(fmt.Sprintf("uncertainty: lead time %d outside 1..%d", l, p.H))
 	}
-	col := p.totals[l]
-	if col == nil {
-		col = make([]float64, p.Reps)
-		for r := range col {
+	col, ok := p.totals[l]
+	if !ok {
+		vals := make([]float64, p.Reps)
+		for r := range vals {
 			sum := 0.0
 			for s := 0; s < l; s++ {
 				sum += p.v[r*p.H+s]
 			}
-			col[r] = sum
+			vals[r] = sum
 		}
-		slices.Sort(col)
+		col = newColumn(vals)
 		p.totals[l] = col
 	}
-	return sampleQuantile(col, prob)
+	return col.quantile(prob)
 }
 
 // MeanTotal is the mean of the simulated totals over steps 1..L.
@@ -174,11 +206,4 @@ func (p *Paths) MeanTotal(l int) float64 {
 		}
 	}
 	return sum / float64(p.Reps)
-}
-
-// sampleQuantile is the smallest value of the sorted sample with at least
-// a share p of the sample at or below it.
-func sampleQuantile(sorted []float64, p float64) float64 {
-	k := int(math.Ceil(p*float64(len(sorted)) - 1e-9))
-	return sorted[max(0, min(k-1, len(sorted)-1))]
 }
