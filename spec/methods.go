@@ -108,20 +108,20 @@ var catalog = map[string]methodDef{
 		},
 	},
 	"ses": {
-		Doc: "simple exponential smoothing (level only); smoothing weight and initial level fitted by least squares",
+		Doc: "simple exponential smoothing (level only), a state-space model; smoothing weight and initial level fitted by maximum likelihood",
 	},
 	"holt": {
-		Doc: "Holt's linear trend (level + trend), optionally damped; weights fitted by least squares",
+		Doc: "Holt's linear trend (level + trend), optionally damped, a state-space model; weights and initial states fitted by maximum likelihood",
 		Options: map[string]optionDef{
 			"damped": {Kind: kindBool, Default: false, Doc: "damped trend (Gardner & McKenzie), damping fitted in [0.8, 0.98]"},
 		},
 	},
 	"holt_winters": {
-		Doc:      "Holt-Winters (level + trend + season), additive or multiplicative season, optionally damped; weights fitted by least squares",
+		Doc:      "Holt-Winters (level + trend + season), a state-space model; season tested (auto), additive or multiplicative; optionally damped; weights and initial states fitted by maximum likelihood",
 		Seasonal: true,
 		Options: map[string]optionDef{
-			"seasonal": {Kind: kindEnum, Allowed: Forms, Default: string(Additive),
-				Doc: "additive or multiplicative season (multiplicative needs strictly positive values, else additive with a warning)"},
+			"seasonal": {Kind: kindEnum, Allowed: []string{"auto", string(Additive), string(Multiplicative)}, Default: "auto",
+				Doc: "auto (default): the lag-m autocorrelation test (90%) decides; no season found — level + trend only, season found — the additive or multiplicative form with the lower AICc (multiplicative only for strictly positive series); additive; multiplicative (needs strictly positive values, else additive with a warning)"},
 			"damped": {Kind: kindBool, Default: false, Doc: "damped trend, damping fitted in [0.8, 0.98]"},
 			"trend":  {Kind: kindBool, Default: true, Doc: "false drops the trend (level + season)"},
 		},
@@ -133,7 +133,7 @@ var catalog = map[string]methodDef{
 		},
 	},
 	"smoothing_auto": {
-		Doc: "exponential smoothing, form chosen per series by AICc among the admissible trend × season forms (named in the model column)",
+		Doc: "exponential smoothing as state-space models (ETS), form chosen per series by AICc among the admissible error × trend × season forms (named in the model column)",
 	},
 	"theta": {
 		Doc: "Theta method (simple exponential smoothing with drift of half the fitted slope), deseasonalised when the series tests seasonal",
