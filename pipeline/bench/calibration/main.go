@@ -32,6 +32,7 @@ package main
 
 import (
 	"bufio"
+	"cmp"
 	"compress/gzip"
 	"encoding/csv"
 	"flag"
@@ -62,6 +63,7 @@ type subset struct {
 	horizon   int
 	methods   string
 	route     string
+	source    string // intervals.source; "" means empirical
 	leads     []int
 	series    []*series
 	start     time.Time
@@ -88,6 +90,13 @@ func main() {
 	}
 	check(os.MkdirAll(*work, 0o755))
 	subs := loadM1(*m1)
+	// The same M1 subsets with model bounds: the state-space smoothing
+	// methods' own forecast variances (normal quantiles).
+	for _, s := range subs[:3] {
+		m := *s
+		m.name, m.source, m.methods = s.name+"-model", "model", "[ses, holt, smoothing_auto]"
+		subs = append(subs, &m)
+	}
 	subs = append(subs, panel(*bin, *work, "intermittent-panel", *panelSeries, 1, 11), panel(*bin, *work, "mixed-panel", *panelSeries, 0.2, 5))
 	fmt.Println("| data | series | per-step 80% | per-step 95% | MSIS 80 | MSIS 95 | totals (L) | total ≤ q50 | ≤ q80 | ≤ q95 | ≤ q99 | pinball | wrong side | negative | not nested |")
 	fmt.Println("|---|---|---|---|---|---|---|---|---|---|---|---|---|---|---|")
@@ -252,9 +261,9 @@ output: run
 backtest: {folds: 3, min_train: %d}
 selection:
   metric: mase
-%sintervals: {levels: [80, 95]}
+%sintervals: {levels: [80, 95], source: %s}
 totals: {lead_times: [%s], levels: [50, 80, 95, 99]}
-`, s.name, s.frequency, s.season, s.methods, s.horizon, minTrain, s.route, strings.Join(leads, ", "))
+`, s.name, s.frequency, s.season, s.methods, s.horizon, minTrain, s.route, cmp.Or(s.source, "empirical"), strings.Join(leads, ", "))
 	check(os.WriteFile(filepath.Join(dir, "spec.yaml"), []byte(spec), 0o644))
 }
 
