@@ -94,7 +94,7 @@ func main() {
 	// methods' own forecast variances (normal quantiles).
 	for _, s := range subs[:3] {
 		m := *s
-		m.name, m.source, m.methods = s.name+"-model", "model", "[ses, holt, smoothing_auto]"
+		m.name, m.source, m.methods = s.name+"-model", "model", "[ses, holt, smoothing_auto, arima]"
 		subs = append(subs, &m)
 	}
 	subs = append(subs, panel(*bin, *work, "intermittent-panel", *panelSeries, 1, 11), panel(*bin, *work, "mixed-panel", *panelSeries, 0.2, 5))
