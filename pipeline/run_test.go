@@ -290,8 +290,8 @@ func runBytes(t *testing.T, s *spec.Spec, out string, workers int) map[string][]
 		t.Fatal(err)
 	}
 	files := map[string][]byte{}
-	for _, name := range []string{runfolder.TableForecasts, runfolder.TableComponents, runfolder.TableSeasonalFactors, runfolder.TableProblems, runfolder.TableAccuracy, runfolder.TableChoices} {
-		if _, err := os.Stat(filepath.Join(out, name+".parquet")); os.IsNotExist(err) && (name == runfolder.TableAccuracy || name == runfolder.TableChoices) {
+	for _, name := range []string{runfolder.TableForecasts, runfolder.TableComponents, runfolder.TableSeasonalFactors, runfolder.TableProblems, runfolder.TableAccuracy, runfolder.TableChoices, runfolder.TableTotals} {
+		if _, err := os.Stat(filepath.Join(out, name+".parquet")); os.IsNotExist(err) && (name == runfolder.TableAccuracy || name == runfolder.TableChoices || name == runfolder.TableTotals) {
 			continue
 		}
 		b, err := os.ReadFile(filepath.Join(out, name+".parquet"))
