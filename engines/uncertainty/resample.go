@@ -83,6 +83,10 @@ const (
 // paths on every run and every machine. It returns an error when the
 // history has no positive demand.
 //
+// The steps and the jitter formula are as the paper gives them, from
+// memory (the paper was not at hand); the tests check the chain and the
+// jitter against values worked by hand.
+//
 // References:
 //   - Willemain, T. R., Smart, C. N. & Schwarz, H. F. (2004). A new
 //     approach to forecasting intermittent demand for service parts

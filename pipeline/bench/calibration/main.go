@@ -16,7 +16,7 @@
 //
 // Scores per subset: coverage of the per-step 80% and 95% bounds (share of
 // held-out values inside), the mean scaled interval score (Gneiting &
-// Raftery 2007, eq. 43, divided by the series' in-sample seasonal naive
+// Raftery 2007, eq. 43 from memory, divided by the series' in-sample seasonal naive
 // MAE, as in the M4 competition's MSIS), the share of held-out totals at or
 // below each total quantile, and the mean scaled pinball loss of the total
 // quantiles. Coherence is counted too: bounds on the wrong side of the
@@ -405,7 +405,8 @@ func score(s *subset, name, run string, keep func(id string) bool) {
 	}
 }
 
-// intervalScore is the interval score of Gneiting & Raftery (2007, eq. 43)
+// intervalScore is the interval score of Gneiting & Raftery (2007; eq. 43
+// from memory)
 // for the central (1 − alpha) interval [l, u] and the outcome y.
 func intervalScore(y, l, u, alpha float64) float64 {
 	s := u - l
