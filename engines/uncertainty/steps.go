@@ -16,8 +16,8 @@ type Smoothing struct {
 	// Monotone makes the spread grow with the step: the quantiles above
 	// the median never fall from one step to the next and those below it
 	// never rise (least-squares isotonic fit weighted by counts, the
-	// pool-adjacent-violators algorithm, common practice; Barlow, Bartholomew, Bremner &
-	// Brunk 1972).
+	// pool-adjacent-violators algorithm: common practice; Barlow,
+	// Bartholomew, Bremner & Brunk 1972, from memory).
 	Monotone bool
 }
 
