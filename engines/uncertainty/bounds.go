@@ -35,15 +35,16 @@ func (a *Additive) Quantile(step int, p float64) float64 {
 }
 
 // BandProbs lists the probabilities Bands reads for the given levels
-// (percent): for each level L the tails (1 − L/100)/2 and (1 + L/100)/2
-// and L/100 itself (the upper bound of a band censored at zero). The list
-// is sorted and free of duplicates.
+// (percent): for each level L, with α = 1 − L/100, the tails α/2 and
+// 1 − α/2, α/4 (where the band starts to bend towards zero), and L/100
+// itself (the upper bound of a band censored at zero). The list is sorted
+// and free of duplicates.
 func BandProbs(levels []int) []float64 {
 	var ps []float64
 	seen := map[float64]bool{}
 	for _, l := range levels {
 		c := float64(l) / 100
-		for _, p := range []float64{(1 - c) / 2, (1 + c) / 2, c} {
+		for _, p := range []float64{(1 - c) / 4, (1 - c) / 2, (1 + c) / 2, c} {
 			p = round12(p)
 			if !seen[p] {
 				seen[p] = true
@@ -65,12 +66,17 @@ func round12(p float64) float64 { return math.Round(p*1e12) / 1e12 }
 //
 // The bounds are coherent:
 //
-//   - The central band [Q((1−c)/2), Q((1+c)/2)] is taken, except that when
-//     nonNeg is set (the series cannot go below zero) the predictive
-//     distribution is read as censored at zero: when its lower quantile is
-//     at or below zero — at least (1−c)/2 of its mass at or below zero —
-//     the band is [0, Q(c)], which covers c of the censored distribution
-//     (a central band would cover (1+c)/2 of it).
+//   - The central band [Q(α/2), Q(1 − α/2)] is taken (α = 1 − c for the
+//     level c), except that when nonNeg is set (the series cannot go below
+//     zero) the predictive distribution is read as censored at zero, with
+//     the mass p₀ = P(Y ≤ 0) at zero. Once p₀ ≥ α/2 the band is [0, Q(c)],
+//     which covers c of the censored distribution (a central band would
+//     cover 1 − α/2 of it). Between p₀ = α/4 and α/2 the band slides from
+//     one to the other — [Q(a), Q(a + c)] with a = α − 2p₀, its lower end
+//     zero once a ≤ p₀ — so that a forecast drifting towards zero moves its
+//     bounds smoothly rather than in a jump; coverage there is between c
+//     and c + α/3 (plus the error of interpolating p₀ and the quantiles
+//     between the probabilities of BandProbs linearly in probability).
 //   - Each band contains its forecast: a bound on the wrong side of the
 //     forecast is moved onto it.
 //   - Bands nest: a higher level's band contains every lower level's.
@@ -103,12 +109,7 @@ func Bands(f []float64, levels []int, q Quantiler, nonNeg bool) (fc []float64, l
 	for s := 0; s < h; s++ {
 		prevLo, prevHi := fc[s], fc[s]
 		for _, k := range order {
-			c := float64(levels[k]) / 100
-			lo := q.Quantile(s, round12((1-c)/2))
-			hi := q.Quantile(s, round12((1+c)/2))
-			if nonNeg && lo <= 0 {
-				lo, hi = 0, math.Max(q.Quantile(s, round12(c)), 0)
-			}
+			lo, hi := band(q, s, float64(levels[k])/100, nonNeg)
 			lo, hi = math.Min(lo, prevLo), math.Max(hi, prevHi)
 			if nonNeg {
 				lo = math.Max(lo, 0)
@@ -118,6 +119,31 @@ func Bands(f []float64, levels []int, q Quantiler, nonNeg bool) (fc []float64, l
 		}
 	}
 	return fc, lower, upper
+}
+
+// band is one level's band at step s before containment and nesting (see
+// Bands).
+func band(q Quantiler, s int, c float64, nonNeg bool) (lo, hi float64) {
+	alpha := 1 - c
+	qa2 := q.Quantile(s, round12(alpha/2))
+	qhi := q.Quantile(s, round12(1-alpha/2))
+	if !nonNeg || qa2 > 0 && q.Quantile(s, round12(alpha/4)) > 0 {
+		return qa2, qhi // p₀ < α/4: the central band
+	}
+	qc := math.Max(q.Quantile(s, round12(c)), 0)
+	if qa2 <= 0 {
+		return 0, qc // p₀ ≥ α/2: censored
+	}
+	// α/4 ≤ p₀ < α/2: Q(α/4) ≤ 0 < Q(α/2).
+	qa4 := q.Quantile(s, round12(alpha/4))
+	p0 := alpha/4 + alpha/4*(0-qa4)/(qa2-qa4)
+	a := alpha - 2*p0
+	// Q(a + c), a + c between c and 1 − α/2.
+	hi = qc + (qhi-qc)*a/(alpha/2)
+	if a > p0 {
+		lo = qa2 * (a - p0) / (alpha/2 - p0) // Q(a), between Q(p₀) = 0 and Q(α/2)
+	}
+	return lo, hi
 }
 
 // TotalQuantiles returns, for each level (percent, 1–99), the value a

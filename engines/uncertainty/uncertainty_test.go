@@ -174,9 +174,45 @@ func TestBandsCoherent(t *testing.T) {
 	}
 }
 
+// As a forecast drifts towards zero, its censored band moves smoothly
+// (no jump where the lower bound reaches zero) and covers between c and
+// c + α/3 of the censored distribution (plus the error of interpolating
+// p₀ and the quantiles linearly, within a point here); with p₀ outside
+// (α/4, α/2) exactly c.
+func TestBandsSlideToCensored(t *testing.T) {
+	const c, alpha = 0.8, 0.2
+	phi := func(x float64) float64 { return 0.5 * math.Erfc(-x/math.Sqrt2) }
+	var prevLo, prevHi float64
+	for i := 0; i <= 400; i++ {
+		mu := 3 - float64(i)*0.01 // from 3 down to −1
+		q := normalQ{f: []float64{mu}, sd: []float64{1}}
+		_, lo, hi := Bands([]float64{math.Max(mu, 0)}, []int{80}, q, true)
+		l, u := lo[0][0], hi[0][0]
+		cover := phi(u - mu)
+		if l > 0 {
+			cover -= phi(l - mu)
+		}
+		p0 := phi(-mu)
+		switch {
+		case p0 < alpha/4 || p0 > alpha/2:
+			if math.Abs(cover-c) > 1e-6 && l < math.Max(mu, 0) && u > math.Max(mu, 0) {
+				t.Fatalf("μ=%.2f p0=%.3f: coverage %.4f, want %.2f", mu, p0, cover, c)
+			}
+		default:
+			if cover < c-1e-6 || cover > c+alpha/3+0.01 {
+				t.Fatalf("μ=%.2f p0=%.3f: coverage %.4f outside [%.2f, %.4f]", mu, p0, cover, c, c+alpha/3)
+			}
+		}
+		if i > 0 && (math.Abs(l-prevLo) > 0.05 || math.Abs(u-prevHi) > 0.05) {
+			t.Fatalf("μ=%.2f: band jumped from [%.3f, %.3f] to [%.3f, %.3f]", mu, prevLo, prevHi, l, u)
+		}
+		prevLo, prevHi = l, u
+	}
+}
+
 func TestBandProbs(t *testing.T) {
 	got := BandProbs([]int{95, 80})
-	want := []float64{0.025, 0.1, 0.8, 0.9, 0.95, 0.975}
+	want := []float64{0.0125, 0.025, 0.05, 0.1, 0.8, 0.9, 0.95, 0.975}
 	if !slices.Equal(got, want) {
 		t.Errorf("BandProbs = %v, want %v", got, want)
 	}
