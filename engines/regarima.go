@@ -478,7 +478,7 @@ func fitRegressionAuto(y []float64, x [][]float64, season int, opt RegressionARI
 	scored := arimaStepwise(base, w0, seasonal, opt.Constant, fix)
 	var warn []string
 	for i, est := range scored {
-		f, err := fitRegressionOrders(y, x, est.o, nil, arimaTolSearch, names)
+		f, err := fitRegressionOrders(y, x, est.o, est.raw, arimaTolSearch, names)
 		if err != nil {
 			if errors.Is(err, ErrTooShort) {
 				continue
