@@ -87,3 +87,16 @@ func TestSeasonalInterpolateFallbacks(t *testing.T) {
 		t.Errorf("two cycles: %v (want %v) %s %v", f[70], want, how, err)
 	}
 }
+
+func BenchmarkSeasonalInterpolate(b *testing.B) {
+	y, _ := interpInvented(1)
+	for _, h := range []int{3, 40, 41, 42, 100, 150} {
+		y[h] = math.NaN()
+	}
+	b.ReportAllocs()
+	for i := 0; i < b.N; i++ {
+		if _, _, err := SeasonalInterpolate(y, []int{7}); err != nil {
+			b.Fatal(err)
+		}
+	}
+}

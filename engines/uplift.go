@@ -264,3 +264,57 @@ func (f *UpliftFit) Apply(base []float64, xFuture [][]float64) ([]float64, error
 	}
 	return out, nil
 }
+
+// UpliftModel is a base method fitted on the driver-free history, with
+// the drivers' uplifts laid on its forecasts: the simple driver-aware
+// forecaster for short series.
+type UpliftModel struct {
+	Uplift *UpliftFit
+	Base   Fitted
+	warn   []string
+}
+
+// FitUpliftModel estimates the uplifts of the drivers x on y (FitUplifts),
+// divides them out of the history, fills what is then missing (missing y,
+// and periods a driver empties) by SeasonalInterpolate when base needs a
+// complete series — it always does so when anything is missing, which the
+// warnings record — and fits base on the result with the season length
+// season.
+func FitUpliftModel(y []float64, x [][]float64, season int, names []string, base Method) (*UpliftModel, error) {
+	u, err := FitUplifts(y, x, season, names)
+	if err != nil {
+		return nil, err
+	}
+	adj := u.Adjusted()
+	m := &UpliftModel{Uplift: u, warn: append([]string(nil), u.Warnings()...)}
+	filled, how, err := SeasonalInterpolate(adj, []int{season})
+	if err != nil {
+		return nil, err
+	}
+	if how != FillNone {
+		missing := 0
+		for _, v := range adj {
+			if math.IsNaN(v) {
+				missing++
+			}
+		}
+		m.warn = append(m.warn, fmt.Sprintf("uplift: %d missing values of the adjusted history filled (%s) for %s", missing, how, base.Name()))
+	}
+	if m.Base, err = base.Fit(filled, season); err != nil {
+		return nil, err
+	}
+	return m, nil
+}
+
+// Forecast forecasts len(xFuture[0]) steps (h when there are no drivers
+// is not defined: use the base method directly) with the drivers' future
+// values.
+func (m *UpliftModel) Forecast(xFuture [][]float64) ([]float64, error) {
+	if len(xFuture) == 0 {
+		return nil, fmt.Errorf("uplift: no future driver values")
+	}
+	return m.Uplift.Apply(m.Base.Forecast(len(xFuture[0])), xFuture)
+}
+
+// Warnings lists the uplift warnings and the fill, if any.
+func (m *UpliftModel) Warnings() []string { return m.warn }

@@ -147,3 +147,67 @@ func TestUpliftEdgeCases(t *testing.T) {
 		t.Errorf("short future driver: %v", err)
 	}
 }
+
+// TestUpliftModelForecast: seasonal naive on the adjusted history, with a
+// promotion on day 3 of the horizon, forecasts that day at the uplift
+// times the plain forecast, and a missing value in the history is filled
+// with a warning.
+func TestUpliftModelForecast(t *testing.T) {
+	y, promo, hol := upliftInvented(6)
+	y[30] = math.NaN()
+	base, err := New("seasonal_naive", Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	m, err := FitUpliftModel(y, [][]float64{promo, hol}, 7, []string{"promo", "holiday"}, base)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(m.Warnings()) != 1 || !strings.Contains(m.Warnings()[0], "1 missing values") {
+		t.Errorf("warnings %v", m.Warnings())
+	}
+	fp := make([]float64, 7)
+	fh := make([]float64, 7)
+	fp[2] = 1
+	fc, err := m.Forecast([][]float64{fp, fh})
+	if err != nil {
+		t.Fatal(err)
+	}
+	plain := m.Base.Forecast(7)
+	u := m.Uplift.Uplifts()[0]
+	for i := range fc {
+		want := plain[i]
+		if i == 2 {
+			want *= u
+		}
+		if math.Abs(fc[i]-want) > 1e-12 {
+			t.Errorf("step %d: %g, want %g", i, fc[i], want)
+		}
+	}
+	// A promotion in the last week is divided out before the seasonal
+	// naive forecast: its weekday is forecast at y/u, not at the spike.
+	promo2 := append([]float64(nil), promo...)
+	y2 := append([]float64(nil), y...)
+	promo2[108] = 1
+	y2[108] *= 1.6
+	m2, err := FitUpliftModel(y2, [][]float64{promo2, hol}, 7, nil, base)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p2 := m2.Base.Forecast(7)
+	u2 := m2.Uplift.Uplifts()[0]
+	if got, want := p2[108-105], y2[108]/u2; math.Abs(got-want) > 1e-9 {
+		t.Errorf("forecast of the promoted weekday %g, want %g (y/u)", got, want)
+	}
+}
+
+func BenchmarkFitUplifts(b *testing.B) {
+	y, promo, hol := upliftInvented(1)
+	x := [][]float64{promo, hol}
+	b.ReportAllocs()
+	for i := 0; i < b.N; i++ {
+		if _, err := FitUplifts(y, x, 7, nil); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
