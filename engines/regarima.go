@@ -470,20 +470,25 @@ func fitRegressionAuto(y []float64, x [][]float64, season int, opt RegressionARI
 	probe := base
 	probe.constant = constOK
 	rp, err := newRegProblem(y, x, probe, names)
+	var warn []string
+	if err != nil && constOK {
+		// A regressor that the differencing turns into a constant (a
+		// linear trend with d = 1) is the drift: search without one.
+		probe.constant, constOK = false, false
+		if rp, err = newRegProblem(y, x, probe, names); err == nil {
+			warn = append(warn, "regression arima: a regressor plays the part of the constant after differencing; no constant fitted")
+		}
+	}
 	if err != nil {
 		return nil, err
 	}
 	w0 := append([]float64(nil), rp.pr.w...)
 	fix := arimaKey{p: opt.P, q: opt.Q, sp: opt.SeasonalP, sq: opt.SeasonalQ}
-	scored := arimaStepwise(base, w0, seasonal, opt.Constant, fix)
-	var warn []string
+	scored := arimaStepwise(base, w0, seasonal, constOK, fix)
 	for i, est := range scored {
 		f, err := fitRegressionOrders(y, x, est.o, est.raw, arimaTolSearch, names)
 		if err != nil {
-			if errors.Is(err, ErrTooShort) {
-				continue
-			}
-			continue
+			continue // the next best form
 		}
 		if i > 0 {
 			warn = append(warn, fmt.Sprintf("regression arima: the best form of the search could not be fitted; took %s", est.o))
@@ -498,7 +503,7 @@ func fitRegressionAuto(y []float64, x [][]float64, season int, opt RegressionARI
 		o.constant = c
 		f, err := fitRegressionOrders(y, x, o, nil, arimaTolSearch, names)
 		if err == nil {
-			f.warn = append(f.warn, fmt.Sprintf("regression arima: the search found no usable form; fell back to %s", o))
+			f.warn = append(append(warn, f.warn...), fmt.Sprintf("regression arima: the search found no usable form; fell back to %s", o))
 			f.auto = true
 			return f, nil
 		}

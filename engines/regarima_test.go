@@ -234,3 +234,35 @@ func TestRegressionARIMAGapsDifferencedProfile(t *testing.T) {
 		}
 	}
 }
+
+// TestRegressionARIMAAutoTrendRegressor: a linear-trend regressor on a
+// series that needs differencing becomes the drift after differencing;
+// the automatic fit then drops the constant (with a warning) instead of
+// failing, and recovers the slope (0.5; within 0.25, the
+// mean step of the walk having sd 0.07).
+func TestRegressionARIMAAutoTrendRegressor(t *testing.T) {
+	rng := rand.New(rand.NewPCG(4, 4))
+	n := 200
+	y := make([]float64, n)
+	trend := make([]float64, n)
+	walk := 0.0
+	for i := range y {
+		trend[i] = float64(i)
+		walk += rng.NormFloat64()
+		y[i] = 10 + 0.5*float64(i) + walk
+	}
+	f, err := FitRegressionARIMA(y, [][]float64{trend}, 1, AutoRegressionARIMAOptions())
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Logf("%s, slope %.3f, warnings %v", f.Describe(), f.Coefficients()[0], f.Warnings())
+	if f.Errors().o.d != 1 {
+		t.Fatalf("d = %d for a random walk with drift", f.Errors().o.d)
+	}
+	if f.Errors().o.constant || len(f.Warnings()) == 0 {
+		t.Errorf("constant %v, warnings %v", f.Errors().o.constant, f.Warnings())
+	}
+	if b := f.Coefficients()[0]; math.Abs(b-0.5) > 0.25 {
+		t.Errorf("slope %.3f, want about 0.5", b)
+	}
+}
