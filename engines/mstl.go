@@ -158,3 +158,23 @@ func MSTL(y []float64, seasons []int, opt MSTLOptions) (*MSTLResult, error) {
 	}
 	return res, nil
 }
+
+// SeasonalAhead returns, for each kept season length, its component over
+// the h periods after the series, each repeating its last cycle
+// (S^{(j)}_{n+i} = S^{(j)}_{n+i−k·m_j}, k the smallest with n+i−k·m_j < n),
+// and their sum: the seasonal part of a forecast whose adjusted part comes
+// from any method fitted on Adjusted.
+func (r *MSTLResult) SeasonalAhead(h int) (each [][]float64, sum []float64) {
+	n := len(r.Trend)
+	sum = make([]float64, max(h, 0))
+	each = make([][]float64, len(r.Seasons))
+	for j, m := range r.Seasons {
+		each[j] = make([]float64, len(sum))
+		for i := range sum {
+			v := r.Seasonal[j][n-m+i%m]
+			each[j][i] = v
+			sum[i] += v
+		}
+	}
+	return each, sum
+}
