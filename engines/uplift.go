@@ -35,6 +35,11 @@ import (
 // order), and a warning. A driver never on (or whose periods have no
 // baseline) gets u_j = 1 and a warning. u_j is kept ≥ 0.
 //
+// Scope: short events (days or weeks on, then off). A driver that stays on
+// for a long stretch (a permanent price change) finds its baseline far
+// away in time, where the level may differ; such drivers belong in the
+// regression with ARIMA errors.
+//
 // Use: divide the history by the fitted factors (Adjusted) to get a
 // driver-free series for any method, forecast it, and multiply the
 // forecast by the factors of the future driver values (Apply).
