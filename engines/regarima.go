@@ -260,18 +260,16 @@ func regLeastSquares(w []float64, z [][]float64, names []string) (b, se, res []f
 // regProblem is the likelihood of one form as a function of the ARMA
 // coefficients and b.
 type regProblem struct {
-	o        arimaOrders
-	y        []float64
-	x        [][]float64
-	wy       []float64   // differenced y
-	wx       [][]float64 // differenced regressors
-	b0, s    []float64   // b = b0 + s·u
-	beta     []float64
-	u        []float64 // y − Xb (levels filter only)
-	pr       *arimaProblem
-	levels   bool
-	nc       int // ARMA coefficients + constant
-	armaInit []float64
+	o     arimaOrders
+	y     []float64
+	x     [][]float64
+	wy    []float64   // differenced y
+	wx    [][]float64 // differenced regressors
+	b0, s []float64   // b = b0 + s·u
+	beta  []float64
+	u     []float64 // y − Xb (levels filter only)
+	pr    *arimaProblem
+	nc    int // ARMA coefficients + constant
 }
 
 func newRegProblem(y []float64, x [][]float64, o arimaOrders, names []string) (*regProblem, error) {
@@ -317,7 +315,6 @@ func newRegProblem(y []float64, x [][]float64, o arimaOrders, names []string) (*
 	// The constant's parametrisation (center, scale) comes from w⁰.
 	rp.pr = newArimaProblem(o, w0)
 	if rp.pr.gaps && o.lost() > 0 {
-		rp.levels = true
 		rp.u = make([]float64, len(y))
 		rp.pr.useLevels(rp.u)
 	}
@@ -580,6 +577,9 @@ func (f *RegressionARIMAFit) AICc() float64 { return f.aicc }
 func (f *RegressionARIMAFit) Describe() string {
 	return fmt.Sprintf("regression on %d regressors with %s errors", len(f.beta), f.errs.Describe())
 }
+
+// Automatic reports whether the error orders were chosen by the search.
+func (f *RegressionARIMAFit) Automatic() bool { return f.auto }
 
 // Warnings lists what the fit had to work around.
 func (f *RegressionARIMAFit) Warnings() []string { return f.warn }
