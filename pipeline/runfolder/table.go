@@ -1,7 +1,9 @@
 package runfolder
 
 import (
+	"errors"
 	"fmt"
+	"io"
 	"math"
 	"os"
 
@@ -10,11 +12,10 @@ import (
 	"github.com/apache/arrow-go/v18/arrow/memory"
 	"github.com/apache/arrow-go/v18/parquet"
 	"github.com/apache/arrow-go/v18/parquet/compress"
-	"github.com/apache/arrow-go/v18/parquet/pqarrow"
 )
 
-// flushRows is how many rows a table buffers before handing them to the
-// Parquet writer; rowGroupRows is the largest row group written.
+// flushRows is how many rows a table buffers in one record batch;
+// rowGroupRows is the largest row group written (two batches).
 const (
 	flushRows    = 64 * 1024
 	rowGroupRows = 128 * 1024
@@ -47,7 +48,8 @@ type TableWriter struct {
 	name   string
 	path   string
 	file   *os.File
-	fw     *pqarrow.FileWriter
+	enc    *groupEncoder
+	group  []arrow.RecordBatch // the batches of the row group being filled
 	rb     *array.RecordBuilder
 	nkeys  int
 	cols   []Column
@@ -118,12 +120,14 @@ func NewTableWriter(dir, name string, keyNames []string, cols []Column, meta map
 	}
 	md := arrow.NewMetadata(keys, vals)
 	sch = arrow.NewSchema(sch.Fields(), &md)
-	fw, err := pqarrow.NewFileWriter(sch, f, writerProps(sch), pqarrow.NewArrowWriterProperties(pqarrow.WithStoreSchema(), pqarrow.WithAllocator(mem)))
+	// The encoder sees the file only as a writer, so that it cannot close
+	// it: Close syncs and closes the file itself.
+	enc, err := newGroupEncoder(sch, struct{ io.Writer }{f}, writerProps(sch), mem)
 	if err != nil {
-		f.Close()
+		f.Close() // the open failed; the staging folder is removed with the file
 		return nil, err
 	}
-	t := &TableWriter{name: name, path: path, file: f, fw: fw, rb: array.NewRecordBuilder(mem, sch), nkeys: len(keyNames), cols: cols}
+	t := &TableWriter{name: name, path: path, file: f, enc: enc, rb: array.NewRecordBuilder(mem, sch), nkeys: len(keyNames), cols: cols}
 	n := len(sch.Fields())
 	t.strs, t.floats, t.ints = make([]*array.StringBuilder, n), make([]*array.Float64Builder, n), make([]*array.Int32Builder, n)
 	t.dates, t.bools = make([]*array.Date32Builder, n), make([]*array.BooleanBuilder, n)
@@ -201,51 +205,67 @@ func (t *TableWriter) EndRow() error {
 	return nil
 }
 
+// flush ends the record batch being built; every second one completes a
+// row group, which goes to the encoder.
 func (t *TableWriter) flush() error {
 	if t.buffer == 0 {
 		return nil
 	}
-	rec := t.rb.NewRecordBatch()
-	defer rec.Release()
+	t.group = append(t.group, t.rb.NewRecordBatch())
 	t.buffer = 0
-	if err := t.fw.WriteBuffered(rec); err != nil {
-		return fmt.Errorf("writing %s: %w", t.name, err)
+	if int64(len(t.group))*flushRows >= rowGroupRows {
+		t.sendGroup()
 	}
 	return nil
 }
 
-// close flushes, finishes the Parquet footer and fsyncs the file.
+func (t *TableWriter) sendGroup() {
+	if len(t.group) > 0 {
+		t.enc.write(t.group)
+		t.group = nil
+	}
+}
+
+// Close flushes, waits for the encoder, writes the Parquet footer, and
+// fsyncs and closes the file.
 func (t *TableWriter) Close() error {
-	if t.fw == nil {
+	if t.enc == nil {
 		return nil
 	}
 	err := t.flush()
-	if cerr := t.fw.Close(); err == nil && cerr != nil {
+	t.sendGroup()
+	if cerr := t.enc.close(); err == nil && cerr != nil {
 		err = fmt.Errorf("writing %s: %w", t.name, cerr)
 	}
-	t.fw = nil
+	t.enc = nil
 	t.rb.Release()
-	// pqarrow's Close closes the underlying file; reopen to fsync.
 	if err == nil {
-		err = fsyncPath(t.path)
+		err = t.file.Sync()
 	}
-	return err
+	return errors.Join(err, t.file.Close())
 }
 
-// abort releases the writer without caring about the file.
+// Abort releases the writer without caring about the file, which the
+// failed run's staging folder takes with it.
 func (t *TableWriter) Abort() {
-	if t.fw != nil {
-		t.fw.Close()
-		t.fw = nil
+	if t.enc != nil {
+		for _, r := range t.group {
+			r.Release()
+		}
+		t.group = nil
+		t.enc.close() // only to stop its goroutine: the file is discarded
+		t.enc = nil
 		t.rb.Release()
+		t.file.Close() // discarded with the staging folder
 	}
 }
 
+// fsyncPath opens path (a file or a folder) and fsyncs it.
 func fsyncPath(path string) error {
 	f, err := os.Open(path)
 	if err != nil {
 		return err
 	}
-	defer f.Close()
-	return f.Sync()
+	syncErr := f.Sync()
+	return errors.Join(syncErr, f.Close())
 }
