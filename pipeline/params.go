@@ -3,6 +3,7 @@ package pipeline
 import (
 	"context"
 	"fmt"
+	"io"
 	"path/filepath"
 	"slices"
 
@@ -10,6 +11,7 @@ import (
 	"almanac/pipeline/calendar"
 	"almanac/pipeline/forecast"
 	"almanac/pipeline/ingest"
+	"almanac/pipeline/review/explain"
 	"almanac/pipeline/runfolder"
 	"almanac/pipeline/series"
 	"almanac/spec"
@@ -66,4 +68,17 @@ func SeriesParams(ctx context.Context, runDir string, key []string) (map[string]
 		}
 	}
 	return out, nil
+}
+
+// Explain writes the explanation of one series of a stored run to w (see
+// explain.Explain), with the fitted parameters of its methods refit by
+// SeriesParams. When the refit fails (say, the inputs moved) the
+// explanation is written without them and the reason goes to warn.
+func Explain(ctx context.Context, runDir string, key []string, w, warn io.Writer, opt explain.Options) error {
+	if params, err := SeriesParams(ctx, runDir, key); err == nil {
+		opt.Params = params
+	} else {
+		fmt.Fprintf(warn, "almanac explain: fitted parameters not shown: %v\n", err)
+	}
+	return explain.Explain(runDir, key, w, opt)
 }
