@@ -3,7 +3,6 @@ package pipeline
 import (
 	"context"
 	"fmt"
-	"io"
 	"path/filepath"
 	"slices"
 
@@ -11,7 +10,6 @@ import (
 	"almanac/pipeline/calendar"
 	"almanac/pipeline/forecast"
 	"almanac/pipeline/ingest"
-	"almanac/pipeline/review/explain"
 	"almanac/pipeline/runfolder"
 	"almanac/pipeline/series"
 	"almanac/spec"
@@ -70,15 +68,9 @@ func SeriesParams(ctx context.Context, runDir string, key []string) (map[string]
 	return out, nil
 }
 
-// Explain writes the explanation of one series of a stored run to w (see
-// explain.Explain), with the fitted parameters of its methods refit by
-// SeriesParams. When the refit fails (say, the inputs moved) the
-// explanation is written without them and the reason goes to warn.
-func Explain(ctx context.Context, runDir string, key []string, w, warn io.Writer, opt explain.Options) error {
-	if params, err := SeriesParams(ctx, runDir, key); err == nil {
-		opt.Params = params
-	} else {
-		fmt.Fprintf(warn, "almanac explain: fitted parameters not shown: %v\n", err)
+// Refit is SeriesParams bound to ctx, in the form explain.Options.Refit takes.
+func Refit(ctx context.Context) func(runDir string, key []string) (map[string]map[string]float64, error) {
+	return func(runDir string, key []string) (map[string]map[string]float64, error) {
+		return SeriesParams(ctx, runDir, key)
 	}
-	return explain.Explain(runDir, key, w, opt)
 }

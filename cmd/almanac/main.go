@@ -400,7 +400,9 @@ func explainCmd(c *cli.Context) error {
 	if m := c.String("methods"); m != "" {
 		opt.Methods = strings.Split(m, ",")
 	}
-	err := pipeline.Explain(c.Context, c.Args().First(), c.Args().Slice()[1:], c.App.Writer, c.App.ErrWriter, opt)
+	// The tables hold no fitted parameters: explain refits the series.
+	opt.Refit, opt.Warn = pipeline.Refit(c.Context), c.App.ErrWriter
+	err := explain.Explain(c.Args().First(), c.Args().Slice()[1:], c.App.Writer, opt)
 	var nf *explain.NotFoundError
 	switch {
 	case errors.As(err, &nf):
