@@ -151,7 +151,9 @@ func (p *Plan) Run(ctx context.Context, opts Options, started time.Time) (*Summa
 	}
 	defer func() {
 		if !x.committed {
-			os.RemoveAll(x.staging)
+			// The run failed and reports why; a staging folder that cannot
+			// be removed is hidden, marked, and cleaned by the next run.
+			_ = os.RemoveAll(x.staging)
 		}
 	}()
 	if err := x.openTables(); err != nil {
@@ -357,7 +359,10 @@ func (x *execution) manifest() (*Manifest, error) {
 		if err != nil {
 			return nil, err
 		}
-		st, _ := os.Stat(t.Path())
+		st, err := os.Stat(t.Path())
+		if err != nil {
+			return nil, err
+		}
 		man.Tables = append(man.Tables, runfolder.TableInfo{Name: t.Name(), File: t.Name() + ".parquet", Rows: t.Rows(), Bytes: st.Size(), SHA256: sum})
 	}
 	return man, nil
