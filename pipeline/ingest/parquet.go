@@ -195,7 +195,7 @@ func parquetPeriods(path, name string, col arrow.Array, cal calendar.Calendar, b
 func parquetValues(path, name string, col arrow.Array) ([]float64, error) {
 	n := col.Len()
 	out := make([]float64, n)
-	get := func(i int) float64 { return 0 }
+	var get func(i int) float64
 	switch c := col.(type) {
 	case *array.Float64:
 		get = func(i int) float64 { return c.Value(i) }
