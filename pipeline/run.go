@@ -355,15 +355,7 @@ func (x *execution) manifest() (*Manifest, error) {
 			Series: w.methodSeries[m.Spec.Label]})
 	}
 	for _, t := range w.tables() {
-		sum, err := runfolder.HashFile(t.Path())
-		if err != nil {
-			return nil, err
-		}
-		st, err := os.Stat(t.Path())
-		if err != nil {
-			return nil, err
-		}
-		man.Tables = append(man.Tables, runfolder.TableInfo{Name: t.Name(), File: t.Name() + ".parquet", Rows: t.Rows(), Bytes: st.Size(), SHA256: sum})
+		man.Tables = append(man.Tables, runfolder.TableInfo{Name: t.Name(), File: t.Name() + ".parquet", Rows: t.Rows(), Bytes: t.Size(), SHA256: t.SHA256()})
 	}
 	return man, nil
 }

@@ -1,8 +1,11 @@
 package runfolder
 
 import (
+	"crypto/sha256"
+	"encoding/hex"
 	"errors"
 	"fmt"
+	"hash"
 	"io"
 	"math"
 	"os"
@@ -48,6 +51,9 @@ type TableWriter struct {
 	name   string
 	path   string
 	file   *os.File
+	hash   hash.Hash // of every byte written to file
+	size   int64
+	sum    string // hex SHA-256, once closed
 	enc    *groupEncoder
 	group  []arrow.RecordBatch // the batches of the row group being filled
 	rb     *array.RecordBuilder
@@ -120,14 +126,16 @@ func NewTableWriter(dir, name string, keyNames []string, cols []Column, meta map
 	}
 	md := arrow.NewMetadata(keys, vals)
 	sch = arrow.NewSchema(sch.Fields(), &md)
-	// The encoder sees the file only as a writer, so that it cannot close
-	// it: Close syncs and closes the file itself.
-	enc, err := newGroupEncoder(sch, struct{ io.Writer }{f}, writerProps(sch), mem)
+	// The bytes are hashed as they are written, for the manifest.
+	h := sha256.New()
+	t := &TableWriter{name: name, path: path, file: f, hash: h, rb: array.NewRecordBuilder(mem, sch), nkeys: len(keyNames), cols: cols}
+	enc, err := newGroupEncoder(sch, &countingWriter{w: io.MultiWriter(f, h), n: &t.size}, writerProps(sch), mem)
 	if err != nil {
+		t.rb.Release()
 		f.Close() // the open failed; the staging folder is removed with the file
 		return nil, err
 	}
-	t := &TableWriter{name: name, path: path, file: f, enc: enc, rb: array.NewRecordBuilder(mem, sch), nkeys: len(keyNames), cols: cols}
+	t.enc = enc
 	n := len(sch.Fields())
 	t.strs, t.floats, t.ints = make([]*array.StringBuilder, n), make([]*array.Float64Builder, n), make([]*array.Int32Builder, n)
 	t.dates, t.bools = make([]*array.Date32Builder, n), make([]*array.BooleanBuilder, n)
@@ -241,8 +249,30 @@ func (t *TableWriter) Close() error {
 	t.rb.Release()
 	if err == nil {
 		err = t.file.Sync()
+		t.sum = hex.EncodeToString(t.hash.Sum(nil))
 	}
 	return errors.Join(err, t.file.Close())
+}
+
+// SHA256 is the hex SHA-256 of the table's file; Size its length in bytes.
+// Both are known once Close has succeeded.
+func (t *TableWriter) SHA256() string { return t.sum }
+
+// Size is the length of the table's file in bytes.
+func (t *TableWriter) Size() int64 { return t.size }
+
+// countingWriter counts the bytes written through it. The encoder sees
+// the file only through it, so that it cannot close the file: the table
+// writer syncs and closes it.
+type countingWriter struct {
+	w io.Writer
+	n *int64
+}
+
+func (c *countingWriter) Write(p []byte) (int, error) {
+	n, err := c.w.Write(p)
+	*c.n += int64(n)
+	return n, err
 }
 
 // Abort releases the writer without caring about the file, which the
