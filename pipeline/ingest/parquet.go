@@ -40,7 +40,7 @@ func readParquet(s *spec.Spec, f *InputFile, fileIdx int32, cal calendar.Calenda
 	}
 	defer pf.Close()
 	mem := memory.DefaultAllocator
-	fr, err := pqarrow.NewFileReader(pf, pqarrow.ArrowReadProperties{BatchSize: parquetBatchRows}, mem)
+	fr, err := pqarrow.NewFileReader(pf, pqarrow.ArrowReadProperties{BatchSize: parquetBatchRows, Parallel: true}, mem)
 	if err != nil {
 		return fmt.Errorf("%s: not a readable Parquet file: %v", f.Path, err)
 	}
