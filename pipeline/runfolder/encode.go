@@ -17,24 +17,30 @@ import (
 	"github.com/apache/arrow-go/v18/parquet/pqarrow"
 )
 
-// groupEncoder writes the row groups of one table in order, on a goroutine
-// of its own, and encodes the columns of each row group in parallel: one
-// goroutine per column, each feeding only its own column-chunk writer of a
-// buffered row group. A column chunk's bytes depend only on the values and
+// groupEncoder writes the record batches of one table in order, on a
+// goroutine of its own, into buffered row groups of at most maxRows rows,
+// and encodes the columns of each batch in parallel: one goroutine per
+// column, each feeding only its own column-chunk writer of the row group. A column chunk's bytes depend only on the values and
 // the sequence of writes into it, which is the same at any worker count, so
 // the file is byte-identical to one written column after column.
 //
 // The calls reproduce what pqarrow.FileWriter.WriteBuffered does for flat
 // columns (the same schema conversion, key-value metadata, definition
 // levels and write boundaries: every record batch is written whole into
-// the current row group), which the table-hash pins check.
+// the current row group, a new row group once it holds maxRows), which the
+// table-hash pins check. One batch is encoded while the next is built: the
+// hand-over is unbuffered, so memory holds at most two batches per table.
 type groupEncoder struct {
-	wr     *file.Writer
-	fields []arrow.Field
-	props  pqarrow.ArrowWriterProperties
-	groups chan []arrow.RecordBatch
-	done   chan struct{}
-	err    error // set by the goroutine; read after done is closed
+	wr      *file.Writer
+	fields  []arrow.Field
+	props   pqarrow.ArrowWriterProperties
+	maxRows int64
+	rgw     file.BufferedRowGroupWriter
+	rgRows  int64
+	def     [][]int16 // definition levels, one buffer per column
+	recs    chan arrow.RecordBatch
+	done    chan struct{}
+	err     error // set by the goroutine; read after done is closed
 }
 
 // newGroupEncoder starts the file: the Parquet schema of sch, its metadata
@@ -59,48 +65,52 @@ func newGroupEncoder(sch *arrow.Schema, w io.Writer, props *parquet.WriterProper
 	if err != nil {
 		return nil, err
 	}
-	e := &groupEncoder{wr: wr, fields: sch.Fields(), props: arrProps,
-		groups: make(chan []arrow.RecordBatch, 1), done: make(chan struct{})}
+	e := &groupEncoder{wr: wr, fields: sch.Fields(), props: arrProps, maxRows: props.MaxRowGroupLength(),
+		def: make([][]int16, len(sch.Fields())), recs: make(chan arrow.RecordBatch), done: make(chan struct{})}
 	go e.loop()
 	return e, nil
 }
 
-// loop writes the row groups as they come; after the first error it only
+// loop writes the batches as they come; after the first error it only
 // releases them.
 func (e *groupEncoder) loop() {
 	defer close(e.done)
-	for recs := range e.groups {
+	for rec := range e.recs {
 		if e.err == nil {
-			e.err = e.writeGroup(recs)
+			e.err = e.writeBatch(rec)
 		}
-		for _, r := range recs {
-			r.Release()
-		}
+		rec.Release()
 	}
 }
 
-// write queues one row group (its record batches, in order); it blocks
-// while another waits. The encoder takes over the records.
-func (e *groupEncoder) write(recs []arrow.RecordBatch) { e.groups <- recs }
+// write hands one record batch to the encoder, which takes it over; it
+// blocks until the encoder has finished the previous one.
+func (e *groupEncoder) write(rec arrow.RecordBatch) { e.recs <- rec }
 
-// writeGroup appends a buffered row group (closing the previous one) and
-// encodes its columns in parallel.
-func (e *groupEncoder) writeGroup(recs []arrow.RecordBatch) error {
-	rgw, err := e.wr.AppendBufferedRowGroupChecked()
-	if err != nil {
-		return err
+// writeBatch writes rec into the current row group, first starting a new
+// one (which closes the previous) when there is none or it is full, and
+// encodes rec's columns in parallel. Batches never straddle row groups:
+// the table's batches are at most maxRows rows and divide it.
+func (e *groupEncoder) writeBatch(rec arrow.RecordBatch) error {
+	if e.rgw == nil || e.rgRows+rec.NumRows() > e.maxRows {
+		rgw, err := e.wr.AppendBufferedRowGroupChecked()
+		if err != nil {
+			return err
+		}
+		e.rgw, e.rgRows = rgw, 0
 	}
+	e.rgRows += rec.NumRows()
 	errs := make([]error, len(e.fields))
 	var wg sync.WaitGroup
 	for c := range e.fields {
-		cw, err := rgw.Column(c)
+		cw, err := e.rgw.Column(c)
 		if err != nil {
 			return err
 		}
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			errs[c] = e.writeColumn(cw, c, recs)
+			errs[c] = e.writeColumn(cw, c, rec)
 		}()
 	}
 	wg.Wait()
@@ -112,40 +122,38 @@ func (e *groupEncoder) writeGroup(recs []arrow.RecordBatch) error {
 	return nil
 }
 
-// writeColumn writes column c of every record into cw, with the definition
-// levels pqarrow's path builder gives a flat column: none for a required
-// field; for a nullable one 1 where a value is present and 0 where it is
-// null, the leaf counting as nullable unless the batch holds no null.
-func (e *groupEncoder) writeColumn(cw file.ColumnChunkWriter, c int, recs []arrow.RecordBatch) error {
-	ctx := pqarrow.NewArrowWriteContext(context.Background(), &e.props)
-	nullable := e.fields[c].Nullable
-	for _, rec := range recs {
-		arr := rec.Column(c)
-		if arr.Len() == 0 {
-			continue
-		}
-		var def []int16
-		leafNullable := false
-		if nullable {
-			def = make([]int16, arr.Len())
-			for i := range def {
-				if arr.IsValid(i) {
-					def[i] = 1
-				}
-			}
-			leafNullable = arr.NullN() > 0
-		}
-		if err := pqarrow.WriteArrowToColumn(ctx, cw, arr, def, nil, leafNullable); err != nil {
-			return err
-		}
+// writeColumn writes column c of rec into cw, with the definition levels
+// pqarrow's path builder gives a flat column: none for a required field;
+// for a nullable one 1 where a value is present and 0 where it is null, the
+// leaf counting as nullable unless the batch holds no null.
+func (e *groupEncoder) writeColumn(cw file.ColumnChunkWriter, c int, rec arrow.RecordBatch) error {
+	arr := rec.Column(c)
+	if arr.Len() == 0 {
+		return nil
 	}
-	return nil
+	ctx := pqarrow.NewArrowWriteContext(context.Background(), &e.props)
+	var def []int16
+	leafNullable := false
+	if e.fields[c].Nullable {
+		if cap(e.def[c]) < arr.Len() {
+			e.def[c] = make([]int16, arr.Len())
+		}
+		def = e.def[c][:arr.Len()]
+		for i := range def {
+			def[i] = 0
+			if arr.IsValid(i) {
+				def[i] = 1
+			}
+		}
+		leafNullable = arr.NullN() > 0
+	}
+	return pqarrow.WriteArrowToColumn(ctx, cw, arr, def, nil, leafNullable)
 }
 
 // close waits for the queued row groups and writes the footer (closing the
 // last row group). It does not close the underlying file.
 func (e *groupEncoder) close() error {
-	close(e.groups)
+	close(e.recs)
 	<-e.done
 	if e.err != nil {
 		e.wr.Close() // already failed: the file is discarded, this only releases

@@ -18,9 +18,11 @@ import (
 )
 
 // flushRows is how many rows a table buffers in one record batch;
-// rowGroupRows is the largest row group written (two batches).
+// rowGroupRows is the largest row group written (four batches). The batch
+// size does not change the bytes (the column writers cut every write into
+// the same mini-batches), only how much a table holds in flight.
 const (
-	flushRows    = 64 * 1024
+	flushRows    = 32 * 1024
 	rowGroupRows = 128 * 1024
 )
 
@@ -55,7 +57,6 @@ type TableWriter struct {
 	size   int64
 	sum    string // hex SHA-256, once closed
 	enc    *groupEncoder
-	group  []arrow.RecordBatch // the batches of the row group being filled
 	rb     *array.RecordBuilder
 	nkeys  int
 	cols   []Column
@@ -213,25 +214,14 @@ func (t *TableWriter) EndRow() error {
 	return nil
 }
 
-// flush ends the record batch being built; every second one completes a
-// row group, which goes to the encoder.
+// flush hands the record batch being built to the encoder.
 func (t *TableWriter) flush() error {
 	if t.buffer == 0 {
 		return nil
 	}
-	t.group = append(t.group, t.rb.NewRecordBatch())
+	t.enc.write(t.rb.NewRecordBatch())
 	t.buffer = 0
-	if int64(len(t.group))*flushRows >= rowGroupRows {
-		t.sendGroup()
-	}
 	return nil
-}
-
-func (t *TableWriter) sendGroup() {
-	if len(t.group) > 0 {
-		t.enc.write(t.group)
-		t.group = nil
-	}
 }
 
 // Close flushes, waits for the encoder, writes the Parquet footer, and
@@ -241,7 +231,6 @@ func (t *TableWriter) Close() error {
 		return nil
 	}
 	err := t.flush()
-	t.sendGroup()
 	if cerr := t.enc.close(); err == nil && cerr != nil {
 		err = fmt.Errorf("writing %s: %w", t.name, cerr)
 	}
@@ -279,10 +268,6 @@ func (c *countingWriter) Write(p []byte) (int, error) {
 // failed run's staging folder takes with it.
 func (t *TableWriter) Abort() {
 	if t.enc != nil {
-		for _, r := range t.group {
-			r.Release()
-		}
-		t.group = nil
 		t.enc.close() // only to stop its goroutine: the file is discarded
 		t.enc = nil
 		t.rb.Release()
