@@ -53,12 +53,14 @@ func readParquet(s *spec.Spec, f *InputFile, fileIdx int32, cal calendar.Calenda
 		return fmt.Errorf("%s: %v", f.Path, err)
 	}
 	defer rr.Release()
+	pr := prefetch(rr)
+	defer pr.Release()
 
 	keyParts := make([]string, len(s.Columns.Keys))
 	var row int64
 	var errs []string
-	for rr.Next() {
-		rec := rr.RecordBatch()
+	for pr.Next() {
+		rec := pr.RecordBatch()
 		n := int(rec.NumRows())
 		tcol, vcol := rec.Column(0), rec.Column(1)
 		periods, terrs := parquetPeriods(f.Path, s.Columns.Time, tcol, cal, row)
@@ -101,7 +103,7 @@ func readParquet(s *spec.Spec, f *InputFile, fileIdx int32, cal calendar.Calenda
 		}
 		return &DataError{Msgs: errs}
 	}
-	if err := rr.Err(); err != nil {
+	if err := pr.Err(); err != nil {
 		return fmt.Errorf("%s: not a readable Parquet file: %v", f.Path, err)
 	}
 	f.Rows = row
