@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"context"
 	"encoding/base64"
+	"errors"
 	"fmt"
 	"io"
 	"sync"
@@ -19,8 +20,9 @@ import (
 
 // groupEncoder writes the record batches of one table in order, on a
 // goroutine of its own, into buffered row groups of at most maxRows rows,
-// and encodes the columns of each batch in parallel: one goroutine per
-// column, each feeding only its own column-chunk writer of the row group. A column chunk's bytes depend only on the values and
+// and encodes the columns in parallel: one goroutine per column, each
+// feeding only its own column-chunk writer of the row group, batch after
+// batch; the columns wait for each other only when a row group ends. A column chunk's bytes depend only on the values and
 // the sequence of writes into it, which is the same at any worker count, so
 // the file is byte-identical to one written column after column.
 //
@@ -38,9 +40,19 @@ type groupEncoder struct {
 	rgw     file.BufferedRowGroupWriter
 	rgRows  int64
 	def     [][]int16 // definition levels, one buffer per column
+	cols    []chan columnTask
+	pending sync.WaitGroup // column tasks handed out and not yet done
+	colErr  []error        // by column: set by its goroutine, read after pending.Wait
 	recs    chan arrow.RecordBatch
 	done    chan struct{}
 	err     error // set by the goroutine; read after done is closed
+}
+
+// columnTask is one batch's column for a column goroutine to write; the
+// task holds a reference to the batch.
+type columnTask struct {
+	cw  file.ColumnChunkWriter
+	rec arrow.RecordBatch
 }
 
 // newGroupEncoder starts the file: the Parquet schema of sch, its metadata
@@ -67,8 +79,33 @@ func newGroupEncoder(sch *arrow.Schema, w io.Writer, props *parquet.WriterProper
 	}
 	e := &groupEncoder{wr: wr, fields: sch.Fields(), props: arrProps, maxRows: props.MaxRowGroupLength(),
 		def: make([][]int16, len(sch.Fields())), recs: make(chan arrow.RecordBatch), done: make(chan struct{})}
+	n := len(e.fields)
+	e.cols, e.colErr = make([]chan columnTask, n), make([]error, n)
+	for c := range e.cols {
+		e.cols[c] = make(chan columnTask)
+		go e.column(c)
+	}
 	go e.loop()
 	return e, nil
+}
+
+// column writes column c of every batch handed to it, in order; after its
+// first error it only releases them.
+func (e *groupEncoder) column(c int) {
+	for t := range e.cols[c] {
+		if e.colErr[c] == nil {
+			e.colErr[c] = e.writeColumn(t.cw, c, t.rec)
+		}
+		t.rec.Release()
+		e.pending.Done()
+	}
+}
+
+// settle waits for every column task handed out and returns the first
+// column error.
+func (e *groupEncoder) settle() error {
+	e.pending.Wait()
+	return errors.Join(e.colErr...)
 }
 
 // loop writes the batches as they come; after the first error it only
@@ -81,18 +118,28 @@ func (e *groupEncoder) loop() {
 		}
 		rec.Release()
 	}
+	if err := e.settle(); e.err == nil {
+		e.err = err
+	}
+	for _, ch := range e.cols {
+		close(ch)
+	}
 }
 
 // write hands one record batch to the encoder, which takes it over; it
 // blocks until the encoder has finished the previous one.
 func (e *groupEncoder) write(rec arrow.RecordBatch) { e.recs <- rec }
 
-// writeBatch writes rec into the current row group, first starting a new
-// one (which closes the previous) when there is none or it is full, and
-// encodes rec's columns in parallel. Batches never straddle row groups:
-// the table's batches are at most maxRows rows and divide it.
+// writeBatch hands rec's columns to the column goroutines, into the
+// current row group, first starting a new one when there is none or it is
+// full: then every column must have finished the previous one, which
+// starting the next closes. Batches never straddle row groups: the
+// table's batches are at most maxRows rows and divide it.
 func (e *groupEncoder) writeBatch(rec arrow.RecordBatch) error {
 	if e.rgw == nil || e.rgRows+rec.NumRows() > e.maxRows {
+		if err := e.settle(); err != nil {
+			return err
+		}
 		rgw, err := e.wr.AppendBufferedRowGroupChecked()
 		if err != nil {
 			return err
@@ -100,24 +147,14 @@ func (e *groupEncoder) writeBatch(rec arrow.RecordBatch) error {
 		e.rgw, e.rgRows = rgw, 0
 	}
 	e.rgRows += rec.NumRows()
-	errs := make([]error, len(e.fields))
-	var wg sync.WaitGroup
 	for c := range e.fields {
 		cw, err := e.rgw.Column(c)
 		if err != nil {
 			return err
 		}
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			errs[c] = e.writeColumn(cw, c, rec)
-		}()
-	}
-	wg.Wait()
-	for _, err := range errs {
-		if err != nil {
-			return err
-		}
+		rec.Retain()
+		e.pending.Add(1)
+		e.cols[c] <- columnTask{cw, rec}
 	}
 	return nil
 }
