@@ -11,7 +11,14 @@
 # 10% intermittent), six methods, three backtest folds, 80% and 95%
 # intervals, as in run.sh. Needs /usr/bin/time (Debian: time). Timings on a
 # shared machine are noisy: read the load column, and compare CPU seconds
-# (user+sys), which the load does not inflate.
+# (user+sys). With the kernel's autogroup scheduling
+# (/proc/sys/kernel/sched_autogroup_enabled = 1) each session gets a fair
+# share of the CPUs whatever its thread count, so while any other session
+# is busy a 2-worker run gets about one core and cannot show its speed-up
+# (its CPU seconds are then about its wall seconds). To measure anyway,
+# raise the benchmark session's share for the few minutes it runs (root):
+#
+#   setsid bash -c 'echo -10 > /proc/$$/autogroup; exec pipeline/bench/cores.sh'
 set -euo pipefail
 cd "$(dirname "$0")/../.."
 n=${1:-20000}
