@@ -317,7 +317,7 @@ func (c *Classical) decompose(d *Decomposition, y []float64, m int) error {
 	// divisions to one per position.
 	if mult {
 		var invBuf [64]float64
-		invs := invBuf[:0]
+		var invs []float64
 		if m > len(invBuf) {
 			invs = make([]float64, m)
 		} else {

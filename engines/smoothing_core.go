@@ -84,12 +84,6 @@ func (f esForm) positive() bool {
 	return f.err == esErrorMultiplicative || f.season == esSeasonMultiplicative
 }
 
-// linear reports whether the form is a linear state-space model (additive
-// error, no multiplicative season): class 1 of Hyndman et al. (2008, ch. 6).
-func (f esForm) linear() bool {
-	return f.err == esErrorAdditive && f.season != esSeasonMultiplicative
-}
-
 // nSmoothing counts the smoothing parameters of the form: alpha, beta,
 // gamma and phi as they apply.
 func (f esForm) nSmoothing() int {

@@ -326,7 +326,7 @@ func (f *esFitter) refine(obj float64) float64 {
 	// Marquardt's damping, updated by the gain ratio ρ of actual to
 	// predicted reduction of S = Σ r_t² (Nielsen 1999).
 	lambda, nu := 1e-3, 2.0
-	nf := float64(len(f.y))
+	var nf float64
 	for it := 0; it < esLMIter; it++ {
 		if !f.jacobian(u[:d]) || !f.normal() {
 			break

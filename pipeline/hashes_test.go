@@ -23,10 +23,7 @@ var updateHashes = flag.Bool("update-hashes", false, "rewrite testdata/table_has
 // not change behaviour is seen to change no byte.
 const goldenHashes = "testdata/table_hashes.golden"
 
-var (
-	hashMu  = make(chan struct{}, 1)
-	gotHash = map[string]string{}
-)
+var hashMu = make(chan struct{}, 1)
 
 // checkTableHashes compares the tables of one case with the pinned hashes
 // (or records them, with -update-hashes).

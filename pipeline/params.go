@@ -67,3 +67,10 @@ func SeriesParams(ctx context.Context, runDir string, key []string) (map[string]
 	}
 	return out, nil
 }
+
+// Refit is SeriesParams bound to ctx, in the form explain.Options.Refit takes.
+func Refit(ctx context.Context) func(runDir string, key []string) (map[string]map[string]float64, error) {
+	return func(runDir string, key []string) (map[string]map[string]float64, error) {
+		return SeriesParams(ctx, runDir, key)
+	}
+}

@@ -17,7 +17,6 @@ import (
 
 	"github.com/apache/arrow-go/v18/arrow/memory"
 
-	"almanac/engines"
 	"almanac/pipeline/calendar"
 	"almanac/pipeline/evaluate"
 	"almanac/pipeline/forecast"
@@ -71,12 +70,6 @@ type Options struct {
 	// folder and the target (which still holds the previous run, if any);
 	// an error fails the run. The CLI writes the HTML report here.
 	Finish func(staging, target string) error
-
-	// beforeCommit, when set, runs after every table is written and before
-	// the run folder is committed; tests use it to inject a failure.
-	beforeCommit func(staging string) error
-	// wrapMethod, when set, wraps each method; tests use it to inject faults.
-	wrapMethod func(engines.Method) engines.Method
 }
 
 // Summary is what a run reports when it finishes.
@@ -158,7 +151,9 @@ func (p *Plan) Run(ctx context.Context, opts Options, started time.Time) (*Summa
 	}
 	defer func() {
 		if !x.committed {
-			os.RemoveAll(x.staging)
+			// The run failed and reports why; a staging folder that cannot
+			// be removed is hidden, marked, and cleaned by the next run.
+			_ = os.RemoveAll(x.staging)
 		}
 	}()
 	if err := x.openTables(); err != nil {
@@ -176,7 +171,6 @@ func (p *Plan) Run(ctx context.Context, opts Options, started time.Time) (*Summa
 		return nil, err
 	}
 	x.clock.lap("write")
-	stallPoint("tables")
 	man, err := x.manifest()
 	if err != nil {
 		return nil, err
@@ -203,7 +197,6 @@ func (x *execution) read(ctx context.Context) error {
 	x.rows, x.batches = rs, src
 	x.logf("read %d rows from %d file(s)", rs.RowCount, len(p.Inputs))
 	x.clock.lap("read")
-	stallPoint("read")
 	if src.Count() > 1 {
 		x.logf("%d series in %d batches", len(rs.Keys), src.Count())
 	}
@@ -253,7 +246,7 @@ func (x *execution) openTables() error {
 		w.problem(runfolder.Problem{Stage: "read", Severity: "warning",
 			Message: fmt.Sprintf("%d rows have an empty or NaN value; they count as missing", n)})
 	}
-	x.work = &forecast.Work{Spec: s, Methods: p.Methods, Decomposer: p.Decomposer, Wrap: x.opts.wrapMethod,
+	x.work = &forecast.Work{Spec: s, Methods: p.Methods, Decomposer: p.Decomposer,
 		WantVariance: s.Intervals.Source == "model" && len(s.Intervals.Levels) > 0}
 	x.eval = evaluate.New(s, len(x.rows.Keys))
 	w.startSinks(p.Cal, x.eval)
@@ -324,18 +317,11 @@ func (x *execution) backtest(ctx context.Context) error {
 
 // forecast is pass 2: the final forecasts, with what the evaluation chose.
 func (x *execution) forecast(ctx context.Context) error {
-	n := len(x.rows.Keys)
 	return pass(ctx, x, func(i int, se *series.Series) *forecast.Result {
 		r := x.work.Run(se)
 		x.eval.Finish(x.p.Spec, i, r)
 		return r
 	}, func(i int, r *forecast.Result) error {
-		if i == n/2 {
-			stallPoint("forecast")
-			if midRunHook != nil {
-				midRunHook()
-			}
-		}
 		return x.tables.write(r)
 	})
 }
@@ -369,12 +355,7 @@ func (x *execution) manifest() (*Manifest, error) {
 			Series: w.methodSeries[m.Spec.Label]})
 	}
 	for _, t := range w.tables() {
-		sum, err := runfolder.HashFile(t.Path())
-		if err != nil {
-			return nil, err
-		}
-		st, _ := os.Stat(t.Path())
-		man.Tables = append(man.Tables, runfolder.TableInfo{Name: t.Name(), File: t.Name() + ".parquet", Rows: t.Rows(), Bytes: st.Size(), SHA256: sum})
+		man.Tables = append(man.Tables, runfolder.TableInfo{Name: t.Name(), File: t.Name() + ".parquet", Rows: t.Rows(), Bytes: t.Size(), SHA256: t.SHA256()})
 	}
 	return man, nil
 }
@@ -383,11 +364,6 @@ func (x *execution) manifest() (*Manifest, error) {
 // staging folder and commits it: as the run folder, or as a shard's parts.
 func (x *execution) commit(man *Manifest) error {
 	staging, target := x.staging, x.p.Out
-	if x.opts.beforeCommit != nil {
-		if err := x.opts.beforeCommit(staging); err != nil {
-			return err
-		}
-	}
 	x.clock.lap("commit")
 	man.Stages = x.clock.stages
 	man.FinishedAt = time.Now().UTC().Format(time.RFC3339Nano)
@@ -414,30 +390,12 @@ func (x *execution) commit(man *Manifest) error {
 			return err
 		}
 	}
-	stallPoint("commit")
 	if err := runfolder.CommitStaging(staging, target); err != nil {
 		return err
 	}
 	x.committed = true
 	return nil
 }
-
-// StallEnv names the environment variable of the crash-safety tests: when
-// it holds a stage name (read, forecast, tables, commit), the run says
-// "almanac: stalled at <stage>" on stderr at that point and blocks, so that
-// a test can kill the process there. Not for production use.
-const StallEnv = "ALMANAC_TEST_STALL_AT"
-
-func stallPoint(name string) {
-	if os.Getenv(StallEnv) != name {
-		return
-	}
-	fmt.Fprintf(os.Stderr, "almanac: stalled at %s\n", name)
-	select {}
-}
-
-// midRunHook, when set (by tests), runs halfway through the final pass.
-var midRunHook func()
 
 // openBatches reads the inputs (spilling past the batch size), checks the
 // series limit and lays out the key-range batches that plan and run walk.

@@ -351,7 +351,9 @@ func TestFailedRunLeavesNothing(t *testing.T) {
 	out := filepath.Join(dir, "out", "run")
 	boom := errors.New("injected failure before commit")
 	var sawTables bool
-	_, err := Run(context.Background(), s, Options{beforeCommit: func(staging string) error {
+	// Finish is the run's last step before the commit (the CLI writes the
+	// report there); its error fails the run.
+	_, err := Run(context.Background(), s, Options{Finish: func(staging, _ string) error {
 		_, statErr := os.Stat(filepath.Join(staging, "forecasts.parquet"))
 		sawTables = statErr == nil
 		return boom
@@ -375,7 +377,7 @@ func TestFailedRunLeavesNothing(t *testing.T) {
 		t.Fatal(err)
 	}
 	before, _ := os.ReadFile(filepath.Join(out, "forecasts.parquet"))
-	_, err = Run(context.Background(), s, Options{beforeCommit: func(string) error { return boom }})
+	_, err = Run(context.Background(), s, Options{Finish: func(string, string) error { return boom }})
 	if !errors.Is(err, boom) {
 		t.Fatalf("got %v", err)
 	}
@@ -485,13 +487,18 @@ func TestPanicInOneMethodIsIsolated(t *testing.T) {
 	dir := t.TempDir()
 	writeFixture(t, dir)
 	s := loadFixture(t, dir, fixtureSpec)
-	_, err := Run(context.Background(), s, Options{wrapMethod: func(m engines.Method) engines.Method {
-		if m.Name() == "drift" {
-			return panicky{m}
-		}
-		return m
-	}})
+	// The compiled plan's methods are what the run calls: swap drift for a
+	// panicking wrapper.
+	p, err := Compile(s, Options{})
 	if err != nil {
+		t.Fatal(err)
+	}
+	for i, m := range p.Methods {
+		if m.Engine.Name() == "drift" {
+			p.Methods[i].Engine = panicky{m.Engine}
+		}
+	}
+	if _, err := p.Run(context.Background(), Options{}, time.Now()); err != nil {
 		t.Fatal(err)
 	}
 	pr := readTable(t, filepath.Join(dir, "out", "run", "problems.parquet"))

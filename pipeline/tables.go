@@ -2,6 +2,7 @@ package pipeline
 
 import (
 	"errors"
+	"sync"
 
 	"github.com/apache/arrow-go/v18/arrow/memory"
 
@@ -145,16 +146,24 @@ func (rt *runTables) abort() {
 	}
 }
 
+// close drains the sinks and closes the tables at once: each finishes its
+// last row group, footer and fsync beside the others.
 func (rt *runTables) close() error {
 	if err := rt.drain(); err != nil {
 		return err
 	}
-	for _, t := range rt.tables() {
-		if err := t.Close(); err != nil {
-			return err
-		}
+	ts := rt.tables()
+	errs := make([]error, len(ts))
+	var wg sync.WaitGroup
+	for i, t := range ts {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			errs[i] = t.Close()
+		}()
 	}
-	return nil
+	wg.Wait()
+	return errors.Join(errs...)
 }
 
 // problem writes one problems row and counts it by severity. Run-level

@@ -9,11 +9,10 @@ import (
 	"os/exec"
 	"path/filepath"
 	"strings"
+	"sync"
 	"syscall"
 	"testing"
 	"time"
-
-	"almanac/pipeline"
 )
 
 // killPanel writes a panel big enough that a run takes a moment.
@@ -64,12 +63,27 @@ func visible(t *testing.T, dir string) []string {
 	return names
 }
 
-// startStalled starts almanac run and waits until it reports the stall point.
+// stallBinary builds testdata/stallrun, a run that blocks at a named point
+// (see its doc comment), once per test binary.
+var stallBinary = sync.OnceValues(func() (string, error) {
+	path := filepath.Join(filepath.Dir(binary), "stallrun")
+	out, err := exec.Command("go", "build", "-o", path, "./testdata/stallrun").CombinedOutput()
+	if err != nil {
+		return "", fmt.Errorf("building stallrun: %v\n%s", err, out)
+	}
+	return path, nil
+})
+
+// startStalled starts a run of spec.yaml in dir and waits until it reports
+// the stall point.
 func startStalled(t *testing.T, dir, point string) *exec.Cmd {
 	t.Helper()
-	cmd := exec.Command(binary, "run", "spec.yaml", "-q", "--workers", "2")
+	bin, err := stallBinary()
+	if err != nil {
+		t.Fatal(err)
+	}
+	cmd := exec.Command(bin, "spec.yaml", point)
 	cmd.Dir = dir
-	cmd.Env = append(os.Environ(), pipeline.StallEnv+"="+point)
 	stderr, _ := cmd.StderrPipe()
 	if err := cmd.Start(); err != nil {
 		t.Fatal(err)

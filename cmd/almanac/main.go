@@ -2,8 +2,7 @@
 // spec names, shapes them into series, decomposes and forecasts each, and
 // writes Parquet tables into a run folder.
 //
-// Exit codes: 0 success; 1 the run failed (bad data, unreadable input,
-// output refused); 2 the spec or the command line is wrong.
+// Exit codes are in exitcodes.go.
 package main
 
 import (
@@ -14,7 +13,6 @@ import (
 	"math"
 	"os"
 	"os/signal"
-	"path/filepath"
 	"runtime"
 	"runtime/debug"
 	"runtime/pprof"
@@ -34,13 +32,6 @@ import (
 	"almanac/pipeline/runfolder"
 	"almanac/pipeline/synth"
 	"almanac/spec"
-)
-
-// Exit codes, defined once.
-const (
-	exitOK   = 0
-	exitRun  = 1
-	exitSpec = 2
 )
 
 // exitError carries an exit code through urfave/cli.
@@ -63,7 +54,7 @@ func main() {
 // error to an exit code.
 func run(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	app := newApp(stdout, stderr)
-	err := app.RunContext(ctx, flagsFirst(args))
+	err := app.RunContext(ctx, flagsFirst(app, args))
 	if err == nil {
 		return exitOK
 	}
@@ -79,17 +70,26 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	return exitSpec
 }
 
-// boolFlags are the flags that take no value, in every spelling; every
-// other flag written without "=" takes the next argument as its value.
-var boolFlags = map[string]bool{"--quiet": true, "-quiet": true, "-q": true, "--help": true, "-help": true, "-h": true,
-	"--all-forecasts": true, "-all-forecasts": true}
-
 // flagsFirst moves a command's flags in front of its arguments, so that
 // "almanac run spec.yaml --workers 2" works as people type it (urfave/cli
-// stops reading flags at the first argument).
-func flagsFirst(args []string) []string {
+// stops reading flags at the first argument). Which flags take a value is
+// read from the command's own flag definitions: a flag written without "="
+// takes the next argument as its value unless it is a boolean flag.
+func flagsFirst(app *cli.App, args []string) []string {
 	if len(args) < 3 {
 		return args
+	}
+	cmd := app.Command(args[1])
+	if cmd == nil {
+		return args
+	}
+	noValue := map[string]bool{}
+	for _, f := range append([]cli.Flag{cli.HelpFlag}, cmd.Flags...) {
+		if df, ok := f.(cli.DocGenerationFlag); ok && !df.TakesValue() {
+			for _, n := range f.Names() {
+				noValue[n] = true
+			}
+		}
 	}
 	out := append([]string{}, args[:2]...)
 	var rest []string
@@ -101,7 +101,8 @@ func flagsFirst(args []string) []string {
 			i = len(args)
 		case strings.HasPrefix(a, "-") && len(a) > 1:
 			out = append(out, a)
-			if !boolFlags[a] && !strings.Contains(a, "=") && i+1 < len(args) {
+			name := strings.TrimLeft(a, "-")
+			if !noValue[name] && !strings.Contains(a, "=") && i+1 < len(args) {
 				out = append(out, args[i+1])
 				i++
 			}
@@ -188,7 +189,7 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 			},
 			{
 				Name:      "verify",
-				Usage:     "rerun a stored run from its manifest and compare every table byte for byte (exit 0 identical, 1 differs, 2 inputs changed or missing)",
+				Usage:     "rerun a stored run from its manifest and compare every table byte for byte (exit 0 identical, 1 differs, 3 inputs changed or missing)",
 				ArgsUsage: "RUN_DIR",
 				Flags: []cli.Flag{
 					&cli.IntFlag{Name: "workers", Aliases: []string{"w"}, Value: runtime.NumCPU(), Usage: "series processed in parallel"},
@@ -323,17 +324,7 @@ func runCmd(c *cli.Context) error {
 		}
 	}
 	if r := s.Report; r != nil {
-		opts.Finish = func(staging, target string) error {
-			prev := ""
-			if _, err := os.Stat(filepath.Join(target, runfolder.ManifestFile)); err == nil {
-				prev = target
-			}
-			picks := r.Picks
-			if picks == 0 {
-				picks = -1
-			}
-			return report.Write(staging, report.Options{Series: r.Series, Picks: picks, Previous: prev})
-		}
+		opts.Finish = report.ForRun(r.Series, r.Picks)
 	}
 	if os.Getenv("GOMEMLIMIT") == "" {
 		limit, err := parseBytes(c.String("memory-limit"))
@@ -409,13 +400,8 @@ func explainCmd(c *cli.Context) error {
 	if m := c.String("methods"); m != "" {
 		opt.Methods = strings.Split(m, ",")
 	}
-	// Fitted parameters are not stored in the tables: refit the run's
-	// methods on this series (from the manifest's spec and inputs).
-	if params, err := pipeline.SeriesParams(c.Context, c.Args().First(), c.Args().Slice()[1:]); err == nil {
-		opt.Params = params
-	} else {
-		fmt.Fprintf(c.App.ErrWriter, "almanac explain: fitted parameters not shown: %v\n", err)
-	}
+	// The tables hold no fitted parameters: explain refits the series.
+	opt.Refit, opt.Warn = pipeline.Refit(c.Context), c.App.ErrWriter
 	err := explain.Explain(c.Args().First(), c.Args().Slice()[1:], c.App.Writer, opt)
 	var nf *explain.NotFoundError
 	switch {
@@ -458,7 +444,7 @@ func verifyCmd(c *cli.Context) error {
 	if err != nil {
 		return &exitError{exitSpec, fmt.Errorf("almanac verify: %v", err)}
 	}
-	if code != 0 {
+	if code := verifyExit(code); code != exitOK {
 		return &exitError{code, nil}
 	}
 	return nil

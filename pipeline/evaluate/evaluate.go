@@ -235,9 +235,6 @@ func (e *Evaluation) combinationAlways() bool {
 func (e *Evaluation) backtestMethod(w *forecast.Work, mr forecast.Method, y []float64, folds []fold) entryBacktest {
 	m := w.Spec.Calendar.SeasonLength
 	method := mr.Engine
-	if w.Wrap != nil {
-		method = w.Wrap(method)
-	}
 	eb := entryBacktest{label: mr.Spec.Label}
 	for _, f := range folds {
 		// The full slice expression caps the capacity: a method cannot

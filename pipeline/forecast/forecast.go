@@ -83,7 +83,6 @@ type Work struct {
 	Spec       *spec.Spec
 	Methods    []Method
 	Decomposer engines.Decomposer
-	Wrap       func(engines.Method) engines.Method // tests wrap methods to inject faults; nil in runs
 
 	WantVariance bool // model-based intervals asked for
 }
@@ -128,9 +127,6 @@ func (w *Work) Run(s *series.Series) *Result {
 	h := w.Spec.Horizon
 	for _, mr := range w.Methods {
 		method := mr.Engine
-		if w.Wrap != nil {
-			method = w.Wrap(method)
-		}
 		label := mr.Spec.Label
 		res, err := SafeForecast(method, s.Values, m, h, w.WantVariance)
 		if err != nil {

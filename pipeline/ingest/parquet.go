@@ -40,7 +40,7 @@ func readParquet(s *spec.Spec, f *InputFile, fileIdx int32, cal calendar.Calenda
 	}
 	defer pf.Close()
 	mem := memory.DefaultAllocator
-	fr, err := pqarrow.NewFileReader(pf, pqarrow.ArrowReadProperties{BatchSize: parquetBatchRows}, mem)
+	fr, err := pqarrow.NewFileReader(pf, pqarrow.ArrowReadProperties{BatchSize: parquetBatchRows, Parallel: true}, mem)
 	if err != nil {
 		return fmt.Errorf("%s: not a readable Parquet file: %v", f.Path, err)
 	}
@@ -53,12 +53,14 @@ func readParquet(s *spec.Spec, f *InputFile, fileIdx int32, cal calendar.Calenda
 		return fmt.Errorf("%s: %v", f.Path, err)
 	}
 	defer rr.Release()
+	pr := prefetch(rr)
+	defer pr.Release()
 
 	keyParts := make([]string, len(s.Columns.Keys))
 	var row int64
 	var errs []string
-	for rr.Next() {
-		rec := rr.RecordBatch()
+	for pr.Next() {
+		rec := pr.RecordBatch()
 		n := int(rec.NumRows())
 		tcol, vcol := rec.Column(0), rec.Column(1)
 		periods, terrs := parquetPeriods(f.Path, s.Columns.Time, tcol, cal, row)
@@ -101,7 +103,7 @@ func readParquet(s *spec.Spec, f *InputFile, fileIdx int32, cal calendar.Calenda
 		}
 		return &DataError{Msgs: errs}
 	}
-	if err := rr.Err(); err != nil {
+	if err := pr.Err(); err != nil {
 		return fmt.Errorf("%s: not a readable Parquet file: %v", f.Path, err)
 	}
 	f.Rows = row
@@ -195,7 +197,7 @@ func parquetPeriods(path, name string, col arrow.Array, cal calendar.Calendar, b
 func parquetValues(path, name string, col arrow.Array) ([]float64, error) {
 	n := col.Len()
 	out := make([]float64, n)
-	get := func(i int) float64 { return 0 }
+	var get func(i int) float64
 	switch c := col.(type) {
 	case *array.Float64:
 		get = func(i int) float64 { return c.Value(i) }

@@ -60,10 +60,15 @@ func MakeStaging(target string) (string, error) {
 	if err := os.MkdirAll(parent, 0o755); err != nil {
 		return "", err
 	}
+	// Glob fails only on a malformed pattern; a target name with pattern
+	// characters then finds nothing to clean, which costs only disk space.
 	stale, _ := filepath.Glob(filepath.Join(parent, tmpPrefix+filepath.Base(target)+"-*"))
 	for _, s := range stale {
 		if _, err := os.Stat(filepath.Join(s, StagingMarker)); err == nil {
-			os.RemoveAll(s)
+			// Best effort: a killed run's leftover is hidden and holds no
+			// result anyone reads; what cannot be removed now is tried
+			// again by the next run, and this run does not depend on it.
+			_ = os.RemoveAll(s)
 		}
 	}
 	var b [6]byte
@@ -76,7 +81,9 @@ func MakeStaging(target string) (string, error) {
 	}
 	// A staging marker lets a later run recognise and clean this folder.
 	if err := os.WriteFile(filepath.Join(dir, StagingMarker), nil, 0o644); err != nil {
-		os.RemoveAll(dir)
+		// The write error is what the caller needs; an unmarked empty
+		// folder that cannot be removed is only hidden clutter.
+		_ = os.RemoveAll(dir)
 		return "", err
 	}
 	return dir, nil
@@ -104,21 +111,36 @@ func CommitStaging(staging, target string) error {
 		if err := os.Rename(staging, target); err != nil {
 			return err
 		}
-		return fsyncPath(parent)
+		return syncParent(parent)
 	}
 	if err := unix.Renameat2(unix.AT_FDCWD, staging, unix.AT_FDCWD, target, unix.RENAME_EXCHANGE); err == nil {
-		// staging now holds the previous run.
-		fsyncPath(parent)
-		return os.RemoveAll(staging)
+		// staging now holds the previous run: remove it even when the sync
+		// fails, and report both.
+		return errors.Join(syncParent(parent), os.RemoveAll(staging))
 	}
+	// No RENAME_EXCHANGE (an older kernel or another file system): move
+	// the previous run aside, move the new one in, and on failure put the
+	// previous one back.
 	old := staging + ".old"
 	if err := os.Rename(target, old); err != nil {
 		return err
 	}
 	if err := os.Rename(staging, target); err != nil {
-		os.Rename(old, target)
+		if rerr := os.Rename(old, target); rerr != nil {
+			return fmt.Errorf("%w; putting the previous run back also failed, it is at %s: %v", err, old, rerr)
+		}
 		return err
 	}
-	fsyncPath(parent)
-	return os.RemoveAll(old)
+	return errors.Join(syncParent(parent), os.RemoveAll(old))
+}
+
+// syncParent fsyncs the folder that holds a committed run, so that the
+// rename survives a crash. The new run is already in place when it fails:
+// the error says so, and the run is reported failed because its
+// durability is not known.
+func syncParent(parent string) error {
+	if err := fsyncPath(parent); err != nil {
+		return fmt.Errorf("the run is in place but %s could not be synced, so it may not survive a crash: %w", parent, err)
+	}
+	return nil
 }

@@ -31,14 +31,19 @@ func PrepareDataset(target string, inputs []Input) error {
 	if err := os.MkdirAll(filepath.Join(target, ShardsDir), 0o755); err != nil {
 		return err
 	}
-	f, err := os.OpenFile(filepath.Join(target, MarkerFile), os.O_CREATE|os.O_EXCL|os.O_WRONLY, 0o644)
-	if err == nil {
-		f.WriteString(markerText)
-		f.Close()
-	} else if !errors.Is(err, os.ErrExist) {
+	marker := filepath.Join(target, MarkerFile)
+	f, err := os.OpenFile(marker, os.O_CREATE|os.O_EXCL|os.O_WRONLY, 0o644)
+	if errors.Is(err, os.ErrExist) {
+		return nil // another shard (or an earlier run) marked it
+	}
+	if err != nil {
 		return err
 	}
-	return nil
+	_, werr := f.WriteString(markerText)
+	if err := errors.Join(werr, f.Sync(), f.Close()); err != nil {
+		return fmt.Errorf("writing %s: %w", marker, err)
+	}
+	return fsyncPath(target)
 }
 
 // CommitShard moves a shard's staged tables into the dataset's partition
@@ -51,7 +56,8 @@ func CommitShard(staging, target string, index int, tables []string) error {
 	if err := os.Remove(manifest); err != nil && !errors.Is(err, os.ErrNotExist) {
 		return err
 	}
-	// Parts of tables this run no longer writes would be stale.
+	// Parts of tables this run no longer writes would be stale. (Glob fails
+	// only on a malformed pattern; shard names have no pattern characters.)
 	old, _ := filepath.Glob(filepath.Join(target, "*", name, "part.parquet"))
 	keep := map[string]bool{}
 	for _, t := range tables {
@@ -59,7 +65,9 @@ func CommitShard(staging, target string, index int, tables []string) error {
 	}
 	for _, o := range old {
 		if !keep[o] {
-			os.Remove(o)
+			if err := os.Remove(o); err != nil && !errors.Is(err, os.ErrNotExist) {
+				return err
+			}
 		}
 	}
 	for _, t := range tables {
@@ -70,12 +78,17 @@ func CommitShard(staging, target string, index int, tables []string) error {
 		if err := os.Rename(filepath.Join(staging, t+".parquet"), filepath.Join(dir, "part.parquet")); err != nil {
 			return err
 		}
-		fsyncPath(dir)
+		// The part's entry, and the partition folder's in its table folder.
+		if err := errors.Join(fsyncPath(dir), fsyncPath(filepath.Dir(dir))); err != nil {
+			return err
+		}
 	}
 	if err := os.Rename(filepath.Join(staging, ManifestFile), manifest); err != nil {
 		return err
 	}
-	fsyncPath(filepath.Join(target, ShardsDir))
+	if err := fsyncPath(filepath.Join(target, ShardsDir)); err != nil {
+		return fmt.Errorf("shard %d is in place but %s could not be synced, so it may not survive a crash: %w", index, ShardsDir, err)
+	}
 	return os.RemoveAll(staging)
 }
 
@@ -209,9 +222,11 @@ func Combine(dir string, w io.Writer) (*CombinedManifest, error) {
 // folder target, first removing what a killed earlier run of this shard
 // may have left.
 func ShardStaging(target string, index int) (string, error) {
+	// As in MakeStaging: removing a killed run's hidden leftovers is best
+	// effort, and Glob fails only on a malformed pattern.
 	stale, _ := filepath.Glob(filepath.Join(target, tmpPrefix+shardName(index)+"-*"))
 	for _, d := range stale {
-		os.RemoveAll(d)
+		_ = os.RemoveAll(d)
 	}
 	return os.MkdirTemp(target, tmpPrefix+shardName(index)+"-")
 }

@@ -1,7 +1,12 @@
 package runfolder
 
 import (
+	"crypto/sha256"
+	"encoding/hex"
+	"errors"
 	"fmt"
+	"hash"
+	"io"
 	"math"
 	"os"
 
@@ -10,13 +15,14 @@ import (
 	"github.com/apache/arrow-go/v18/arrow/memory"
 	"github.com/apache/arrow-go/v18/parquet"
 	"github.com/apache/arrow-go/v18/parquet/compress"
-	"github.com/apache/arrow-go/v18/parquet/pqarrow"
 )
 
-// flushRows is how many rows a table buffers before handing them to the
-// Parquet writer; rowGroupRows is the largest row group written.
+// flushRows is how many rows a table buffers in one record batch;
+// rowGroupRows is the largest row group written (four batches). The batch
+// size does not change the bytes (the column writers cut every write into
+// the same mini-batches), only how much a table holds in flight.
 const (
-	flushRows    = 64 * 1024
+	flushRows    = 32 * 1024
 	rowGroupRows = 128 * 1024
 )
 
@@ -47,7 +53,10 @@ type TableWriter struct {
 	name   string
 	path   string
 	file   *os.File
-	fw     *pqarrow.FileWriter
+	hash   hash.Hash // of every byte written to file
+	size   int64
+	sum    string // hex SHA-256, once closed
+	enc    *groupEncoder
 	rb     *array.RecordBuilder
 	nkeys  int
 	cols   []Column
@@ -118,12 +127,16 @@ func NewTableWriter(dir, name string, keyNames []string, cols []Column, meta map
 	}
 	md := arrow.NewMetadata(keys, vals)
 	sch = arrow.NewSchema(sch.Fields(), &md)
-	fw, err := pqarrow.NewFileWriter(sch, f, writerProps(sch), pqarrow.NewArrowWriterProperties(pqarrow.WithStoreSchema(), pqarrow.WithAllocator(mem)))
+	// The bytes are hashed as they are written, for the manifest.
+	h := sha256.New()
+	t := &TableWriter{name: name, path: path, file: f, hash: h, rb: array.NewRecordBuilder(mem, sch), nkeys: len(keyNames), cols: cols}
+	enc, err := newGroupEncoder(sch, &countingWriter{w: io.MultiWriter(f, h), n: &t.size}, writerProps(sch), mem)
 	if err != nil {
-		f.Close()
+		t.rb.Release()
+		f.Close() // the open failed; the staging folder is removed with the file
 		return nil, err
 	}
-	t := &TableWriter{name: name, path: path, file: f, fw: fw, rb: array.NewRecordBuilder(mem, sch), nkeys: len(keyNames), cols: cols}
+	t.enc = enc
 	n := len(sch.Fields())
 	t.strs, t.floats, t.ints = make([]*array.StringBuilder, n), make([]*array.Float64Builder, n), make([]*array.Int32Builder, n)
 	t.dates, t.bools = make([]*array.Date32Builder, n), make([]*array.BooleanBuilder, n)
@@ -201,51 +214,73 @@ func (t *TableWriter) EndRow() error {
 	return nil
 }
 
+// flush hands the record batch being built to the encoder.
 func (t *TableWriter) flush() error {
 	if t.buffer == 0 {
 		return nil
 	}
-	rec := t.rb.NewRecordBatch()
-	defer rec.Release()
+	t.enc.write(t.rb.NewRecordBatch())
 	t.buffer = 0
-	if err := t.fw.WriteBuffered(rec); err != nil {
-		return fmt.Errorf("writing %s: %w", t.name, err)
-	}
 	return nil
 }
 
-// close flushes, finishes the Parquet footer and fsyncs the file.
+// Close flushes, waits for the encoder, writes the Parquet footer, and
+// fsyncs and closes the file.
 func (t *TableWriter) Close() error {
-	if t.fw == nil {
+	if t.enc == nil {
 		return nil
 	}
 	err := t.flush()
-	if cerr := t.fw.Close(); err == nil && cerr != nil {
+	if cerr := t.enc.close(); err == nil && cerr != nil {
 		err = fmt.Errorf("writing %s: %w", t.name, cerr)
 	}
-	t.fw = nil
+	t.enc = nil
 	t.rb.Release()
-	// pqarrow's Close closes the underlying file; reopen to fsync.
 	if err == nil {
-		err = fsyncPath(t.path)
+		err = t.file.Sync()
+		t.sum = hex.EncodeToString(t.hash.Sum(nil))
 	}
-	return err
+	return errors.Join(err, t.file.Close())
 }
 
-// abort releases the writer without caring about the file.
+// SHA256 is the hex SHA-256 of the table's file; Size its length in bytes.
+// Both are known once Close has succeeded.
+func (t *TableWriter) SHA256() string { return t.sum }
+
+// Size is the length of the table's file in bytes.
+func (t *TableWriter) Size() int64 { return t.size }
+
+// countingWriter counts the bytes written through it. The encoder sees
+// the file only through it, so that it cannot close the file: the table
+// writer syncs and closes it.
+type countingWriter struct {
+	w io.Writer
+	n *int64
+}
+
+func (c *countingWriter) Write(p []byte) (int, error) {
+	n, err := c.w.Write(p)
+	*c.n += int64(n)
+	return n, err
+}
+
+// Abort releases the writer without caring about the file, which the
+// failed run's staging folder takes with it.
 func (t *TableWriter) Abort() {
-	if t.fw != nil {
-		t.fw.Close()
-		t.fw = nil
+	if t.enc != nil {
+		t.enc.close() // only to stop its goroutine: the file is discarded
+		t.enc = nil
 		t.rb.Release()
+		t.file.Close() // discarded with the staging folder
 	}
 }
 
+// fsyncPath opens path (a file or a folder) and fsyncs it.
 func fsyncPath(path string) error {
 	f, err := os.Open(path)
 	if err != nil {
 		return err
 	}
-	defer f.Close()
-	return f.Sync()
+	syncErr := f.Sync()
+	return errors.Join(syncErr, f.Close())
 }

@@ -68,7 +68,6 @@ type subset struct {
 	series    []*series
 	start     time.Time
 	step      func(t time.Time, k int) time.Time
-	panelCSV  string // for the panel: the training CSV is written from it
 }
 
 var totalLevels = []int{50, 80, 95, 99}

@@ -51,6 +51,12 @@ type Options struct {
 	// value. The tables do not carry them; a caller that refits the series
 	// may fill this, and Explain prints them beside each method's model.
 	Params map[string]map[string]float64
+	// Refit, when set and Params is nil, refits the run's methods on the
+	// series for their fitted parameters (the CLI passes pipeline.Refit).
+	// When it fails the explanation is written without them and the reason
+	// goes to Warn (if set).
+	Refit func(runDir string, key []string) (map[string]map[string]float64, error)
+	Warn  io.Writer
 	// PNG, when set, is the path of a chart written as well: history,
 	// trend, the forecasts shown and their interval bands.
 	PNG string
@@ -105,6 +111,13 @@ func keyText(cols, key []string) string {
 // Explain writes the explanation of the series with the given key (the
 // key columns' values in spec order) of the run folder runDir to w.
 func Explain(runDir string, key []string, w io.Writer, opt Options) error {
+	if opt.Params == nil && opt.Refit != nil {
+		params, err := opt.Refit(runDir, key)
+		if err != nil && opt.Warn != nil {
+			fmt.Fprintf(opt.Warn, "almanac explain: fitted parameters not shown: %v\n", err)
+		}
+		opt.Params = params
+	}
 	run, err := runfolder.Open(runDir)
 	if err != nil {
 		return err

@@ -11,11 +11,11 @@ import (
 
 // lbEntry is one bar of the leaderboard chart.
 type lbEntry struct {
-	label          string
-	scored         int
-	mean, median   float64
-	chosen         int
-	lowest, hasLow bool
+	label        string
+	scored       int
+	mean, median float64
+	chosen       int
+	lowest       bool
 }
 
 // leaderboardChart draws mean (bar) and median (tick) MASE per entry,

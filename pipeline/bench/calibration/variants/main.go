@@ -231,12 +231,12 @@ func fit(s *series, methods []string, folds, h, minTrain int, route map[string][
 }
 
 type acc struct {
-	n                 int
-	cov80, cov95      float64
-	is80, is95        float64
-	rough             float64
-	nr                int
-	neg, outside, nst int
+	n            int
+	cov80, cov95 float64
+	is80, is95   float64
+	rough        float64
+	nr           int
+	neg, outside int
 }
 
 func (a *acc) add(y, scale float64, lo80, hi80, lo95, hi95 float64) {
@@ -260,12 +260,6 @@ func iscore(y, l, u, alpha float64) float64 {
 		s += 2 / alpha * (y - u)
 	}
 	return s
-}
-
-type totAcc struct {
-	n    []int
-	hits [][]float64
-	pin  [][]float64
 }
 
 var levels = []int{80, 95}

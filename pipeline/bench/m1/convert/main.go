@@ -71,7 +71,7 @@ func run(data, out string) error {
 		}
 		m := m1data.Period[sub]
 		methods := methodList(m)
-		bt := fmt.Sprintf("backtest: {folds: 3}\nselection:\n  metric: mase\n  combine: {kind: mean, top: 3}\n")
+		bt := "backtest: {folds: 3}\nselection:\n  metric: mase\n  combine: {kind: mean, top: 3}\n"
 		specs := map[string]string{
 			"methods": header(sub, "methods") + "methods:\n" + methods,
 			"today":   header(sub, "today") + "methods:\n" + methods + bt,

@@ -294,20 +294,16 @@ func evaluate(res []*result, labels []string) {
 		}
 	}
 	var allPool []string
-	for _, l := range labels {
-		allPool = append(allPool, l)
-	}
+	allPool = append(allPool, labels...)
 	rules = append(rules, rule{"select best or top3 (all candidates)", selectBest(allPool)})
 
 	fmt.Println("| rule | sMAPE Y | sMAPE Q | sMAPE M | **sMAPE all** | MASE Y | MASE Q | MASE M | **MASE all** | missing |")
 	fmt.Println("|---|---:|---:|---:|---:|---:|---:|---:|---:|---:|")
 	type row struct {
-		name      string
-		sm, ma    map[string]float64
-		n         map[string]int
-		missing   int
-		allSMAPE  float64
-		allCovers bool
+		name    string
+		sm, ma  map[string]float64
+		n       map[string]int
+		missing int
 	}
 	var rows []row
 	for _, ru := range rules {
