@@ -3,7 +3,8 @@
 // writes Parquet tables into a run folder.
 //
 // Exit codes: 0 success; 1 the run failed (bad data, unreadable input,
-// output refused); 2 the spec or the command line is wrong.
+// output refused); 2 the spec or the command line is wrong; 130 stopped by
+// SIGINT or SIGTERM. verify has its own codes (see verifyCmd).
 package main
 
 import (
@@ -40,6 +41,9 @@ const (
 	exitOK   = 0
 	exitRun  = 1
 	exitSpec = 2
+	// exitInterrupted: a signal stopped the work (128 + SIGINT, as shells
+	// report an interrupted command).
+	exitInterrupted = 130
 )
 
 // exitError carries an exit code through urfave/cli.
@@ -52,10 +56,40 @@ func (e *exitError) Error() string { return e.err.Error() }
 func (e *exitError) Unwrap() error { return e.err }
 
 func main() {
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	ctx, cancel := context.WithCancel(context.Background())
+	stop := onSignals(cancel, os.Stderr, func() { os.Exit(exitInterrupted) })
 	code := run(ctx, os.Args, os.Stdout, os.Stderr)
 	stop()
 	os.Exit(code)
+}
+
+// onSignals cancels the work on the first SIGINT or SIGTERM (the run stops
+// and removes its staging; the target is untouched, since a run only
+// appears by its atomic commit) and calls exit on the second, for a person
+// who does not want to wait. It returns a function that stops listening.
+func onSignals(cancel context.CancelFunc, stderr io.Writer, exit func()) func() {
+	sigs := make(chan os.Signal, 2)
+	signal.Notify(sigs, os.Interrupt, syscall.SIGTERM)
+	done := make(chan struct{})
+	go func() {
+		select {
+		case s := <-sigs:
+			fmt.Fprintf(stderr, "almanac: %v: stopping (send it again to exit at once)\n", s)
+			cancel()
+		case <-done:
+			return
+		}
+		select {
+		case s := <-sigs:
+			fmt.Fprintf(stderr, "almanac: %v again: exiting now\n", s)
+			exit()
+		case <-done:
+		}
+	}()
+	return func() {
+		signal.Stop(sigs)
+		close(done)
+	}
 }
 
 // run is the whole program: it parses args, does the work, and maps any
@@ -65,6 +99,12 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	err := app.RunContext(ctx, flagsFirst(args))
 	if err == nil {
 		return exitOK
+	}
+	if ctx.Err() != nil {
+		// Only a signal cancels ctx: whatever error the work ended with
+		// follows from the interruption.
+		fmt.Fprintln(stderr, "almanac: interrupted; the target was left as it was")
+		return exitInterrupted
 	}
 	var ee *exitError
 	if errors.As(err, &ee) {
