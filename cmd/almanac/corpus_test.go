@@ -19,11 +19,14 @@ import (
 )
 
 // expectation is a corpus case's expect.yaml: the exit code, text that
-// stderr must hold, and for runs that succeed the series count and the
-// problems rows ("severity stage[ method]: message" prefixes).
+// stderr (and stdout) must hold, and for runs that succeed the series count
+// and the problems rows ("severity stage[ method]: message" prefixes). A
+// case runs "almanac run spec.yaml" unless it names another command line.
 type expectation struct {
+	Command  []string `yaml:"command"`
 	Exit     int      `yaml:"exit"`
 	Stderr   []string `yaml:"stderr"`
+	Stdout   []string `yaml:"stdout"`
 	Series   int      `yaml:"series"`
 	Problems []string `yaml:"problems"`
 }
@@ -75,7 +78,11 @@ func problemRows(t *testing.T, path string) []string {
 func checkCase(t *testing.T, dir string, want expectation) {
 	t.Helper()
 	out := filepath.Join(t.TempDir(), "run")
-	_, stderr, code := almanac(t, dir, "run", "spec.yaml", "--out", out, "-q")
+	args := []string{"run", "spec.yaml", "--out", out, "-q"}
+	if len(want.Command) > 0 {
+		args = want.Command
+	}
+	stdout, stderr, code := almanac(t, dir, args...)
 	if strings.Contains(stderr, "panic") || strings.Contains(stderr, "goroutine ") {
 		t.Fatalf("almanac panicked:\n%s", stderr)
 	}
@@ -86,6 +93,14 @@ func checkCase(t *testing.T, dir string, want expectation) {
 		if !strings.Contains(stderr, w) {
 			t.Errorf("stderr lacks %q:\n%s", w, stderr)
 		}
+	}
+	for _, w := range want.Stdout {
+		if !strings.Contains(stdout, w) {
+			t.Errorf("stdout lacks %q:\n%s", w, stdout)
+		}
+	}
+	if len(want.Command) > 0 {
+		return
 	}
 	if code != 0 {
 		if _, err := os.Stat(out); !os.IsNotExist(err) {
@@ -122,8 +137,9 @@ func checkCase(t *testing.T, dir string, want expectation) {
 // accepted with its pinned problems rows. Never a panic, never a silent drop.
 func TestBadInputCorpus(t *testing.T) {
 	cases, _ := filepath.Glob("../../pipeline/testdata/corpus/*/expect.yaml")
-	if len(cases) < 30 {
-		t.Fatalf("found %d corpus cases, want at least 30", len(cases))
+	// With the generated cases below (8), the corpus holds at least 80.
+	if len(cases) < 60 {
+		t.Fatalf("found %d corpus cases, want at least 72", len(cases))
 	}
 	for _, c := range cases {
 		dir := filepath.Dir(c)

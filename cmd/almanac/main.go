@@ -171,7 +171,7 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 				Name:      "plan",
 				Usage:     "print the compiled stages, inputs, series count and methods; fits nothing, writes nothing",
 				ArgsUsage: "SPEC",
-				Flags:     []cli.Flag{outFlag()},
+				Flags:     []cli.Flag{outFlag(), asOfFlag()},
 				Action:    planCmd,
 			},
 			{
@@ -240,6 +240,7 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 				ArgsUsage: "SPEC",
 				Flags: []cli.Flag{
 					outFlag(),
+					asOfFlag(),
 					&cli.IntFlag{Name: "workers", Aliases: []string{"w"}, Value: runtime.NumCPU(), Usage: "series processed in parallel"},
 					&cli.BoolFlag{Name: "quiet", Aliases: []string{"q"}, Usage: "no progress output"},
 					&cli.IntFlag{Name: "shard-count", Usage: "split the run into this many shards by a stable hash of each series' key; this process does one"},
@@ -254,6 +255,23 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 	}
 }
 
+func asOfFlag() cli.Flag {
+	return &cli.StringFlag{Name: "as-of", Usage: "ignore rows dated after this day (YYYY-MM-DD); overrides the spec's shaping.until and is recorded in the manifest"}
+}
+
+// applyAsOf sets the spec's cut-off from --as-of.
+func applyAsOf(c *cli.Context, s *spec.Spec) error {
+	v := c.String("as-of")
+	if v == "" {
+		return nil
+	}
+	if msg := spec.CheckDay(v); msg != "" {
+		return &exitError{exitSpec, fmt.Errorf("almanac %s: --as-of: %s", c.Command.Name, msg)}
+	}
+	s.Shaping.Until = v
+	return nil
+}
+
 func outFlag() cli.Flag {
 	return &cli.StringFlag{Name: "out", Aliases: []string{"o"}, Usage: "run folder, instead of the spec's output"}
 }
@@ -266,8 +284,7 @@ func loadSpec(path string, stderr io.Writer) (*spec.Spec, error) {
 	}
 	var list spec.ErrorList
 	if errors.As(err, &list) {
-		src, _ := os.ReadFile(path)
-		fmt.Fprint(stderr, list.Pretty(src))
+		fmt.Fprint(stderr, list.Pretty(readBounded(path)))
 		noun := "errors"
 		if len(list) == 1 {
 			noun = "error"
@@ -275,6 +292,18 @@ func loadSpec(path string, stderr io.Writer) (*spec.Spec, error) {
 		return nil, &exitError{exitSpec, fmt.Errorf("%s: %d %s", path, len(list), noun)}
 	}
 	return nil, &exitError{exitSpec, err}
+}
+
+// readBounded reads at most the spec size limit from path, for showing the
+// lines an error points at (a device such as /dev/zero never ends).
+func readBounded(path string) []byte {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil
+	}
+	defer f.Close()
+	b, _ := io.ReadAll(io.LimitReader(f, spec.MaxSpecBytes))
+	return b
 }
 
 func oneSpec(c *cli.Context) (string, error) {
@@ -316,6 +345,9 @@ func planCmd(c *cli.Context) error {
 	if err != nil {
 		return err
 	}
+	if err := applyAsOf(c, s); err != nil {
+		return err
+	}
 	p, err := pipeline.MakePlan(c.Context, s, pipeline.Options{Out: c.String("out")})
 	if err != nil {
 		return &exitError{exitRun, err}
@@ -331,6 +363,9 @@ func runCmd(c *cli.Context) error {
 	}
 	s, err := loadSpec(path, c.App.ErrWriter)
 	if err != nil {
+		return err
+	}
+	if err := applyAsOf(c, s); err != nil {
 		return err
 	}
 	workers := c.Int("workers")
