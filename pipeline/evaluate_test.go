@@ -1,6 +1,7 @@
 package pipeline
 
 import (
+	"almanac/pipeline/runfolder"
 	"bytes"
 	"context"
 	"fmt"
@@ -11,8 +12,6 @@ import (
 	"sort"
 	"strings"
 	"testing"
-
-	"almanac/engines"
 )
 
 const backtestSpec = fixtureSpec + `backtest: {folds: 3, step: 3}
@@ -130,61 +129,6 @@ func TestChoicesFollowAccuracy(t *testing.T) {
 	}
 }
 
-// peeker forecasts by reading past the end of its input: given the whole
-// series it would score perfectly. The harness must not let it.
-type peeker struct{}
-
-func (peeker) Name() string { return "peeker" }
-func (peeker) Fit(y []float64, season int) (engines.Fitted, error) {
-	return peekFit{y}, nil
-}
-
-type peekFit struct{ y []float64 }
-
-func (p peekFit) Forecast(h int) []float64 {
-	full := p.y[:cap(p.y)]
-	out := make([]float64, h)
-	for i := range out {
-		if len(p.y)+i < len(full) {
-			out[i] = full[len(p.y)+i] // the future, if the slice lets us see it
-		} else {
-			out[i] = p.y[len(p.y)-1]
-		}
-	}
-	return out
-}
-
-func TestBacktestCannotLeak(t *testing.T) {
-	y := make([]float64, 60)
-	for i := range y {
-		y[i] = 10 + float64(i%12) + 0.3*float64(i) + math.Sin(float64(i))
-	}
-	// Shown first: handed an uncapped slice, the peeker is perfect.
-	f := peekFit{y[:40]}.Forecast(6)
-	for i, v := range f {
-		if v != y[40+i] {
-			t.Fatal("the peeker does not peek; the test would prove nothing")
-		}
-	}
-	dir := t.TempDir()
-	writeFixture(t, dir)
-	s := loadFixture(t, dir, fixtureSpec+"backtest: {folds: 3}\n")
-	work := &seriesWork{spec: s, cal: calendar{freq: s.Calendar.Frequency, season: 12},
-		methods: []methodRun{{spec: s.Methods[0], method: peeker{}}}, eval: newEvaluation(s, 1)}
-	r := work.backtest(&Series{Key: []string{"x", "y"}, Values: y})
-	if len(r.entries) != 1 || len(r.entries[0].folds) != 3 {
-		t.Fatalf("entries %+v", r.entries)
-	}
-	for _, fs := range r.entries[0].folds {
-		if fs.scores.MAE == 0 {
-			t.Errorf("fold %d: the peeker saw its test data (MAE 0)", fs.fold.Index)
-		}
-		if fs.scores.N != 6 {
-			t.Errorf("fold %d scored %d points", fs.fold.Index, fs.scores.N)
-		}
-	}
-}
-
 // Empirical intervals on long simulated series with known noise cover
 // close to their nominal share of held-out points: 80% ± 3%, 95% ± 2%.
 // Each series is seasonal with white noise of its own size, so the pooled
@@ -263,7 +207,7 @@ func TestBacktestSameBytesAtAnyWorkerCount(t *testing.T) {
 			t.Fatal(err)
 		}
 		files := map[string][]byte{}
-		for _, n := range []string{TableForecasts, TableAccuracy, TableChoices, TableProblems} {
+		for _, n := range []string{runfolder.TableForecasts, runfolder.TableAccuracy, runfolder.TableChoices, runfolder.TableProblems} {
 			files[n], _ = os.ReadFile(filepath.Join(out, n+".parquet"))
 		}
 		return files
@@ -339,7 +283,7 @@ func TestBatchesWriteTheSameBytes(t *testing.T) {
 			t.Fatal(err)
 		}
 		files := map[string][]byte{}
-		for _, n := range []string{TableForecasts, TableComponents, TableSeasonalFactors, TableAccuracy, TableChoices, TableProblems} {
+		for _, n := range []string{runfolder.TableForecasts, runfolder.TableComponents, runfolder.TableSeasonalFactors, runfolder.TableAccuracy, runfolder.TableChoices, runfolder.TableProblems} {
 			files[n], _ = os.ReadFile(filepath.Join(out, n+".parquet"))
 		}
 		return files

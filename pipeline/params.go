@@ -3,9 +3,15 @@ package pipeline
 import (
 	"context"
 	"fmt"
+	"path/filepath"
 	"slices"
 
 	"almanac/engines"
+	"almanac/pipeline/calendar"
+	"almanac/pipeline/forecast"
+	"almanac/pipeline/ingest"
+	"almanac/pipeline/runfolder"
+	"almanac/pipeline/series"
 	"almanac/spec"
 )
 
@@ -15,39 +21,39 @@ import (
 // canonical spec and its recorded inputs, so the parameters are those of the
 // run's final forecasts.
 func SeriesParams(ctx context.Context, runDir string, key []string) (map[string]map[string]float64, error) {
-	m, err := ReadManifest(runDir)
+	m, err := runfolder.ReadManifest(runDir)
 	if err != nil {
 		return nil, err
 	}
-	s, err := spec.FromCanonical(m.Spec.Canonical, runDir+"/manifest.json")
+	s, err := spec.FromCanonical(m.Spec.Canonical, filepath.Join(runDir, runfolder.ManifestFile))
 	if err != nil {
 		return nil, err
 	}
 	s.File, s.Dir = m.Spec.File, m.Spec.Dir
-	methods, _, err := compileMethods(s)
+	methods, _, err := forecast.Compile(s)
 	if err != nil {
 		return nil, err
 	}
-	files, err := resolveSources(s)
+	files, err := ingest.ResolveSources(s)
 	if err != nil {
 		return nil, err
 	}
-	cal := calendar{freq: s.Calendar.Frequency, season: s.Calendar.SeasonLength}
-	rs, err := readInputs(ctx, s, files, cal, 0)
+	cal := calendar.Calendar{Freq: s.Calendar.Frequency, Season: s.Calendar.SeasonLength}
+	rs, err := ingest.Read(ctx, s, files, cal, 0)
 	if err != nil {
 		return nil, err
 	}
-	series, err := shapeRows(rs, s.Shaping, s.Limits, cal, s.Columns.Keys)
+	all, err := series.Shape(rs, s.Shaping, s.Limits, cal, s.Columns.Keys)
 	if err != nil {
 		return nil, err
 	}
-	i := slices.IndexFunc(series, func(se *Series) bool { return slices.Equal(se.Key, key) })
-	if i < 0 || series[i].Skip != "" {
+	i := slices.IndexFunc(all, func(se *series.Series) bool { return slices.Equal(se.Key, key) })
+	if i < 0 || all[i].Skip != "" {
 		return nil, fmt.Errorf("series %v not found in the run's inputs", key)
 	}
 	out := map[string]map[string]float64{}
 	for _, mr := range methods {
-		fitted, err := safeFit(mr.method, series[i].Values, s.Calendar.SeasonLength)
+		fitted, err := forecast.SafeFit(mr.Engine, all[i].Values, s.Calendar.SeasonLength)
 		if err != nil {
 			continue
 		}
@@ -56,17 +62,8 @@ func SeriesParams(ctx context.Context, runDir string, key []string) (map[string]
 			for _, x := range p.Params() {
 				ps[x.Name] = x.Value
 			}
-			out[mr.spec.Label] = ps
+			out[mr.Spec.Label] = ps
 		}
 	}
 	return out, nil
-}
-
-func safeFit(m engines.Method, y []float64, season int) (f engines.Fitted, err error) {
-	defer func() {
-		if p := recover(); p != nil {
-			f, err = nil, panicError(p)
-		}
-	}()
-	return m.Fit(y, season)
 }

@@ -8,57 +8,98 @@ import (
 	"sort"
 	"strings"
 
+	"almanac/engines"
+	"almanac/pipeline/calendar"
+	"almanac/pipeline/forecast"
+	"almanac/pipeline/ingest"
 	"almanac/pipeline/runfolder"
 	"almanac/spec"
 )
 
-// Plan is a compiled spec: the stages a run would execute, on which inputs,
-// for how many series. Making a plan reads and shapes the input (to count
-// series) but fits no method and writes nothing.
+// Plan is a compiled spec: the inputs, the compiled methods and the output
+// folder a run executes. Plan.Run runs it; Plan.Stages describes it, and
+// `almanac plan` prints that description of the same value.
 type Plan struct {
-	Spec    *spec.Spec
-	Out     string
-	Inputs  []InputFile
+	Spec       *spec.Spec
+	Out        string
+	Inputs     []ingest.InputFile
+	Cal        calendar.Calendar
+	Methods    []forecast.Method
+	Decomposer engines.Decomposer // nil with a season length below 2
+	Shard      Shard
+
+	// Filled by Count, which reads and shapes the input (the plan command).
+	Counted bool
 	Rows    int64
 	Series  int
 	Periods struct{ Min, Max int }
 	Batches int    // key-range batches the run would process
 	First   string // earliest period in the data
 	Last    string // latest period in the data
-	cal     calendar
 }
 
-// MakePlan compiles s and counts what a run would process.
-func MakePlan(ctx context.Context, s *spec.Spec, opts Options) (*Plan, error) {
+// Compile checks s against the files and the output folder and compiles
+// its methods. It reads no data and writes nothing.
+func Compile(s *spec.Spec, opts Options) (*Plan, error) {
 	target, err := OutputDir(s, opts)
 	if err != nil {
 		return nil, err
 	}
-	if _, _, err := compileMethods(s); err != nil {
-		return nil, err
-	}
-	files, err := resolveSources(s)
+	methods, decomposer, err := forecast.Compile(s)
 	if err != nil {
 		return nil, err
 	}
-	if err := checkTarget(target, files); err != nil {
-		return nil, err
-	}
-	cal := calendar{freq: s.Calendar.Frequency, season: s.Calendar.SeasonLength}
-	rs, src, err := openBatches(ctx, s, files, cal, opts)
+	files, err := ingest.ResolveSources(s)
 	if err != nil {
 		return nil, err
 	}
-	defer src.close()
-	p := &Plan{Spec: s, Out: target, Inputs: files, Rows: rs.rowCount, Series: len(rs.keys), cal: cal, Batches: src.batches()}
+	p := &Plan{Spec: s, Out: target, Inputs: files, Methods: methods, Decomposer: decomposer, Shard: opts.Shard,
+		Cal: calendar.Calendar{Freq: s.Calendar.Frequency, Season: s.Calendar.SeasonLength}}
+	if opts.Shard.Count > 1 {
+		if opts.Shard.Index < 0 || opts.Shard.Index >= opts.Shard.Count {
+			return nil, fmt.Errorf("shard index %d is outside 0…%d", opts.Shard.Index, opts.Shard.Count-1)
+		}
+	} else if err := runfolder.CheckTarget(target, p.inputs()); err != nil {
+		return nil, err
+	}
+	return p, nil
+}
+
+// inputs is the plan's inputs as the manifest records them.
+func (p *Plan) inputs() []runfolder.Input {
+	out := make([]runfolder.Input, len(p.Inputs))
+	for i, f := range p.Inputs {
+		out[i] = runfolder.Input{Path: f.Path, Format: f.Format, Size: f.Size, SHA256: f.SHA256, Rows: f.Rows, Abs: f.Abs}
+	}
+	return out
+}
+
+// MakePlan compiles s and counts what a run would process.
+func MakePlan(ctx context.Context, s *spec.Spec, opts Options) (*Plan, error) {
+	p, err := Compile(s, opts)
+	if err != nil {
+		return nil, err
+	}
+	return p, p.Count(ctx, opts)
+}
+
+// Count reads and shapes the input to count rows, series and periods. It
+// fits no method and writes nothing.
+func (p *Plan) Count(ctx context.Context, opts Options) error {
+	rs, src, err := openBatches(ctx, p.Spec, p.Inputs, p.Cal, opts)
+	if err != nil {
+		return err
+	}
+	defer src.Close()
+	p.Counted, p.Rows, p.Series, p.Batches = true, rs.RowCount, len(rs.Keys), src.Count()
 	p.Periods.Min = 1 << 62
 	lo, hi := int64(math.MaxInt64), int64(math.MinInt64)
-	for b := 0; b < src.batches(); b++ {
-		series, err := src.series(b)
+	for b := 0; b < src.Count(); b++ {
+		batch, err := src.Batch(b)
 		if err != nil {
-			return nil, err
+			return err
 		}
-		for _, se := range series {
+		for _, se := range batch {
 			n := len(se.Values)
 			if se.Skip != "" {
 				continue
@@ -70,9 +111,85 @@ func MakePlan(ctx context.Context, s *spec.Spec, opts Options) (*Plan, error) {
 		}
 	}
 	if lo <= hi {
-		p.First, p.Last = cal.label(lo), cal.label(hi)
+		p.First, p.Last = p.Cal.Label(lo), p.Cal.Label(hi)
 	}
-	return p, nil
+	return nil
+}
+
+// Stage is one step of a plan, as `almanac plan` shows it.
+type Stage struct {
+	Name   string
+	Detail string   // one line
+	More   []string // further lines (inputs, methods)
+	Tables []string // the tables the stage writes
+}
+
+// Stages lists what Run executes, in order, from the plan's own values.
+func (p *Plan) Stages() []Stage {
+	s := p.Spec
+	var out []Stage
+	read := Stage{Name: "read", Detail: fmt.Sprintf("%d file(s)", len(p.Inputs))}
+	if p.Counted {
+		read.Detail += fmt.Sprintf(", %d rows", p.Rows)
+	}
+	for _, f := range p.Inputs {
+		read.More = append(read.More, fmt.Sprintf("%s  (%s, %s)", f.Path, f.Format, runfolder.HumanBytes(f.Size)))
+	}
+	read.More = append(read.More, fmt.Sprintf("columns: time %q, value %q, keys %s", s.Columns.Time, s.Columns.Value, listOrNone(s.Columns.Keys)))
+	out = append(out, read)
+	out = append(out, Stage{Name: "shape", Detail: fmt.Sprintf("%s periods, season length %d; rows in one period: %s; missing periods: %s; series end at the %s end",
+		s.Calendar.Frequency, s.Calendar.SeasonLength, s.Shaping.Combine, s.Shaping.Gaps, s.Shaping.End)})
+	split := Stage{Name: "split", Detail: "series by key"}
+	if p.Counted {
+		split.Detail = fmt.Sprintf("%d series", p.Series)
+		if p.Series > 0 {
+			split.Detail += fmt.Sprintf(", %d to %d periods each, %s … %s", p.Periods.Min, p.Periods.Max, p.First, p.Last)
+		}
+		if p.Batches > 1 {
+			split.Detail += fmt.Sprintf(" — in %d batches", p.Batches)
+		}
+	}
+	out = append(out, split)
+	if p.Decomposer != nil {
+		out = append(out, Stage{Name: "decompose", Detail: strings.TrimSpace(s.Decomposition.Method + " " + optionList(s.Decomposition.Options)),
+			Tables: []string{runfolder.TableComponents, runfolder.TableSeasonalFactors}})
+	} else {
+		out = append(out, Stage{Name: "decompose", Detail: "skipped (season length 1)"})
+	}
+	if b := s.Backtest; b.Folds > 0 {
+		out = append(out, Stage{Name: "backtest", Detail: fmt.Sprintf("%d fold(s) of %d step(s), %d apart, %s window, at least %d training periods",
+			b.Folds, b.Horizon, b.Step, b.Window, b.MinTrain), Tables: []string{runfolder.TableAccuracy}})
+		sel := s.Selection
+		d := fmt.Sprintf("lowest mean %s per series; fallback %s", sel.Metric, sel.Fallback)
+		if c := sel.Combine; c != nil {
+			d += fmt.Sprintf("; entry %q: %s of the top %d", c.Label, c.Kind, c.Top)
+		}
+		for _, k := range sortedKeysAny(anyMap(sel.Route)) {
+			d += fmt.Sprintf("; %s series: %s", k, strings.Join(sel.Route[k], ", "))
+		}
+		out = append(out, Stage{Name: "select", Detail: d, Tables: []string{runfolder.TableChoices}})
+	}
+	fc := Stage{Name: "forecast", Detail: fmt.Sprintf("%d step(s) ahead with %d method(s)", s.Horizon, len(s.Methods)), Tables: []string{runfolder.TableForecasts}}
+	for _, m := range s.Methods {
+		label := m.Label
+		if label != m.Method {
+			label += " (" + m.Method + ")"
+		}
+		fc.More = append(fc.More, strings.TrimRight(fmt.Sprintf("%-28s %s", label, optionList(m.Options)), " "))
+	}
+	out = append(out, fc)
+	if iv := s.Intervals; len(iv.Levels) > 0 {
+		which := "the chosen entry"
+		if iv.AllMethods || s.Backtest.Folds == 0 {
+			which = "every entry"
+		}
+		out = append(out, Stage{Name: "intervals", Detail: fmt.Sprintf("%s bounds at %s%% for %s", iv.Source, joinInts(iv.Levels), which)})
+	}
+	out = append(out, Stage{Name: "write", Detail: runfolder.ManifestFile + ", " + runfolder.LineageFile + "; committed atomically", Tables: []string{runfolder.TableProblems}})
+	if r := s.Report; r != nil {
+		out = append(out, Stage{Name: "report", Detail: fmt.Sprintf("report.html: %d named series and up to %d picked", len(r.Series), r.Picks)})
+	}
+	return out
 }
 
 // Print writes the plan for people.
@@ -80,35 +197,16 @@ func (p *Plan) Print(w io.Writer) {
 	s := p.Spec
 	fmt.Fprintf(w, "spec     %s (sha256 %s)\n", s.Name, s.Hash()[:16])
 	fmt.Fprintf(w, "output   %s\n\n", p.Out)
-	fmt.Fprintf(w, "1. read      %d file(s), %d rows\n", len(p.Inputs), p.Rows)
-	for _, f := range p.Inputs {
-		fmt.Fprintf(w, "               %s  (%s, %s)\n", f.Path, f.Format, runfolder.HumanBytes(f.Size))
-	}
-	fmt.Fprintf(w, "             columns: time %q, value %q, keys %s\n", s.Columns.Time, s.Columns.Value, listOrNone(s.Columns.Keys))
-	fmt.Fprintf(w, "2. shape     %s periods, season length %d; rows in one period: %s; missing periods: %s; series end at the %s end\n",
-		s.Calendar.Frequency, s.Calendar.SeasonLength, s.Shaping.Combine, s.Shaping.Gaps, s.Shaping.End)
-	fmt.Fprintf(w, "3. split     %d series", p.Series)
-	if p.Series > 0 {
-		fmt.Fprintf(w, ", %d to %d periods each, %s … %s", p.Periods.Min, p.Periods.Max, p.First, p.Last)
-	}
-	if p.Batches > 1 {
-		fmt.Fprintf(w, " — in %d batches", p.Batches)
-	}
-	fmt.Fprintln(w)
-	if s.Calendar.SeasonLength >= 2 {
-		fmt.Fprintf(w, "4. decompose %s %s  → components, seasonal_factors\n", s.Decomposition.Method, optionList(s.Decomposition.Options))
-	} else {
-		fmt.Fprintf(w, "4. decompose skipped (season length 1)\n")
-	}
-	fmt.Fprintf(w, "5. forecast  %d step(s) ahead with %d method(s)  → forecasts\n", s.Horizon, len(s.Methods))
-	for _, m := range s.Methods {
-		label := m.Label
-		if label != m.Method {
-			label += " (" + m.Method + ")"
+	for i, st := range p.Stages() {
+		line := fmt.Sprintf("%-13s%s", fmt.Sprintf("%d. %s", i+1, st.Name), st.Detail)
+		if len(st.Tables) > 0 {
+			line += "  → " + strings.Join(st.Tables, ", ")
 		}
-		fmt.Fprintf(w, "               %-28s %s\n", label, optionList(m.Options))
+		fmt.Fprintln(w, line)
+		for _, m := range st.More {
+			fmt.Fprintf(w, "               %s\n", m)
+		}
 	}
-	fmt.Fprintf(w, "6. write     forecasts, components, seasonal_factors, problems (.parquet), manifest.json\n")
 }
 
 func optionList(o map[string]any) string {
@@ -119,6 +217,14 @@ func optionList(o map[string]any) string {
 	return strings.Join(opts, " ")
 }
 
+func anyMap(m map[string][]string) map[string]any {
+	out := make(map[string]any, len(m))
+	for k, v := range m {
+		out[k] = v
+	}
+	return out
+}
+
 func sortedKeysAny(m map[string]any) []string {
 	out := make([]string, 0, len(m))
 	for k := range m {
@@ -126,6 +232,14 @@ func sortedKeysAny(m map[string]any) []string {
 	}
 	sort.Strings(out)
 	return out
+}
+
+func joinInts(xs []int) string {
+	q := make([]string, len(xs))
+	for i, x := range xs {
+		q[i] = fmt.Sprint(x)
+	}
+	return strings.Join(q, ", ")
 }
 
 func listOrNone(xs []string) string {

@@ -1,6 +1,7 @@
 package pipeline
 
 import (
+	"almanac/pipeline/runfolder"
 	"bytes"
 	"context"
 	"errors"
@@ -10,6 +11,7 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+	"time"
 
 	"github.com/apache/arrow-go/v18/arrow"
 	"github.com/apache/arrow-go/v18/arrow/array"
@@ -84,8 +86,7 @@ func (tb *table) i32(col string, i int) int { return int(tb.cols[col].(*array.In
 
 func (tb *table) date(col string, i int) string {
 	d := int64(tb.cols[col].(*array.Date32).Value(i))
-	y, m, dd := civil(d)
-	return fmt.Sprintf("%04d-%02d-%02d", y, m, dd)
+	return time.Unix(d*86400, 0).UTC().Format(time.DateOnly)
 }
 
 // writeFixture writes a small invented panel as CSV: two stores × two
@@ -163,13 +164,13 @@ func TestRunWritesTypedTables(t *testing.T) {
 		t.Errorf("run folder %s, want %s", sum.Dir, out)
 	}
 	wantTypes := map[string]map[string]arrow.DataType{
-		TableForecasts: {"store": arrow.BinaryTypes.String, "item": arrow.BinaryTypes.String, "method": arrow.BinaryTypes.String,
+		runfolder.TableForecasts: {"store": arrow.BinaryTypes.String, "item": arrow.BinaryTypes.String, "method": arrow.BinaryTypes.String,
 			"model": arrow.BinaryTypes.String, "period": arrow.FixedWidthTypes.Date32, "step": arrow.PrimitiveTypes.Int32, "value": arrow.PrimitiveTypes.Float64},
-		TableComponents: {"store": arrow.BinaryTypes.String, "decomposition": arrow.BinaryTypes.String, "form": arrow.BinaryTypes.String,
+		runfolder.TableComponents: {"store": arrow.BinaryTypes.String, "decomposition": arrow.BinaryTypes.String, "form": arrow.BinaryTypes.String,
 			"period": arrow.FixedWidthTypes.Date32, "observed": arrow.PrimitiveTypes.Float64, "trend": arrow.PrimitiveTypes.Float64,
 			"seasonal": arrow.PrimitiveTypes.Float64, "remainder": arrow.PrimitiveTypes.Float64, "adjusted": arrow.PrimitiveTypes.Float64},
-		TableSeasonalFactors: {"position": arrow.PrimitiveTypes.Int32, "factor": arrow.PrimitiveTypes.Float64, "count": arrow.PrimitiveTypes.Int32},
-		TableProblems:        {"stage": arrow.BinaryTypes.String, "severity": arrow.BinaryTypes.String, "method": arrow.BinaryTypes.String, "message": arrow.BinaryTypes.String},
+		runfolder.TableSeasonalFactors: {"position": arrow.PrimitiveTypes.Int32, "factor": arrow.PrimitiveTypes.Float64, "count": arrow.PrimitiveTypes.Int32},
+		runfolder.TableProblems:        {"stage": arrow.BinaryTypes.String, "severity": arrow.BinaryTypes.String, "method": arrow.BinaryTypes.String, "message": arrow.BinaryTypes.String},
 	}
 	tables := map[string]*table{}
 	for name, cols := range wantTypes {
@@ -192,7 +193,7 @@ func TestRunWritesTypedTables(t *testing.T) {
 
 	// Forecasts: 4 series × 6 methods × 6 steps, less the classical
 	// methods on the short S2/A series (18 < 24 periods).
-	fc := tables[TableForecasts]
+	fc := tables[runfolder.TableForecasts]
 	if want := (4*6 - 2) * 6; fc.rows != want {
 		t.Errorf("forecasts rows = %d, want %d", fc.rows, want)
 	}
@@ -220,7 +221,7 @@ func TestRunWritesTypedTables(t *testing.T) {
 
 	// Problems: the short series is too short for classical (decompose and
 	// both classical methods); S1/B has zeros, so multiplicative falls back.
-	pr := tables[TableProblems]
+	pr := tables[runfolder.TableProblems]
 	var got []string
 	for i := 0; i < pr.rows; i++ {
 		got = append(got, strings.Join([]string{pr.str("store", i), pr.str("item", i), pr.str("stage", i), pr.str("severity", i), pr.str("method", i)}, " "))
@@ -244,7 +245,7 @@ func TestRunWritesTypedTables(t *testing.T) {
 			break
 		}
 	}
-	comp := tables[TableComponents]
+	comp := tables[runfolder.TableComponents]
 	for i := 0; i < comp.rows; i++ {
 		if comp.str("store", i) == "S1" && comp.str("item", i) == "B" && comp.str("form", i) != "additive" {
 			t.Fatalf("S1/B components form %q, want additive (fallback)", comp.str("form", i))
@@ -260,7 +261,7 @@ func TestRunWritesTypedTables(t *testing.T) {
 	if got := comp.f64("observed", 0); math.Abs(got-(math.Round(v*10)/10+5)) > 1e-9 {
 		t.Errorf("S1/A 2021-01 observed %g, want %g (two rows summed)", got, math.Round(v*10)/10+5)
 	}
-	sf := tables[TableSeasonalFactors]
+	sf := tables[runfolder.TableSeasonalFactors]
 	if sf.rows != 3*12 || sf.i32("position", 0) != 1 || sf.i32("position", 11) != 12 {
 		t.Errorf("seasonal_factors rows %d, positions %d…%d", sf.rows, sf.i32("position", 0), sf.i32("position", 11))
 	}
@@ -271,14 +272,14 @@ func TestRunWritesTypedTables(t *testing.T) {
 		t.Errorf("January factor averaged from %d values, want 2", c)
 	}
 
-	m, err := ReadManifest(out)
+	m, err := runfolder.ReadManifest(out)
 	if err != nil {
 		t.Fatal(err)
 	}
 	if m.Series != 4 || m.RowsRead != 36+36+30+18+1 || len(m.Inputs) != 1 || len(m.Inputs[0].SHA256) != 64 || m.Spec.SHA256 != s.Hash() {
 		t.Errorf("manifest: %+v", m)
 	}
-	if _, err := os.Stat(filepath.Join(out, MarkerFile)); err != nil {
+	if _, err := os.Stat(filepath.Join(out, runfolder.MarkerFile)); err != nil {
 		t.Errorf("marker missing: %v", err)
 	}
 }
@@ -289,8 +290,8 @@ func runBytes(t *testing.T, s *spec.Spec, out string, workers int) map[string][]
 		t.Fatal(err)
 	}
 	files := map[string][]byte{}
-	for _, name := range []string{TableForecasts, TableComponents, TableSeasonalFactors, TableProblems, TableAccuracy, TableChoices} {
-		if _, err := os.Stat(filepath.Join(out, name+".parquet")); os.IsNotExist(err) && (name == TableAccuracy || name == TableChoices) {
+	for _, name := range []string{runfolder.TableForecasts, runfolder.TableComponents, runfolder.TableSeasonalFactors, runfolder.TableProblems, runfolder.TableAccuracy, runfolder.TableChoices} {
+		if _, err := os.Stat(filepath.Join(out, name+".parquet")); os.IsNotExist(err) && (name == runfolder.TableAccuracy || name == runfolder.TableChoices) {
 			continue
 		}
 		b, err := os.ReadFile(filepath.Join(out, name+".parquet"))
@@ -320,6 +321,7 @@ func TestSameBytesAtAnyWorkerCount(t *testing.T) {
 	one := runBytes(t, s, filepath.Join(dir, "w1"), 1)
 	two := runBytes(t, s, filepath.Join(dir, "w2"), 2)
 	four := runBytes(t, s, filepath.Join(dir, "w4"), 4)
+	checkTableHashes(t, "determinism-2000", one)
 	for name := range one {
 		if !bytes.Equal(one[name], two[name]) || !bytes.Equal(one[name], four[name]) {
 			t.Errorf("%s differs between 1, 2 and 4 workers", name)

@@ -1,6 +1,7 @@
 package pipeline
 
 import (
+	"almanac/pipeline/runfolder"
 	"bytes"
 	"context"
 	"fmt"
@@ -79,7 +80,7 @@ func TestShardUnionEqualsSingleRun(t *testing.T) {
 	if _, err := Run(context.Background(), s, Options{Out: single}); err != nil {
 		t.Fatal(err)
 	}
-	tables := []string{TableForecasts, TableComponents, TableSeasonalFactors, TableProblems, TableAccuracy, TableChoices}
+	tables := []string{runfolder.TableForecasts, runfolder.TableComponents, runfolder.TableSeasonalFactors, runfolder.TableProblems, runfolder.TableAccuracy, runfolder.TableChoices}
 	want := map[string][]string{}
 	for _, tb := range tables {
 		want[tb] = rowStrings(t, filepath.Join(single, tb+".parquet"))
@@ -110,7 +111,7 @@ func TestShardUnionEqualsSingleRun(t *testing.T) {
 			t.Errorf("%d shards hold %d series, want 60", n, series)
 		}
 		var log bytes.Buffer
-		cm, err := Combine(ds, &log)
+		cm, err := runfolder.Combine(ds, &log)
 		if err != nil {
 			t.Fatalf("%d shards: %v\n%s", n, err, log.String())
 		}
@@ -143,8 +144,8 @@ func TestShardUnionEqualsSingleRun(t *testing.T) {
 			}
 		}
 		if n == 4 {
-			os.Remove(filepath.Join(ds, ShardsDir, "shard=0002.json"))
-			_, err := Combine(ds, &log)
+			os.Remove(filepath.Join(ds, runfolder.ShardsDir, "shard=0002.json"))
+			_, err := runfolder.Combine(ds, &log)
 			if err == nil || !strings.Contains(log.String(), "shard(s) 2 of 4 missing or incomplete") {
 				t.Errorf("a missing shard was not refused: %v\n%s", err, log.String())
 			}

@@ -1,346 +1,157 @@
 package pipeline
 
 import (
-	"fmt"
-	"math"
-	"os"
+	"errors"
 
-	"github.com/apache/arrow-go/v18/arrow"
-	"github.com/apache/arrow-go/v18/arrow/array"
 	"github.com/apache/arrow-go/v18/arrow/memory"
-	"github.com/apache/arrow-go/v18/parquet"
-	"github.com/apache/arrow-go/v18/parquet/compress"
-	"github.com/apache/arrow-go/v18/parquet/pqarrow"
 
+	"almanac/pipeline/calendar"
+	"almanac/pipeline/evaluate"
+	"almanac/pipeline/forecast"
+	"almanac/pipeline/runfolder"
 	"almanac/spec"
 )
 
-// Table names, as files in the run folder (with .parquet).
-const (
-	TableForecasts       = "forecasts"
-	TableComponents      = "components"
-	TableSeasonalFactors = "seasonal_factors"
-	TableProblems        = "problems"
-	TableAccuracy        = "accuracy"
-	TableChoices         = "choices"
-)
-
-// flushRows is how many rows a table buffers before handing them to the
-// Parquet writer; rowGroupRows is the largest row group written.
-const (
-	flushRows    = 64 * 1024
-	rowGroupRows = 128 * 1024
-)
-
-// colKind is the type of a fixed (non-key) column.
-type colKind int
-
-const (
-	colString colKind = iota
-	colDate
-	colInt
-	colFloat
-	colBool
-)
-
-type column struct {
-	name     string
-	kind     colKind
-	nullable bool
+// runTables holds the open table writers of a run and the sinks that feed
+// them: pass 1's backtests go to accuracy and choices, pass 2's results to
+// forecasts, components, seasonal_factors and problems. Each table encodes
+// on a goroutine of its own; rows keep their order per table.
+type runTables struct {
+	forecasts, components, factors, problems *runfolder.TableWriter
+	accuracy, choices                        *runfolder.TableWriter // nil without a backtest
+	series                                   int
+	errors, warnings                         int
+	methodSeries                             map[string]int
+	layout                                   forecast.Layout
+	backtests                                []*runfolder.Sink[*evaluate.Backtest]
+	results                                  []*runfolder.Sink[*forecast.Result]
 }
 
-// tableWriter streams rows of one table into a Parquet file.
-type tableWriter struct {
-	strs   []*array.StringBuilder // by field index; nil where the field is not a string
-	floats []*array.Float64Builder
-	ints   []*array.Int32Builder
-	dates  []*array.Date32Builder
-	bools  []*array.BooleanBuilder
-	name   string
-	path   string
-	file   *os.File
-	fw     *pqarrow.FileWriter
-	rb     *array.RecordBuilder
-	nkeys  int
-	cols   []column
-	rows   int64
-	buffer int
-}
-
-func tableSchema(keyNames []string, cols []column) *arrow.Schema {
-	fields := make([]arrow.Field, 0, len(keyNames)+len(cols))
-	for _, k := range keyNames {
-		fields = append(fields, arrow.Field{Name: k, Type: arrow.BinaryTypes.String, Nullable: true})
-	}
-	for _, c := range cols {
-		var t arrow.DataType
-		switch c.kind {
-		case colString:
-			t = arrow.BinaryTypes.String
-		case colDate:
-			t = arrow.FixedWidthTypes.Date32
-		case colInt:
-			t = arrow.PrimitiveTypes.Int32
-		case colFloat:
-			t = arrow.PrimitiveTypes.Float64
-		case colBool:
-			t = arrow.FixedWidthTypes.Boolean
+func openTables(dir string, s *spec.Spec, meta map[string]string, mem memory.Allocator) (*runTables, error) {
+	keys := s.Columns.Keys
+	rt := &runTables{methodSeries: map[string]int{},
+		layout: forecast.Layout{WithChosen: s.Backtest.Folds > 0, Levels: len(s.Intervals.Levels), Decomposition: s.Decomposition.Method}}
+	var err error
+	open := func(name string, cols []runfolder.Column) *runfolder.TableWriter {
+		if err != nil {
+			return nil
 		}
-		fields = append(fields, arrow.Field{Name: c.name, Type: t, Nullable: c.nullable})
+		var t *runfolder.TableWriter
+		t, err = runfolder.NewTableWriter(dir, name, keys, cols, meta, mem)
+		return t
 	}
-	return arrow.NewSchema(fields, nil)
-}
-
-// writerProps are the Parquet properties of every table: zstd, dictionary
-// encoding, statistics, a fixed created-by so files do not change with the
-// library's build.
-func writerProps(sch *arrow.Schema) *parquet.WriterProperties {
-	opts := []parquet.WriterProperty{
-		parquet.WithCompression(compress.Codecs.Zstd),
-		parquet.WithCompressionLevel(1), // zstd "fastest": most of the gain, a third of the cost of level 3
-		// Dictionary encoding for the string columns (keys, method, model,
-		// form …: few distinct values); numbers are mostly distinct, so a
-		// dictionary would cost time and save nothing.
-		parquet.WithDictionaryDefault(false),
-		parquet.WithStats(true),
-		parquet.WithMaxRowGroupLength(rowGroupRows),
-		parquet.WithCreatedBy("almanac " + Version),
-		parquet.WithVersion(parquet.V2_6),
+	rt.forecasts = open(runfolder.TableForecasts, runfolder.ForecastColumns(s))
+	if s.Backtest.Folds > 0 {
+		rt.accuracy = open(runfolder.TableAccuracy, runfolder.AccuracyColumns())
+		rt.choices = open(runfolder.TableChoices, runfolder.ChoiceColumns())
 	}
-	for _, f := range sch.Fields() {
-		if f.Type.ID() == arrow.STRING {
-			opts = append(opts, parquet.WithDictionaryFor(f.Name, true))
-		}
-	}
-	return parquet.NewWriterProperties(opts...)
-}
-
-func newTableWriter(dir, name string, keyNames []string, cols []column, meta map[string]string, mem memory.Allocator) (*tableWriter, error) {
-	sch := tableSchema(keyNames, cols)
-	path := dir + string(os.PathSeparator) + name + ".parquet"
-	f, err := os.OpenFile(path, os.O_CREATE|os.O_EXCL|os.O_WRONLY, 0o644)
+	rt.components = open(runfolder.TableComponents, runfolder.ComponentColumns())
+	rt.factors = open(runfolder.TableSeasonalFactors, runfolder.FactorColumns())
+	rt.problems = open(runfolder.TableProblems, runfolder.ProblemColumns())
 	if err != nil {
+		rt.abort()
 		return nil, err
 	}
-	keys := make([]string, 0, len(meta))
-	vals := make([]string, 0, len(meta))
-	for _, k := range sortedKeys(meta) {
-		keys = append(keys, k)
-		vals = append(vals, meta[k])
-	}
-	md := arrow.NewMetadata(keys, vals)
-	sch = arrow.NewSchema(sch.Fields(), &md)
-	fw, err := pqarrow.NewFileWriter(sch, f, writerProps(sch), pqarrow.NewArrowWriterProperties(pqarrow.WithStoreSchema(), pqarrow.WithAllocator(mem)))
-	if err != nil {
-		f.Close()
-		return nil, err
-	}
-	t := &tableWriter{name: name, path: path, file: f, fw: fw, rb: array.NewRecordBuilder(mem, sch), nkeys: len(keyNames), cols: cols}
-	n := len(sch.Fields())
-	t.strs, t.floats, t.ints = make([]*array.StringBuilder, n), make([]*array.Float64Builder, n), make([]*array.Int32Builder, n)
-	t.dates, t.bools = make([]*array.Date32Builder, n), make([]*array.BooleanBuilder, n)
-	for i := 0; i < n; i++ {
-		switch b := t.rb.Field(i).(type) {
-		case *array.StringBuilder:
-			t.strs[i] = b
-		case *array.Float64Builder:
-			t.floats[i] = b
-		case *array.Int32Builder:
-			t.ints[i] = b
-		case *array.Date32Builder:
-			t.dates[i] = b
-		case *array.BooleanBuilder:
-			t.bools[i] = b
+	return rt, nil
+}
+
+// startSinks starts the writers of both passes.
+func (rt *runTables) startSinks(cal calendar.Calendar, e *evaluate.Evaluation) {
+	if rt.accuracy != nil {
+		rt.backtests = []*runfolder.Sink[*evaluate.Backtest]{
+			runfolder.NewSink(func(r *evaluate.Backtest) error { return evaluate.WriteAccuracy(rt.accuracy, r, cal) }),
+			runfolder.NewSink(func(r *evaluate.Backtest) error { return e.WriteChoice(rt.choices, r) }),
 		}
 	}
-	return t, nil
+	l := rt.layout
+	rt.results = []*runfolder.Sink[*forecast.Result]{
+		runfolder.NewSink(func(r *forecast.Result) error { return l.WriteForecasts(rt.forecasts, r, cal, rt.methodSeries) }),
+		runfolder.NewSink(func(r *forecast.Result) error { return l.WriteComponents(rt.components, r, cal) }),
+		runfolder.NewSink(func(r *forecast.Result) error { return l.WriteFactors(rt.factors, r, cal) }),
+		runfolder.NewSink(func(r *forecast.Result) error {
+			for _, p := range r.Problems {
+				if err := rt.problem(p); err != nil {
+					return err
+				}
+			}
+			return nil
+		}),
+	}
 }
 
-// key appends the key columns of a row; key nil writes NULLs.
-func (t *tableWriter) key(key []string) {
-	for i := 0; i < t.nkeys; i++ {
-		b := t.strs[i]
-		if key == nil {
-			b.AppendNull()
-		} else {
-			b.Append(key[i])
+// send hands x to every sink and reports the first error any of them has
+// met so far.
+func send[R any](sinks []*runfolder.Sink[R], x R) error {
+	for _, k := range sinks {
+		k.Send(x)
+	}
+	for _, k := range sinks {
+		if err := k.Err(); err != nil {
+			return err
 		}
-	}
-}
-
-func (t *tableWriter) str(col int, v string) {
-	t.strs[t.nkeys+col].Append(v)
-}
-
-func (t *tableWriter) strOrNull(col int, v string) {
-	b := t.strs[t.nkeys+col]
-	if v == "" {
-		b.AppendNull()
-	} else {
-		b.Append(v)
-	}
-}
-
-func (t *tableWriter) date(col int, days int64) {
-	t.dates[t.nkeys+col].Append(arrow.Date32(days))
-}
-
-func (t *tableWriter) int32(col int, v int) {
-	t.ints[t.nkeys+col].Append(int32(v))
-}
-
-func (t *tableWriter) boolean(col int, v bool) {
-	t.bools[t.nkeys+col].Append(v)
-}
-
-// float appends v, or NULL when v is NaN or infinite.
-func (t *tableWriter) float(col int, v float64) {
-	b := t.floats[t.nkeys+col]
-	if math.IsNaN(v) || math.IsInf(v, 0) {
-		b.AppendNull()
-	} else {
-		b.Append(v)
-	}
-}
-
-// endRow counts a finished row and flushes a full buffer.
-func (t *tableWriter) endRow() error {
-	t.rows++
-	t.buffer++
-	if t.buffer >= flushRows {
-		return t.flush()
 	}
 	return nil
 }
 
-func (t *tableWriter) flush() error {
-	if t.buffer == 0 {
-		return nil
-	}
-	rec := t.rb.NewRecordBatch()
-	defer rec.Release()
-	t.buffer = 0
-	if err := t.fw.WriteBuffered(rec); err != nil {
-		return fmt.Errorf("writing %s: %w", t.name, err)
-	}
-	return nil
+// writeBacktest hands one series' backtest to the accuracy and choices writers.
+func (rt *runTables) writeBacktest(r *evaluate.Backtest) error { return send(rt.backtests, r) }
+
+// write hands one series' final result to its writers.
+func (rt *runTables) write(r *forecast.Result) error {
+	rt.series++
+	return send(rt.results, r)
 }
 
-// close flushes, finishes the Parquet footer and fsyncs the file.
-func (t *tableWriter) close() error {
-	if t.fw == nil {
-		return nil
+// drain closes the sinks, waits for them and returns their first error.
+func (rt *runTables) drain() error {
+	var errs []error
+	for _, k := range rt.backtests {
+		errs = append(errs, k.Close())
 	}
-	err := t.flush()
-	if cerr := t.fw.Close(); err == nil && cerr != nil {
-		err = fmt.Errorf("writing %s: %w", t.name, cerr)
+	for _, k := range rt.results {
+		errs = append(errs, k.Close())
 	}
-	t.fw = nil
-	t.rb.Release()
-	// pqarrow's Close closes the underlying file; reopen to fsync.
-	if err == nil {
-		err = fsyncPath(t.path)
-	}
-	return err
+	rt.backtests, rt.results = nil, nil
+	return errors.Join(errs...)
 }
 
-// abort releases the writer without caring about the file.
-func (t *tableWriter) abort() {
-	if t.fw != nil {
-		t.fw.Close()
-		t.fw = nil
-		t.rb.Release()
+func (rt *runTables) tables() []*runfolder.TableWriter {
+	out := []*runfolder.TableWriter{rt.forecasts, rt.components, rt.factors, rt.problems}
+	if rt.accuracy != nil {
+		out = append(out, rt.accuracy, rt.choices)
+	}
+	return out
+}
+
+func (rt *runTables) abort() {
+	rt.drain()
+	for _, t := range rt.tables() {
+		if t != nil {
+			t.Abort()
+		}
 	}
 }
 
-func fsyncPath(path string) error {
-	f, err := os.Open(path)
-	if err != nil {
+func (rt *runTables) close() error {
+	if err := rt.drain(); err != nil {
 		return err
 	}
-	defer f.Close()
-	return f.Sync()
-}
-
-var forecastCols = []column{
-	{"method", colString, false},
-	{"model", colString, false},
-	{"period", colDate, false},
-	{"step", colInt, false},
-	{"value", colFloat, true},
-}
-
-// forecastColumns is the forecasts table's layout for a spec: with a
-// backtest it says which entry was chosen; with intervals it has a lower and
-// upper bound per level and where the bounds came from.
-func forecastColumns(s *spec.Spec) []column {
-	cols := append([]column(nil), forecastCols...)
-	if s.Backtest.Folds > 0 {
-		cols = append(cols, column{"chosen", colBool, false})
-	}
-	if len(s.Intervals.Levels) > 0 {
-		cols = append(cols, column{"interval_source", colString, true})
-		for _, l := range s.Intervals.Levels {
-			cols = append(cols, column{fmt.Sprintf("lower_%d", l), colFloat, true}, column{fmt.Sprintf("upper_%d", l), colFloat, true})
+	for _, t := range rt.tables() {
+		if err := t.Close(); err != nil {
+			return err
 		}
 	}
-	return cols
+	return nil
 }
 
-var accuracyCols = []column{
-	{"method", colString, false},
-	{"fold", colInt, false},
-	{"origin", colDate, false},
-	{"train_start", colDate, false},
-	{"train_periods", colInt, false},
-	{"test_periods", colInt, false},
-	{"mae", colFloat, true},
-	{"rmse", colFloat, true},
-	{"mape", colFloat, true},
-	{"mape_zeros", colInt, false},
-	{"smape", colFloat, true},
-	{"mase", colFloat, true},
-	{"rmsse", colFloat, true},
-	{"wape", colFloat, true},
-	{"bias", colFloat, true},
-	{"status", colString, false},
-}
-
-var choiceCols = []column{
-	{"chosen", colString, true},
-	{"metric", colString, false},
-	{"score", colFloat, true},
-	{"runner_up", colString, true},
-	{"runner_up_score", colFloat, true},
-	{"folds", colInt, false},
-	{"demand_class", colString, true},
-	{"adi", colFloat, true},
-	{"cv2", colFloat, true},
-	{"reason", colString, false},
-}
-
-var componentCols = []column{
-	{"decomposition", colString, false},
-	{"form", colString, false},
-	{"period", colDate, false},
-	{"observed", colFloat, true},
-	{"trend", colFloat, true},
-	{"seasonal", colFloat, true},
-	{"remainder", colFloat, true},
-	{"adjusted", colFloat, true},
-}
-
-var factorCols = []column{
-	{"decomposition", colString, false},
-	{"form", colString, false},
-	{"position", colInt, false},
-	{"factor", colFloat, true},
-	{"count", colInt, false},
-}
-
-var problemCols = []column{
-	{"stage", colString, false},
-	{"severity", colString, false},
-	{"method", colString, true},
-	{"message", colString, false},
+// problem writes one problems row and counts it by severity. Run-level
+// problems are written before the sinks start; per-series ones by the
+// problems sink only, so the counters have one writer at a time.
+func (rt *runTables) problem(p runfolder.Problem) error {
+	if p.Severity == "error" {
+		rt.errors++
+	} else {
+		rt.warnings++
+	}
+	return runfolder.WriteProblem(rt.problems, p)
 }

@@ -1,6 +1,7 @@
 package pipeline
 
 import (
+	"almanac/pipeline/runfolder"
 	"bytes"
 	"context"
 	"encoding/json"
@@ -80,10 +81,10 @@ func TestRunIDAndLineage(t *testing.T) {
 	}
 	run := sum.Dir
 	m := sum.Manifest
-	if len(m.RunID) != 64 || m.RunID != RunID(s, m.Inputs) {
+	if len(m.RunID) != 64 || m.RunID != runfolder.RunID(s, m.Inputs) {
 		t.Fatalf("run id %q", m.RunID)
 	}
-	for _, tb := range []string{TableForecasts, TableComponents, TableSeasonalFactors, TableProblems} {
+	for _, tb := range []string{runfolder.TableForecasts, runfolder.TableComponents, runfolder.TableSeasonalFactors, runfolder.TableProblems} {
 		if got := readTable(t, filepath.Join(run, tb+".parquet")).meta["almanac.run_id"]; got != m.RunID {
 			t.Errorf("%s: run id %q", tb, got)
 		}
@@ -100,7 +101,7 @@ func TestRunIDAndLineage(t *testing.T) {
 		t.Error("a changed input kept the run id")
 	}
 
-	b, err := os.ReadFile(filepath.Join(run, LineageFile))
+	b, err := os.ReadFile(filepath.Join(run, runfolder.LineageFile))
 	if err != nil {
 		t.Fatal(err)
 	}

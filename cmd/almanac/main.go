@@ -29,9 +29,10 @@ import (
 	"golang.org/x/term"
 
 	"almanac/pipeline"
-	"almanac/pipeline/explain"
-	"almanac/pipeline/report"
-	"almanac/pipeline/rundiff"
+	"almanac/pipeline/review/explain"
+	"almanac/pipeline/review/report"
+	"almanac/pipeline/review/rundiff"
+	"almanac/pipeline/runfolder"
 	"almanac/pipeline/synth"
 	"almanac/spec"
 )
@@ -399,7 +400,7 @@ func runCmd(c *cli.Context) error {
 	if r := s.Report; r != nil {
 		opts.Finish = func(staging, target string) error {
 			prev := ""
-			if _, err := os.Stat(filepath.Join(target, "manifest.json")); err == nil {
+			if _, err := os.Stat(filepath.Join(target, runfolder.ManifestFile)); err == nil {
 				prev = target
 			}
 			picks := r.Picks
@@ -518,7 +519,7 @@ func combineCmd(c *cli.Context) error {
 	if c.NArg() != 1 {
 		return &exitError{exitSpec, fmt.Errorf("almanac combine: expected one DATASET_DIR argument, got %d", c.NArg())}
 	}
-	if _, err := pipeline.Combine(c.Args().First(), c.App.Writer); err != nil {
+	if _, err := runfolder.Combine(c.Args().First(), c.App.Writer); err != nil {
 		return &exitError{exitRun, fmt.Errorf("almanac combine: %v", err)}
 	}
 	return nil
@@ -542,7 +543,7 @@ func printSummary(w io.Writer, sum *pipeline.Summary) {
 	m := sum.Manifest
 	var fc int64
 	for _, t := range m.Tables {
-		if t.Name == pipeline.TableForecasts {
+		if t.Name == runfolder.TableForecasts {
 			fc = t.Rows
 		}
 	}

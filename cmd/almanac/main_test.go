@@ -190,3 +190,25 @@ func TestParseBytes(t *testing.T) {
 		}
 	}
 }
+
+// plan prints every stage a run executes, from the compiled plan: on the
+// garden-supply example (backtest, selection, combination, routing,
+// intervals, report) it is compared with its golden file.
+func TestPlanGolden(t *testing.T) {
+	dir := t.TempDir()
+	spec, err := filepath.Abs(filepath.Join("..", "..", "examples", "garden-supply", "spec.yaml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	stdout, stderr, code := almanac(t, dir, "plan", spec, "--out", "planned")
+	if code != 0 {
+		t.Fatalf("plan exit %d: %s", code, stderr)
+	}
+	out := strings.ReplaceAll(stdout, filepath.Join(dir, "planned"), "<out>")
+	golden(t, "garden-supply.plan.golden", out)
+	for _, stage := range []string{"backtest", "select", "forecast", "intervals", "write", "report"} {
+		if !strings.Contains(out, ". "+stage+" ") {
+			t.Errorf("plan lacks the %s stage:\n%s", stage, out)
+		}
+	}
+}

@@ -65,7 +65,16 @@ func (t *Table) Columns() []string {
 }
 
 // IsNull reports whether a cell is NULL.
-func (t *Table) IsNull(col string, i int) bool { return t.col(col).IsNull(i) }
+func (t *Table) IsNull(col string, i int) bool {
+	c, ok := t.cols[col]
+	if !ok {
+		if t.err == nil {
+			t.err = fmt.Errorf("%s: no column %q", t.Path, col)
+		}
+		return true
+	}
+	return c.IsNull(i)
+}
 
 // compareKey compares the key of row i with key, column by column in byte
 // order (a NULL cell compares as the empty string).

@@ -20,16 +20,16 @@ import (
 
 // StagingMarker is the marker of a run folder that is still being written
 // (before it is committed under its final name).
-const StagingMarker = Marker + ".staging"
+const StagingMarker = MarkerFile + ".staging"
 
 // OpenStaged reads the manifest of a run folder that is either committed
-// (it holds Marker) or still staged (it holds StagingMarker). A run calls
+// (it holds MarkerFile) or still staged (it holds StagingMarker). A run calls
 // it on its own staging folder once manifest.json is written.
 func OpenStaged(dir string) (*Run, error) {
-	_, err1 := os.Stat(filepath.Join(dir, Marker))
+	_, err1 := os.Stat(filepath.Join(dir, MarkerFile))
 	_, err2 := os.Stat(filepath.Join(dir, StagingMarker))
 	if err1 != nil && err2 != nil {
-		return nil, fmt.Errorf("%s is not an almanac run folder (no %s)", dir, Marker)
+		return nil, fmt.Errorf("%s is not an almanac run folder (no %s)", dir, MarkerFile)
 	}
 	return readRun(dir)
 }
@@ -129,6 +129,9 @@ func (r *Run) Scan(name string, f ScanFilter, fn func(batch *Table) error) error
 			t.cols[fld.Name] = rec.Column(i)
 		}
 		if err := fn(t); err != nil {
+			return err
+		}
+		if err := t.Err(); err != nil {
 			return err
 		}
 	}

@@ -1,6 +1,8 @@
-// Package runfolder reads an almanac run folder: its manifest and its
-// Parquet tables, for the commands that look at finished runs (diff,
-// explain, verify, the HTML report). It imports nothing else of almanac.
+// Package runfolder is the output contract of a run, written and read: the
+// table schemas, the Parquet writer, the one manifest type, the atomic
+// commit, shard parts and their combination, lineage — and the reader the
+// review commands (report, diff, explain) and verify use. It imports nothing
+// of almanac but the spec.
 package runfolder
 
 import (
@@ -20,59 +22,12 @@ import (
 	"github.com/apache/arrow-go/v18/parquet/pqarrow"
 )
 
-// Marker is the file that marks an almanac run folder.
-const Marker = ".almanac-run"
-
 // Run is an opened run folder.
 type Run struct {
 	Dir      string
 	Manifest Manifest
 	// Raw is manifest.json as it is on disk.
 	Raw []byte
-}
-
-// Manifest is the part of manifest.json that readers need. Unknown fields
-// are kept in Run.Raw.
-type Manifest struct {
-	Almanac string `json:"almanac_version"`
-	RunID   string `json:"run_id"`
-	Spec    struct {
-		Name      string          `json:"name"`
-		File      string          `json:"file"`
-		SHA256    string          `json:"sha256"`
-		Canonical json.RawMessage `json:"canonical"`
-	} `json:"spec"`
-	Inputs []struct {
-		Path   string `json:"path"`
-		Format string `json:"format"`
-		Size   int64  `json:"size"`
-		SHA256 string `json:"sha256"`
-		Rows   int64  `json:"rows"`
-	} `json:"inputs"`
-	Series  int `json:"series"`
-	Methods []struct {
-		Label   string         `json:"label"`
-		Method  string         `json:"method"`
-		Options map[string]any `json:"options"`
-	} `json:"methods"`
-	Tables []struct {
-		Name   string `json:"name"`
-		File   string `json:"file"`
-		Rows   int64  `json:"rows"`
-		Bytes  int64  `json:"bytes"`
-		SHA256 string `json:"sha256"`
-	} `json:"tables"`
-	Leaderboard *struct {
-		Metric  string `json:"selection_metric"`
-		Entries []struct {
-			Method     string  `json:"method"`
-			Series     int     `json:"series_scored"`
-			MeanMASE   float64 `json:"mean_mase"`
-			MedianMASE float64 `json:"median_mase"`
-			WinShare   float64 `json:"win_share"`
-		} `json:"entries"`
-		Chosen map[string]int `json:"series_per_chosen_method"`
-	} `json:"leaderboard"`
 }
 
 // CanonicalSpec is the subset of the canonical spec readers use.
@@ -96,21 +51,21 @@ type CanonicalSpec struct {
 // Open reads a run folder's manifest. It fails on a folder that is not an
 // almanac run folder.
 func Open(dir string) (*Run, error) {
-	if _, err := os.Stat(filepath.Join(dir, Marker)); err != nil {
-		return nil, fmt.Errorf("%s is not an almanac run folder (no %s)", dir, Marker)
+	if _, err := os.Stat(filepath.Join(dir, MarkerFile)); err != nil {
+		return nil, fmt.Errorf("%s is not an almanac run folder (no %s)", dir, MarkerFile)
 	}
 	return readRun(dir)
 }
 
 // readRun reads dir's manifest.json into a Run.
 func readRun(dir string) (*Run, error) {
-	raw, err := os.ReadFile(filepath.Join(dir, "manifest.json"))
+	raw, err := os.ReadFile(filepath.Join(dir, ManifestFile))
 	if err != nil {
 		return nil, err
 	}
 	r := &Run{Dir: dir, Raw: raw}
 	if err := json.Unmarshal(raw, &r.Manifest); err != nil {
-		return nil, fmt.Errorf("%s: %v", filepath.Join(dir, "manifest.json"), err)
+		return nil, fmt.Errorf("%s: %v", filepath.Join(dir, ManifestFile), err)
 	}
 	return r, nil
 }
@@ -151,6 +106,8 @@ type Table struct {
 	Rows   int
 	Meta   map[string]string
 	cols   map[string]arrow.Array
+	nulls  map[string]arrow.Array // stand-ins for missing columns, by name and type
+	err    error                  // first missing or mistyped column read
 }
 
 // ReadTable reads a Parquet file.
@@ -191,17 +148,41 @@ func ReadTable(path string) (*Table, error) {
 // Has reports whether the table has the column.
 func (t *Table) Has(col string) bool { _, ok := t.cols[col]; return ok }
 
-func (t *Table) col(name string) arrow.Array {
+// col returns the named column. A column that is missing or of another
+// type than the caller reads does not panic: the table remembers the
+// first such problem (see Err) and the caller gets NULLs of the type it
+// asked for.
+func (t *Table) col(name string, want arrow.DataType) arrow.Array {
 	c, ok := t.cols[name]
-	if !ok {
-		panic(fmt.Sprintf("runfolder: %s has no column %q", filepath.Base(t.Path), name))
+	if ok && arrow.TypeEqual(c.DataType(), want) {
+		return c
 	}
-	return c
+	if t.err == nil {
+		if !ok {
+			t.err = fmt.Errorf("%s: no column %q", t.Path, name)
+		} else {
+			t.err = fmt.Errorf("%s: column %q is %s, expected %s", t.Path, name, c.DataType(), want)
+		}
+	}
+	key := name + "\x00" + want.String()
+	if n, ok := t.nulls[key]; ok {
+		return n
+	}
+	if t.nulls == nil {
+		t.nulls = map[string]arrow.Array{}
+	}
+	n := array.MakeArrayOfNull(memory.DefaultAllocator, want, t.Rows)
+	t.nulls[key] = n
+	return n
 }
+
+// Err is the first missing or mistyped column read from the table, naming
+// the file and the column; nil when every read found its column.
+func (t *Table) Err() error { return t.err }
 
 // Str returns a string cell; ok is false for NULL.
 func (t *Table) Str(col string, i int) (string, bool) {
-	c := t.col(col).(*array.String)
+	c := t.col(col, arrow.BinaryTypes.String).(*array.String)
 	if c.IsNull(i) {
 		return "", false
 	}
@@ -210,7 +191,7 @@ func (t *Table) Str(col string, i int) (string, bool) {
 
 // Float returns a float64 cell, NaN for NULL.
 func (t *Table) Float(col string, i int) float64 {
-	c := t.col(col).(*array.Float64)
+	c := t.col(col, arrow.PrimitiveTypes.Float64).(*array.Float64)
 	if c.IsNull(i) {
 		return math.NaN()
 	}
@@ -219,7 +200,7 @@ func (t *Table) Float(col string, i int) float64 {
 
 // Int returns an int32 cell; ok is false for NULL.
 func (t *Table) Int(col string, i int) (int, bool) {
-	c := t.col(col).(*array.Int32)
+	c := t.col(col, arrow.PrimitiveTypes.Int32).(*array.Int32)
 	if c.IsNull(i) {
 		return 0, false
 	}
@@ -228,13 +209,13 @@ func (t *Table) Int(col string, i int) (int, bool) {
 
 // Bool returns a boolean cell (false for NULL).
 func (t *Table) Bool(col string, i int) bool {
-	c := t.col(col).(*array.Boolean)
+	c := t.col(col, arrow.FixedWidthTypes.Boolean).(*array.Boolean)
 	return !c.IsNull(i) && c.Value(i)
 }
 
 // Date returns a DATE cell as a UTC time; ok is false for NULL.
 func (t *Table) Date(col string, i int) (time.Time, bool) {
-	c := t.col(col).(*array.Date32)
+	c := t.col(col, arrow.FixedWidthTypes.Date32).(*array.Date32)
 	if c.IsNull(i) {
 		return time.Time{}, false
 	}

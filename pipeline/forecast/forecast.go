@@ -1,0 +1,229 @@
+// Package forecast fits one series with every method of the spec, each in
+// isolation: a panic or an error in one method becomes a problems row of
+// that series and method, never a failed run.
+package forecast
+
+import (
+	"fmt"
+	"math"
+	"runtime/debug"
+	"strings"
+
+	"almanac/engines"
+	"almanac/pipeline/runfolder"
+	"almanac/pipeline/series"
+	"almanac/spec"
+)
+
+// Method is a compiled method of the spec.
+type Method struct {
+	Spec   spec.MethodSpec
+	Engine engines.Method
+}
+
+// Result is everything one series contributes to the tables.
+type Result struct {
+	Series    *series.Series
+	Decomp    *engines.Decomposition
+	Forecasts []Forecast
+	Problems  []runfolder.Problem
+}
+
+// Forecast is one method's (or the combination's) forecast of one series.
+type Forecast struct {
+	Label    string
+	Model    string
+	Values   []float64
+	Variance []float64
+	// filled by the evaluation: whether this is the series' chosen entry,
+	// and its interval bounds per level (nil when none)
+	Chosen         bool
+	Lower, Upper   [][]float64
+	IntervalSource string
+}
+
+// Compile makes the engines of the spec's methods and of its decomposition
+// (nil with a season length below 2).
+func Compile(s *spec.Spec) ([]Method, engines.Decomposer, error) {
+	var runs []Method
+	for i, m := range s.Methods {
+		em, err := engines.New(m.Method, engines.Options(m.Options))
+		if err != nil {
+			return nil, nil, fmt.Errorf("%s: methods[%d]: %v", s.File, i, err)
+		}
+		runs = append(runs, Method{Spec: m, Engine: em})
+	}
+	if s.Calendar.SeasonLength < 2 {
+		return runs, nil, nil
+	}
+	dm, err := engines.New(s.Decomposition.Method, engines.Options(s.Decomposition.Options))
+	if err != nil {
+		return nil, nil, err
+	}
+	dec, ok := dm.(engines.Decomposer)
+	if !ok {
+		return nil, nil, fmt.Errorf("pipeline: %s does not decompose", s.Decomposition.Method)
+	}
+	return runs, dec, nil
+}
+
+// Work processes one series through decomposition and every method.
+type Work struct {
+	Spec       *spec.Spec
+	Methods    []Method
+	Decomposer engines.Decomposer
+	Wrap       func(engines.Method) engines.Method // tests wrap methods to inject faults; nil in runs
+
+	WantVariance bool // model-based intervals asked for
+}
+
+// AllMissing reports whether no value of y is present.
+func AllMissing(y []float64) bool {
+	for _, v := range y {
+		if !math.IsNaN(v) {
+			return false
+		}
+	}
+	return true
+}
+
+// Run decomposes s and forecasts it with every method. Trouble becomes
+// problems rows of the result, never an error.
+func (w *Work) Run(s *series.Series) *Result {
+	r := &Result{Series: s}
+	add := func(stage, severity, method, msg string) {
+		r.Problems = append(r.Problems, runfolder.Problem{Key: s.Key, Stage: stage, Severity: severity, Method: method, Message: msg})
+	}
+	if s.Skip != "" {
+		add("shape", "error", "", s.Skip)
+		return r
+	}
+	if AllMissing(s.Values) {
+		add("shape", "error", "", fmt.Sprintf("all %d values are missing; no decomposition or forecast", len(s.Values)))
+		return r
+	}
+	m := w.Spec.Calendar.SeasonLength
+	if w.Decomposer != nil {
+		d, err := safeDecompose(w.Decomposer, s.Values, m)
+		if err != nil {
+			add("decompose", "error", "", err.Error())
+		} else {
+			r.Decomp = d
+			for _, msg := range d.Warnings {
+				add("decompose", "warning", "", msg)
+			}
+		}
+	}
+	h := w.Spec.Horizon
+	for _, mr := range w.Methods {
+		method := mr.Engine
+		if w.Wrap != nil {
+			method = w.Wrap(method)
+		}
+		label := mr.Spec.Label
+		res, err := SafeForecast(method, s.Values, m, h, w.WantVariance)
+		if err != nil {
+			add("forecast", "error", label, TrimName(err.Error(), mr.Spec.Method))
+			continue
+		}
+		for _, msg := range res.Warnings {
+			add("forecast", "warning", label, TrimName(msg, mr.Spec.Method))
+		}
+		r.Forecasts = append(r.Forecasts, Forecast{Label: label, Model: res.Model, Values: res.Values, Variance: res.Variance})
+	}
+	return r
+}
+
+// TrimName drops a leading "name: " from an engine's message: the method
+// column of the problems table already says which method spoke.
+func TrimName(msg, name string) string {
+	return strings.TrimPrefix(msg, name+": ")
+}
+
+func safeDecompose(d engines.Decomposer, y []float64, m int) (out *engines.Decomposition, err error) {
+	defer func() {
+		if p := recover(); p != nil {
+			out, err = nil, panicError(p)
+		}
+	}()
+	return d.Decompose(y, m)
+}
+
+// Output is one method fitted on one stretch of history.
+type Output struct {
+	Values   []float64
+	Model    string
+	Warnings []string
+	Variance []float64 // h-step forecast variance, when the method has one
+}
+
+// forecastVariancer is implemented by fitted models with a model-based
+// forecast variance (see engines' optional interfaces).
+type forecastVariancer interface {
+	ForecastVariance(h int) []float64
+}
+
+// SafeForecast fits and forecasts one method on one series. A panic inside
+// the method is caught and becomes an error for this series and method only.
+func SafeForecast(m engines.Method, y []float64, season, h int, wantVariance bool) (res Output, err error) {
+	defer func() {
+		if p := recover(); p != nil {
+			res, err = Output{}, panicError(p)
+		}
+	}()
+	fitted, err := m.Fit(y, season)
+	if err != nil {
+		return Output{}, err
+	}
+	res.Values = fitted.Forecast(h)
+	if len(res.Values) != h {
+		return Output{}, fmt.Errorf("internal error: %s returned %d forecasts for a horizon of %d", m.Name(), len(res.Values), h)
+	}
+	res.Model = m.Name()
+	if d, ok := fitted.(engines.Described); ok {
+		res.Model = d.Describe()
+	}
+	if wr, ok := fitted.(engines.Warner); ok {
+		res.Warnings = wr.Warnings()
+	}
+	if fv, ok := fitted.(forecastVariancer); ok && wantVariance {
+		if v := fv.ForecastVariance(h); len(v) == h {
+			res.Variance = v
+		}
+	}
+	return res, nil
+}
+
+// panicError turns a recovered panic into the error of one series and method.
+func panicError(p any) error {
+	stack := string(debug.Stack())
+	// Keep the first frame inside almanac to help a bug report.
+	frame := ""
+	for _, line := range strings.Split(stack, "\n") {
+		line = strings.TrimSpace(line)
+		if strings.Contains(line, "almanac/engines/") {
+			frame = line
+			break
+		}
+	}
+	if frame != "" {
+		if i := strings.LastIndex(frame, " +0x"); i > 0 {
+			frame = frame[:i]
+		}
+		if i := strings.Index(frame, "almanac/"); i >= 0 {
+			frame = frame[i:]
+		}
+		return fmt.Errorf("internal error (panic: %v at %s); the series was skipped for this method", p, frame)
+	}
+	return fmt.Errorf("internal error (panic: %v); the series was skipped for this method", p)
+}
+
+// SafeFit fits m on y, turning a panic into an error.
+func SafeFit(m engines.Method, y []float64, season int) (f engines.Fitted, err error) {
+	defer func() {
+		if p := recover(); p != nil {
+			f, err = nil, panicError(p)
+		}
+	}()
+	return m.Fit(y, season)
+}

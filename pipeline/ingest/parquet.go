@@ -1,0 +1,272 @@
+package ingest
+
+import (
+	"almanac/pipeline/calendar"
+	"almanac/pipeline/runfolder"
+	"context"
+	"fmt"
+	"math"
+	"strconv"
+	"strings"
+	"unicode/utf8"
+
+	"github.com/apache/arrow-go/v18/arrow"
+	"github.com/apache/arrow-go/v18/arrow/array"
+	"github.com/apache/arrow-go/v18/arrow/memory"
+	"github.com/apache/arrow-go/v18/parquet/file"
+	"github.com/apache/arrow-go/v18/parquet/pqarrow"
+
+	"almanac/spec"
+)
+
+// parquetBatchRows is how many rows are decoded at a time.
+const parquetBatchRows = 64 * 1024
+
+func readParquet(s *spec.Spec, f *InputFile, fileIdx int32, cal calendar.Calendar, rs *Rows) (err error) {
+	defer func() {
+		// The Parquet decoder can panic on some corrupt files; a corrupt
+		// input is a data error, not a crash.
+		if r := recover(); r != nil {
+			err = fmt.Errorf("%s: not a readable Parquet file: %v", f.Path, r)
+		}
+	}()
+	sum, err := runfolder.HashFile(f.Abs)
+	if err != nil {
+		return fmt.Errorf("%s: %v", f.Path, err)
+	}
+	pf, err := file.OpenParquetFile(f.Abs, false)
+	if err != nil {
+		return fmt.Errorf("%s: not a readable Parquet file: %v", f.Path, err)
+	}
+	defer pf.Close()
+	mem := memory.DefaultAllocator
+	fr, err := pqarrow.NewFileReader(pf, pqarrow.ArrowReadProperties{BatchSize: parquetBatchRows}, mem)
+	if err != nil {
+		return fmt.Errorf("%s: not a readable Parquet file: %v", f.Path, err)
+	}
+	cols, err := parquetColumns(pf, f.Path, s)
+	if err != nil {
+		return err
+	}
+	rr, err := fr.GetRecordReader(context.Background(), cols, nil)
+	if err != nil {
+		return fmt.Errorf("%s: %v", f.Path, err)
+	}
+	defer rr.Release()
+
+	keyParts := make([]string, len(s.Columns.Keys))
+	var row int64
+	var errs []string
+	for rr.Next() {
+		rec := rr.RecordBatch()
+		n := int(rec.NumRows())
+		tcol, vcol := rec.Column(0), rec.Column(1)
+		periods, terrs := parquetPeriods(f.Path, s.Columns.Time, tcol, cal, row)
+		values, verr := parquetValues(f.Path, s.Columns.Value, vcol)
+		errs = append(errs, terrs...)
+		if verr != nil {
+			errs = append(errs, verr.Error())
+		}
+		if len(errs) > 0 {
+			break
+		}
+		keyCols := make([]func(int) (string, error), len(s.Columns.Keys))
+		for j := range keyCols {
+			kc, kerr := parquetKeys(f.Path, s.Columns.Keys[j], rec.Column(2+j))
+			if kerr != nil {
+				return kerr
+			}
+			keyCols[j] = kc
+		}
+		for i := 0; i < n; i++ {
+			for j, kc := range keyCols {
+				k, kerr := kc(i)
+				if kerr != nil {
+					return kerr
+				}
+				keyParts[j] = k
+				if k == "" {
+					rs.KeyBlanks++
+				} else if !utf8.ValidString(k) {
+					return &DataError{Msgs: []string{fmt.Sprintf("%s: row %d: column %q: %q is not valid UTF-8; almanac reads text as UTF-8", f.Path, row+int64(i)+1, s.Columns.Keys[j], k)}}
+				}
+			}
+			rs.add(rs.internKey(keyParts), periods[i], values[i], fileIdx, row+int64(i)+1)
+		}
+		row += int64(n)
+	}
+	if len(errs) > 0 {
+		if len(errs) > MaxDataErrors {
+			errs = append(errs[:MaxDataErrors], fmt.Sprintf("%s: stopped after %d errors", f.Path, MaxDataErrors))
+		}
+		return &DataError{Msgs: errs}
+	}
+	if err := rr.Err(); err != nil {
+		return fmt.Errorf("%s: not a readable Parquet file: %v", f.Path, err)
+	}
+	f.Rows = row
+	f.SHA256 = sum
+	if row == 0 {
+		rs.Notes = append(rs.Notes, fmt.Sprintf("%s has no rows", f.Path))
+	}
+	return nil
+}
+
+// parquetColumns finds the spec's columns (time, value, keys) in a Parquet
+// file's schema.
+func parquetColumns(pf *file.Reader, path string, s *spec.Spec) ([]int, error) {
+	sch := pf.MetaData().Schema
+	var cols []int
+	var missing []string
+	for _, name := range wantedColumns(s) {
+		i := sch.ColumnIndexByName(name)
+		if i < 0 {
+			missing = append(missing, fmt.Sprintf("%q", name))
+			continue
+		}
+		cols = append(cols, i)
+	}
+	if len(missing) > 0 {
+		present := make([]string, sch.NumColumns())
+		for i := range present {
+			present[i] = sch.Column(i).Name()
+		}
+		return nil, missingColumns(path, missing, present)
+	}
+	return cols, nil
+}
+
+func parquetPeriods(path, name string, col arrow.Array, cal calendar.Calendar, base int64) ([]int64, []string) {
+	n := col.Len()
+	out := make([]int64, n)
+	var errs []string
+	nullErr := func(i int) {
+		errs = append(errs, fmt.Sprintf("%s: row %d: column %q: the time is NULL", path, base+int64(i)+1, name))
+	}
+	switch c := col.(type) {
+	case *array.Date32:
+		for i := 0; i < n; i++ {
+			if c.IsNull(i) {
+				nullErr(i)
+				continue
+			}
+			out[i] = cal.FromDays(int64(c.Value(i)))
+		}
+	case *array.Date64:
+		for i := 0; i < n; i++ {
+			if c.IsNull(i) {
+				nullErr(i)
+				continue
+			}
+			out[i] = cal.FromDays(calendar.FloorDiv(int64(c.Value(i)), 86400000))
+		}
+	case *array.Timestamp:
+		unit := c.DataType().(*arrow.TimestampType).Unit
+		perDay := int64(86400) * [...]int64{1, 1e3, 1e6, 1e9}[unit]
+		for i := 0; i < n; i++ {
+			if c.IsNull(i) {
+				nullErr(i)
+				continue
+			}
+			out[i] = cal.FromDays(calendar.FloorDiv(int64(c.Value(i)), perDay))
+		}
+	case array.StringLike:
+		for i := 0; i < n; i++ {
+			if c.IsNull(i) {
+				nullErr(i)
+				continue
+			}
+			p, err := cal.Parse(strings.TrimSpace(c.ValueStr(i)))
+			if err != nil {
+				errs = append(errs, fmt.Sprintf("%s: row %d: column %q: %v", path, base+int64(i)+1, name, err))
+				continue
+			}
+			out[i] = p
+		}
+	default:
+		errs = append(errs, fmt.Sprintf("%s: column %q has type %s; a time column must be DATE, TIMESTAMP or text", path, name, col.DataType()))
+	}
+	if len(errs) > MaxDataErrors {
+		errs = errs[:MaxDataErrors]
+	}
+	return out, errs
+}
+
+func parquetValues(path, name string, col arrow.Array) ([]float64, error) {
+	n := col.Len()
+	out := make([]float64, n)
+	get := func(i int) float64 { return 0 }
+	switch c := col.(type) {
+	case *array.Float64:
+		get = func(i int) float64 { return c.Value(i) }
+	case *array.Float32:
+		get = func(i int) float64 { return float64(c.Value(i)) }
+	case *array.Int64:
+		get = func(i int) float64 { return float64(c.Value(i)) }
+	case *array.Int32:
+		get = func(i int) float64 { return float64(c.Value(i)) }
+	case *array.Int16:
+		get = func(i int) float64 { return float64(c.Value(i)) }
+	case *array.Int8:
+		get = func(i int) float64 { return float64(c.Value(i)) }
+	case *array.Uint64:
+		get = func(i int) float64 { return float64(c.Value(i)) }
+	case *array.Uint32:
+		get = func(i int) float64 { return float64(c.Value(i)) }
+	case *array.Uint16:
+		get = func(i int) float64 { return float64(c.Value(i)) }
+	case *array.Uint8:
+		get = func(i int) float64 { return float64(c.Value(i)) }
+	case *array.Decimal128:
+		scale := c.DataType().(*arrow.Decimal128Type).Scale
+		get = func(i int) float64 { return c.Value(i).ToFloat64(scale) }
+	default:
+		return nil, fmt.Errorf("%s: column %q has type %s; the value column must be numeric", path, name, col.DataType())
+	}
+	for i := 0; i < n; i++ {
+		if col.IsNull(i) {
+			out[i] = math.NaN()
+			continue
+		}
+		out[i] = get(i)
+	}
+	return out, nil
+}
+
+func parquetKeys(path, name string, col arrow.Array) (func(int) (string, error), error) {
+	switch c := col.(type) {
+	case array.StringLike:
+		return func(i int) (string, error) {
+			if c.IsNull(i) {
+				return "", nil
+			}
+			return c.ValueStr(i), nil
+		}, nil
+	case *array.Dictionary:
+		dict, ok := c.Dictionary().(array.StringLike)
+		if !ok {
+			break
+		}
+		return func(i int) (string, error) {
+			if c.IsNull(i) {
+				return "", nil
+			}
+			return dict.ValueStr(c.GetValueIndex(i)), nil
+		}, nil
+	case *array.Int64:
+		return func(i int) (string, error) {
+			if c.IsNull(i) {
+				return "", nil
+			}
+			return strconv.FormatInt(c.Value(i), 10), nil
+		}, nil
+	case *array.Int32:
+		return func(i int) (string, error) {
+			if c.IsNull(i) {
+				return "", nil
+			}
+			return strconv.FormatInt(int64(c.Value(i)), 10), nil
+		}, nil
+	}
+	return nil, fmt.Errorf("%s: key column %q has type %s; key columns must be text or integers", path, name, col.DataType())
+}

@@ -1,0 +1,481 @@
+package ingest
+
+import (
+	"almanac/pipeline/calendar"
+	"context"
+	"crypto/sha256"
+	"encoding/csv"
+	"encoding/hex"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"sort"
+	"strconv"
+	"strings"
+	"unicode/utf8"
+
+	"almanac/spec"
+)
+
+// InputFile is one file a run read, as recorded in the manifest.
+type InputFile struct {
+	Path   string `json:"path"` // as resolved from the spec's source, relative to the spec's folder when below it
+	Format string `json:"format"`
+	Size   int64  `json:"size"`
+	SHA256 string `json:"sha256"`
+	Rows   int64  `json:"rows"`
+	Abs    string `json:"-"`
+	Source int    `json:"-"` // index into the spec's sources
+}
+
+// Rows holds every input row in columns: the interned series key, the
+// period, the value (NaN when missing) and where the row came from.
+type Rows struct {
+	KeyIDs  []int32
+	Periods []int64
+	Values  []float64
+	files   []int32 // index into files
+	lines   []int64 // CSV line, or Parquet row number (1-based)
+
+	Keys      [][]string // by key id
+	keyIndex  map[string]int32
+	keyBuf    []byte
+	files_    []InputFile
+	Missing   int64    // rows whose value was empty or NaN
+	KeyBlanks int64    // rows whose key had an empty component
+	Notes     []string // read warnings that become run-level problems rows
+
+	// Past batchRows rows, rows go to spill instead of the slices above;
+	// keyRows counts rows per key either way, rowCount all rows, and
+	// panelLast is the latest period seen.
+	batchRows int64
+	spill     *spill
+	spillErr  error
+	keyRows   []int64
+	RowCount  int64
+	PanelLast int64
+	order     []int32 // key ids in sorted key order, once batched
+
+	// With sharding, only keys of this shard are kept (see ShardOf).
+	shardIndex, shardCount int
+}
+
+func newRows() *Rows {
+	return &Rows{keyIndex: map[string]int32{}, PanelLast: math.MinInt64}
+}
+
+func (r *Rows) internKey(parts []string) int32 {
+	r.keyBuf = r.keyBuf[:0]
+	for i, p := range parts {
+		if i > 0 {
+			r.keyBuf = append(r.keyBuf, 0)
+		}
+		r.keyBuf = append(r.keyBuf, p...)
+	}
+	if id, ok := r.keyIndex[string(r.keyBuf)]; ok {
+		return id
+	}
+	if r.shardCount > 1 && int(ShardOf(r.keyBuf, r.shardCount)) != r.shardIndex {
+		return -1
+	}
+	id := int32(len(r.Keys))
+	r.keyIndex[string(r.keyBuf)] = id
+	r.Keys = append(r.Keys, append([]string(nil), parts...))
+	r.keyRows = append(r.keyRows, 0)
+	return id
+}
+
+func (r *Rows) add(key int32, period int64, value float64, file int32, line int64) {
+	if key < 0 { // another shard's series: it still marks the panel's end
+		r.PanelLast = max(r.PanelLast, period)
+		return
+	}
+	r.RowCount++
+	r.keyRows[key]++
+	r.PanelLast = max(r.PanelLast, period)
+	if math.IsNaN(value) {
+		r.Missing++
+	}
+	if r.spill == nil && r.batchRows > 0 && int64(len(r.KeyIDs)) >= r.batchRows {
+		r.startSpill()
+	}
+	if r.spill != nil {
+		if err := r.spill.add(key, period, value, file, line); err != nil && r.spillErr == nil {
+			r.spillErr = err
+		}
+		return
+	}
+	r.KeyIDs = append(r.KeyIDs, key)
+	r.Periods = append(r.Periods, period)
+	r.Values = append(r.Values, value)
+	r.files = append(r.files, file)
+	r.lines = append(r.lines, line)
+}
+
+// startSpill moves the rows held so far to a spill file; later rows follow.
+func (r *Rows) startSpill() {
+	sp, err := newSpill()
+	if err != nil {
+		r.spillErr = err
+		r.batchRows = 0 // keep going in memory
+		return
+	}
+	for i := range r.KeyIDs {
+		if err := sp.add(r.KeyIDs[i], r.Periods[i], r.Values[i], r.files[i], r.lines[i]); err != nil {
+			r.spillErr = err
+		}
+	}
+	r.spill = sp
+	r.KeyIDs, r.Periods, r.Values, r.files, r.lines = nil, nil, nil, nil, nil
+}
+
+func (r *Rows) Where(i int) string {
+	f := r.files_[r.files[i]]
+	if f.Format == string(spec.FormatParquet) {
+		return fmt.Sprintf("%s: row %d", f.Path, r.lines[i])
+	}
+	return fmt.Sprintf("%s:%d", f.Path, r.lines[i])
+}
+
+// DataError is bad input data: it names the file and line (or row).
+type DataError struct {
+	Msgs []string
+}
+
+func (e *DataError) Error() string { return strings.Join(e.Msgs, "\n") }
+
+// MaxDataErrors is how many bad rows are reported before reading stops.
+const MaxDataErrors = 20
+
+// ResolveSources expands every source's path or glob, relative to the spec's
+// folder, into files in sorted order.
+func ResolveSources(s *spec.Spec) ([]InputFile, error) {
+	var out []InputFile
+	seen := map[string]bool{}
+	for i, src := range s.Sources {
+		pattern := src.Path
+		if !filepath.IsAbs(pattern) {
+			pattern = filepath.Join(s.Dir, pattern)
+		}
+		matches, err := filepath.Glob(pattern)
+		if err != nil {
+			return nil, fmt.Errorf("%s: sources[%d]: bad glob %q: %v", s.File, i, src.Path, err)
+		}
+		if len(matches) == 0 {
+			if hasMeta(src.Path) {
+				return nil, fmt.Errorf("%s: sources[%d]: the pattern %q matches no files (looked in %s)", s.File, i, src.Path, filepath.Dir(pattern))
+			}
+			return nil, fmt.Errorf("%s: sources[%d]: source file %q does not exist (looked for %s)", s.File, i, src.Path, pattern)
+		}
+		sort.Strings(matches)
+		for _, m := range matches {
+			st, err := os.Stat(m)
+			if err != nil {
+				return nil, fmt.Errorf("%s: sources[%d]: %v", s.File, i, err)
+			}
+			if st.IsDir() {
+				return nil, fmt.Errorf("%s: sources[%d]: %q matches the folder %s; sources must be files (use a pattern such as %s)", s.File, i, src.Path, relTo(s.Dir, m), filepath.Join(src.Path, "*."+string(src.Format)))
+			}
+			if seen[m] {
+				continue
+			}
+			seen[m] = true
+			out = append(out, InputFile{Path: relTo(s.Dir, m), Format: string(src.Format), Size: st.Size(), Abs: m, Source: i})
+		}
+	}
+	return out, nil
+}
+
+func hasMeta(p string) bool { return strings.ContainsAny(p, "*?[") }
+
+// relTo shows path relative to dir when it lies below dir, else absolute.
+func relTo(dir, path string) string {
+	if r, err := filepath.Rel(dir, path); err == nil && !strings.HasPrefix(r, "..") {
+		return filepath.ToSlash(r)
+	}
+	return path
+}
+
+// Read reads every input file into one Rows.
+func Read(ctx context.Context, s *spec.Spec, files []InputFile, cal calendar.Calendar, batchRows int64, shard ...Shard) (*Rows, error) {
+	rs := newRows()
+	rs.files_ = files
+	rs.batchRows = batchRows
+	if len(shard) > 0 {
+		rs.shardIndex, rs.shardCount = shard[0].Index, shard[0].Count
+	}
+	for i := range files {
+		if err := ctx.Err(); err != nil {
+			return nil, err
+		}
+		f := &files[i]
+		var err error
+		switch f.Format {
+		case string(spec.FormatCSV):
+			err = readCSV(s, f, int32(i), s.Sources[f.Source], cal, rs)
+		case string(spec.FormatParquet):
+			err = readParquet(s, f, int32(i), cal, rs)
+		default:
+			err = fmt.Errorf("%s: unknown format %q", f.Path, f.Format)
+		}
+		if err == nil {
+			err = rs.spillErr
+		}
+		if err != nil {
+			rs.spill.close()
+			return nil, err
+		}
+	}
+	if rs.RowCount == 0 {
+		return nil, fmt.Errorf("no data rows in any input (%d file(s) read); nothing to forecast", len(files))
+	}
+	return rs, nil
+}
+
+// hashingReader hashes what is read through it.
+type hashingReader struct {
+	r io.Reader
+	h interface {
+		io.Writer
+		Sum([]byte) []byte
+	}
+}
+
+func (h *hashingReader) Read(p []byte) (int, error) {
+	n, err := h.r.Read(p)
+	h.h.Write(p[:n])
+	return n, err
+}
+
+func readCSV(s *spec.Spec, f *InputFile, fileIdx int32, src spec.Source, cal calendar.Calendar, rs *Rows) error {
+	fh, err := os.Open(f.Abs)
+	if err != nil {
+		return fmt.Errorf("%s: %v", f.Path, err)
+	}
+	defer fh.Close()
+	hr := &hashingReader{r: fh, h: sha256.New()}
+	cr := csv.NewReader(hr)
+	cr.ReuseRecord = true
+	cr.FieldsPerRecord = 0
+	if src.Delimiter != "" {
+		cr.Comma, _ = utf8.DecodeRuneInString(src.Delimiter)
+	}
+	header, err := readHeader(cr, f.Path, s)
+	if err != nil {
+		return err
+	}
+	idx, err := columnIndexes(f.Path, header, s)
+	if err != nil {
+		return err
+	}
+	timeIdx, valueIdx, keyIdx := idx[0], idx[1], idx[2:]
+	keyParts := make([]string, len(keyIdx))
+	var errs []string
+	var rows int64
+	for {
+		rec, err := cr.Read()
+		if err == io.EOF {
+			break
+		}
+		if err != nil {
+			errs = append(errs, csvError(f.Path, err).Error())
+			break
+		}
+		rows++
+		line, _ := cr.FieldPos(timeIdx)
+		if sameFields(rec, header) {
+			errs = append(errs, fmt.Sprintf("%s:%d: this line repeats the header; two exports were probably joined — remove the extra header line", f.Path, line))
+			if len(errs) >= MaxDataErrors {
+				break
+			}
+			continue
+		}
+		tv := strings.TrimSpace(rec[timeIdx])
+		p, terr := cal.Parse(tv)
+		if terr != nil {
+			errs = append(errs, fmt.Sprintf("%s:%d: column %q: %v", f.Path, line, s.Columns.Time, terr))
+		}
+		v, verr := parseValue(rec[valueIdx])
+		if verr != nil {
+			vl, _ := cr.FieldPos(valueIdx)
+			errs = append(errs, fmt.Sprintf("%s:%d: column %q: %v", f.Path, vl, s.Columns.Value, verr))
+		}
+		if len(errs) >= MaxDataErrors {
+			errs = append(errs, fmt.Sprintf("%s: stopped after %d errors", f.Path, MaxDataErrors))
+			break
+		}
+		if terr != nil || verr != nil {
+			continue
+		}
+		badKey := false
+		for j, k := range keyIdx {
+			keyParts[j] = rec[k]
+			if rec[k] == "" {
+				rs.KeyBlanks++
+			} else if !utf8.ValidString(rec[k]) {
+				kl, _ := cr.FieldPos(k)
+				errs = append(errs, fmt.Sprintf("%s:%d: column %q: %q is not valid UTF-8; almanac reads text as UTF-8 (re-export the file as UTF-8)", f.Path, kl, s.Columns.Keys[j], rec[k]))
+				badKey = true
+			}
+		}
+		if badKey {
+			if len(errs) >= MaxDataErrors {
+				break
+			}
+			continue
+		}
+		rs.add(rs.internKey(keyParts), p, v, fileIdx, int64(line))
+	}
+	if len(errs) > 0 {
+		return &DataError{Msgs: errs}
+	}
+	// Drain what the csv reader did not consume so the hash covers the file.
+	if _, err := io.Copy(io.Discard, hr); err != nil {
+		return fmt.Errorf("%s: %v", f.Path, err)
+	}
+	f.Rows = rows
+	f.SHA256 = hex.EncodeToString(hr.h.Sum(nil))
+	if rows == 0 {
+		rs.Notes = append(rs.Notes, fmt.Sprintf("%s has a header line but no rows", f.Path))
+	}
+	return nil
+}
+
+// readHeader reads a CSV file's header line, without a byte-order mark and
+// with its names trimmed.
+func readHeader(cr *csv.Reader, path string, s *spec.Spec) ([]string, error) {
+	header, err := cr.Read()
+	if err == io.EOF {
+		return nil, fmt.Errorf("%s: the file is empty; expected a header line naming the columns %s", path, strings.Join(wantedColumns(s), ", "))
+	}
+	if err != nil {
+		return nil, csvError(path, err)
+	}
+	header = append([]string(nil), header...)
+	if len(header) > 0 {
+		header[0] = strings.TrimPrefix(header[0], "\ufeff")
+	}
+	for i := range header {
+		header[i] = strings.TrimSpace(header[i])
+	}
+	return header, nil
+}
+
+func sameFields(a, b []string) bool {
+	if len(a) != len(b) {
+		return false
+	}
+	for i := range a {
+		if strings.TrimSpace(strings.TrimPrefix(a[i], "\ufeff")) != b[i] {
+			return false
+		}
+	}
+	return true
+}
+
+func csvError(path string, err error) error {
+	var pe *csv.ParseError
+	if errors.As(err, &pe) {
+		if errors.Is(pe.Err, csv.ErrFieldCount) {
+			return fmt.Errorf("%s:%d: this line has a different number of fields from the header", path, pe.Line)
+		}
+		return fmt.Errorf("%s:%d:%d: CSV: %v", path, pe.Line, pe.Column, pe.Err)
+	}
+	return fmt.Errorf("%s: %v", path, err)
+}
+
+func wantedColumns(s *spec.Spec) []string {
+	return append([]string{s.Columns.Time, s.Columns.Value}, s.Columns.Keys...)
+}
+
+// columnIndexes finds the time, value and key columns in a header.
+func columnIndexes(path string, header []string, s *spec.Spec) ([]int, error) {
+	pos := map[string]int{}
+	for i, h := range header {
+		if _, dup := pos[h]; !dup {
+			pos[h] = i
+		}
+	}
+	var out []int
+	var missing []string
+	for _, want := range wantedColumns(s) {
+		i, ok := pos[want]
+		if !ok {
+			missing = append(missing, fmt.Sprintf("%q", want))
+			continue
+		}
+		out = append(out, i)
+	}
+	if len(missing) > 0 {
+		return nil, missingColumns(path, missing, header)
+	}
+	return out, nil
+}
+
+// missingColumns explains which spec columns a file lacks, lists the
+// columns it has, and points out names that differ only in letter case.
+func missingColumns(path string, missing, present []string) error {
+	quoted := make([]string, len(present))
+	for i, h := range present {
+		quoted[i] = fmt.Sprintf("%q", h)
+	}
+	noun := "column"
+	if len(missing) > 1 {
+		noun = "columns"
+	}
+	msg := fmt.Sprintf("%s: %s %s named in the spec %s not in the file; columns present: %s",
+		path, noun, strings.Join(missing, ", "), map[bool]string{true: "are", false: "is"}[len(missing) > 1], strings.Join(quoted, ", "))
+	var hints []string
+	for _, m := range missing {
+		want, _ := strconv.Unquote(m)
+		for _, h := range present {
+			if h != want && strings.EqualFold(h, want) {
+				hints = append(hints, fmt.Sprintf("%q for %q", h, want))
+			}
+		}
+	}
+	if len(hints) > 0 {
+		msg += " (names are case-sensitive: the file has " + strings.Join(hints, ", ") + ")"
+	}
+	return errors.New(msg)
+}
+
+// parseValue reads a number. Empty text, NA and NaN are a missing value;
+// infinities and anything else that is not a plain number are errors.
+func parseValue(s string) (float64, error) {
+	t := strings.TrimSpace(s)
+	switch t {
+	case "", "NA", "NaN", "nan", "NAN", "null", "NULL":
+		return math.NaN(), nil
+	}
+	v, err := strconv.ParseFloat(t, 64)
+	if errors.Is(err, strconv.ErrRange) && math.IsInf(v, 0) {
+		return 0, fmt.Errorf("%q is too large for a 64-bit float", s)
+	}
+	if err == nil && math.IsInf(v, 0) {
+		if strings.ContainsAny(t, "iI") {
+			return 0, fmt.Errorf("%q: infinite values are not accepted; leave the cell empty for a missing value", s)
+		}
+		return 0, fmt.Errorf("%q is too large for a 64-bit float", s)
+	}
+	if err != nil || math.IsNaN(v) || strings.ContainsAny(t, "xXpP_") {
+		hint := ""
+		if strings.Contains(t, ",") {
+			hint = " (a comma is not read as a decimal point or thousands separator; export plain numbers such as 1234.5)"
+		}
+		return 0, fmt.Errorf("%q is not a number%s", s, hint)
+	}
+	return v, nil
+}
+
+func CompareKeys(a, b []string) int {
+	for i := range a {
+		if c := strings.Compare(a[i], b[i]); c != 0 {
+			return c
+		}
+	}
+	return 0
+}

@@ -1,0 +1,181 @@
+package runfolder
+
+import (
+	"fmt"
+
+	"almanac/spec"
+)
+
+// The output contract: the tables of a run folder and their fixed columns
+// (each table starts with the spec's key columns). schemas/tables.md
+// documents them for people; writers and readers use these names.
+
+// Table names, as files in the run folder (with .parquet).
+const (
+	TableForecasts       = "forecasts"
+	TableComponents      = "components"
+	TableSeasonalFactors = "seasonal_factors"
+	TableProblems        = "problems"
+	TableAccuracy        = "accuracy"
+	TableChoices         = "choices"
+)
+
+// Column names of the tables.
+const (
+	ColADI            = "adi"
+	ColAdjusted       = "adjusted"
+	ColBias           = "bias"
+	ColChosen         = "chosen"
+	ColCount          = "count"
+	ColCV2            = "cv2"
+	ColDecomposition  = "decomposition"
+	ColDemandClass    = "demand_class"
+	ColFactor         = "factor"
+	ColFold           = "fold"
+	ColFolds          = "folds"
+	ColForm           = "form"
+	ColIntervalSource = "interval_source"
+	ColMAE            = "mae"
+	ColMAPE           = "mape"
+	ColMAPEZeros      = "mape_zeros"
+	ColMASE           = "mase"
+	ColMessage        = "message"
+	ColMethod         = "method"
+	ColMetric         = "metric"
+	ColModel          = "model"
+	ColObserved       = "observed"
+	ColOrigin         = "origin"
+	ColPeriod         = "period"
+	ColPosition       = "position"
+	ColReason         = "reason"
+	ColRemainder      = "remainder"
+	ColRMSE           = "rmse"
+	ColRMSSE          = "rmsse"
+	ColRunnerUp       = "runner_up"
+	ColRunnerUpScore  = "runner_up_score"
+	ColScore          = "score"
+	ColSeasonal       = "seasonal"
+	ColSeverity       = "severity"
+	ColSMAPE          = "smape"
+	ColStage          = "stage"
+	ColStatus         = "status"
+	ColStep           = "step"
+	ColTestPeriods    = "test_periods"
+	ColTrainPeriods   = "train_periods"
+	ColTrainStart     = "train_start"
+	ColTrend          = "trend"
+	ColValue          = "value"
+	ColWAPE           = "wape"
+)
+
+// ColLower names the lower interval bound of a level in the forecasts
+// table: lower_80.
+func ColLower(level int) string { return fmt.Sprintf("lower_%d", level) }
+
+// ColUpper names the upper interval bound of a level: upper_80.
+func ColUpper(level int) string { return fmt.Sprintf("upper_%d", level) }
+
+// ForecastColumns is the forecasts table's layout for a spec: with a
+// backtest it says which entry was chosen; with intervals it has a lower and
+// upper bound per level and where the bounds came from.
+func ForecastColumns(s *spec.Spec) []Column {
+	cols := []Column{
+		{ColMethod, colString, false},
+		{ColModel, colString, false},
+		{ColPeriod, colDate, false},
+		{ColStep, colInt, false},
+		{ColValue, colFloat, true},
+	}
+	if s.Backtest.Folds > 0 {
+		cols = append(cols, Column{ColChosen, colBool, false})
+	}
+	if len(s.Intervals.Levels) > 0 {
+		cols = append(cols, Column{ColIntervalSource, colString, true})
+		for _, l := range s.Intervals.Levels {
+			cols = append(cols, Column{ColLower(l), colFloat, true}, Column{ColUpper(l), colFloat, true})
+		}
+	}
+	return cols
+}
+
+// AccuracyColumns is the fixed columns (after the keys) of the accuracy table.
+func AccuracyColumns() []Column {
+	return []Column{
+		{ColMethod, colString, false},
+		{ColFold, colInt, false},
+		{ColOrigin, colDate, false},
+		{ColTrainStart, colDate, false},
+		{ColTrainPeriods, colInt, false},
+		{ColTestPeriods, colInt, false},
+		{ColMAE, colFloat, true},
+		{ColRMSE, colFloat, true},
+		{ColMAPE, colFloat, true},
+		{ColMAPEZeros, colInt, false},
+		{ColSMAPE, colFloat, true},
+		{ColMASE, colFloat, true},
+		{ColRMSSE, colFloat, true},
+		{ColWAPE, colFloat, true},
+		{ColBias, colFloat, true},
+		{ColStatus, colString, false},
+	}
+}
+
+// ChoiceColumns is the fixed columns (after the keys) of the choices table.
+func ChoiceColumns() []Column {
+	return []Column{
+		{ColChosen, colString, true},
+		{ColMetric, colString, false},
+		{ColScore, colFloat, true},
+		{ColRunnerUp, colString, true},
+		{ColRunnerUpScore, colFloat, true},
+		{ColFolds, colInt, false},
+		{ColDemandClass, colString, true},
+		{ColADI, colFloat, true},
+		{ColCV2, colFloat, true},
+		{ColReason, colString, false},
+	}
+}
+
+// ComponentColumns is the fixed columns (after the keys) of the components table.
+func ComponentColumns() []Column {
+	return []Column{
+		{ColDecomposition, colString, false},
+		{ColForm, colString, false},
+		{ColPeriod, colDate, false},
+		{ColObserved, colFloat, true},
+		{ColTrend, colFloat, true},
+		{ColSeasonal, colFloat, true},
+		{ColRemainder, colFloat, true},
+		{ColAdjusted, colFloat, true},
+	}
+}
+
+// FactorColumns is the fixed columns (after the keys) of the seasonal_factors table.
+func FactorColumns() []Column {
+	return []Column{
+		{ColDecomposition, colString, false},
+		{ColForm, colString, false},
+		{ColPosition, colInt, false},
+		{ColFactor, colFloat, true},
+		{ColCount, colInt, false},
+	}
+}
+
+// ProblemColumns is the fixed columns (after the keys) of the problems table.
+func ProblemColumns() []Column {
+	return []Column{
+		{ColStage, colString, false},
+		{ColSeverity, colString, false},
+		{ColMethod, colString, true},
+		{ColMessage, colString, false},
+	}
+}
+
+// Name is the table's name.
+func (t *TableWriter) Name() string { return t.name }
+
+// Path is the table's file.
+func (t *TableWriter) Path() string { return t.path }
+
+// Rows is how many rows were written.
+func (t *TableWriter) Rows() int64 { return t.rows }

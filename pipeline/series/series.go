@@ -1,0 +1,165 @@
+// Package series turns input rows into series: one per key, a value per
+// period, duplicates combined and gaps filled by the spec's shaping rules.
+package series
+
+import (
+	"fmt"
+	"math"
+	"slices"
+	"strings"
+
+	"almanac/pipeline/calendar"
+	"almanac/pipeline/ingest"
+	"almanac/spec"
+)
+
+// Series is one key's history: a value per period from Start, NaN where missing.
+type Series struct {
+	Key    []string
+	Start  int64 // period index of Values[0]
+	Values []float64
+	// Filled counts periods with no rows that the gap rule filled;
+	// Combined counts periods that held more than one row.
+	Filled, Combined int
+	// Skip, when set, says why the series was not built (Values is nil);
+	// it becomes a problems row and the run goes on.
+	Skip string
+}
+
+// Shape groups rows by key, sorts series by key, buckets each series'
+// rows into periods, combines duplicates and fills gaps per the spec.
+func Shape(rs *ingest.Rows, sh spec.Shaping, lim spec.Limits, cal calendar.Calendar, keyNames []string) ([]*Series, error) {
+	nk := len(rs.Keys)
+	if nk > lim.MaxSeries {
+		return nil, fmt.Errorf("the input holds %d series; limits.max_series is %d (raise it in the spec if this is right)", nk, lim.MaxSeries)
+	}
+	// Counting sort of row indexes by key id, stable in input order.
+	counts := make([]int, nk+1)
+	for _, k := range rs.KeyIDs {
+		counts[k+1]++
+	}
+	for i := 1; i <= nk; i++ {
+		counts[i] += counts[i-1]
+	}
+	order := make([]int32, len(rs.KeyIDs))
+	next := append([]int(nil), counts[:nk]...)
+	for i, k := range rs.KeyIDs {
+		order[next[k]] = int32(i)
+		next[k]++
+	}
+	// Keys in sorted order.
+	ids := make([]int32, nk)
+	for i := range ids {
+		ids[i] = int32(i)
+	}
+	slices.SortFunc(ids, func(a, b int32) int { return ingest.CompareKeys(rs.Keys[a], rs.Keys[b]) })
+
+	panelLast := rs.PanelLast
+	out := make([]*Series, 0, nk)
+	var errs []string
+	for _, id := range ids {
+		rows := order[counts[id]:counts[id+1]]
+		// Stable sort by period keeps input order within a period, which
+		// "last" relies on.
+		slices.SortStableFunc(rows, func(a, b int32) int {
+			pa, pb := rs.Periods[a], rs.Periods[b]
+			switch {
+			case pa < pb:
+				return -1
+			case pa > pb:
+				return 1
+			}
+			return 0
+		})
+		first, last := rs.Periods[rows[0]], rs.Periods[rows[len(rows)-1]]
+		if sh.End == spec.EndPanel {
+			last = panelLast
+		}
+		if last-first+1 > int64(lim.MaxPeriods) {
+			out = append(out, &Series{Key: rs.Keys[id], Start: first, Skip: fmt.Sprintf("the series spans %d periods (%s … %s, first row at %s), more than limits.max_periods %d; skipped — a stray date is the usual cause",
+				last-first+1, cal.Label(first), cal.Label(last), rs.Where(int(rows[0])), lim.MaxPeriods)})
+			continue
+		}
+		n := int(last - first + 1)
+		s := &Series{Key: rs.Keys[id], Start: first, Values: make([]float64, n)}
+		present := make([]bool, n)
+		for i := 0; i < len(rows); {
+			j := i + 1
+			for j < len(rows) && rs.Periods[rows[j]] == rs.Periods[rows[i]] {
+				j++
+			}
+			slot := int(rs.Periods[rows[i]] - first)
+			present[slot] = true
+			if j-i > 1 {
+				s.Combined++
+				if sh.Combine == spec.CombineReject {
+					if len(errs) < ingest.MaxDataErrors {
+						errs = append(errs, fmt.Sprintf("%s: %d rows for series %s in period %s (also %s); shaping.combine is reject",
+							rs.Where(int(rows[i+1])), j-i, keyLabel(keyNames, s.Key), cal.Label(rs.Periods[rows[i]]), rs.Where(int(rows[i]))))
+					}
+				}
+			}
+			s.Values[slot] = combine(sh.Combine, rs.Values, rows[i:j])
+			i = j
+		}
+		for slot, ok := range present {
+			if ok {
+				continue
+			}
+			s.Filled++
+			switch sh.Gaps {
+			case spec.GapsZero:
+				s.Values[slot] = 0
+			default:
+				s.Values[slot] = math.NaN()
+			}
+		}
+		if sh.Gaps == spec.GapsReject && s.Filled > 0 && len(errs) < ingest.MaxDataErrors {
+			errs = append(errs, fmt.Sprintf("series %s has no rows for %d of its periods (first gap: %s); shaping.gaps is reject (shaping.end: series stops a series at its own last row)",
+				keyLabel(keyNames, s.Key), s.Filled, cal.Label(first+int64(slices.Index(present, false)))))
+		}
+		out = append(out, s)
+	}
+	if len(errs) > 0 {
+		return nil, &ingest.DataError{Msgs: errs}
+	}
+	return out, nil
+}
+
+func combine(rule spec.Combine, values []float64, rows []int32) float64 {
+	if len(rows) == 1 {
+		return values[rows[0]]
+	}
+	switch rule {
+	case spec.CombineLast:
+		return values[rows[len(rows)-1]]
+	case spec.CombineMean, spec.CombineSum:
+		sum, n := 0.0, 0
+		for _, r := range rows {
+			if v := values[r]; !math.IsNaN(v) {
+				sum += v
+				n++
+			}
+		}
+		if n == 0 {
+			return math.NaN()
+		}
+		if rule == spec.CombineMean {
+			return sum / float64(n)
+		}
+		return sum
+	}
+	return values[rows[0]]
+}
+
+// keyLabel renders a key for messages: depot=North, sku=A-100.
+func keyLabel(names, key []string) string {
+	if len(names) == 0 {
+		return "(the only series)"
+	}
+	parts := make([]string, len(names))
+	for i := range names {
+		parts[i] = names[i] + "=" + key[i]
+	}
+	return strings.Join(parts, ", ")
+}
