@@ -56,8 +56,8 @@ func Compile(s *spec.Spec, opts Options) (*Plan, error) {
 	p := &Plan{Spec: s, Out: target, Inputs: files, Methods: methods, Decomposer: decomposer, Shard: opts.Shard,
 		Cal: calendar.Calendar{Freq: s.Calendar.Frequency, Season: s.Calendar.SeasonLength}}
 	if opts.Shard.Count > 1 {
-		if opts.Shard.Index < 0 || opts.Shard.Index >= opts.Shard.Count {
-			return nil, fmt.Errorf("shard index %d is outside 0…%d", opts.Shard.Index, opts.Shard.Count-1)
+		if err := runfolder.ValidateShard(opts.Shard.Index, opts.Shard.Count); err != nil {
+			return nil, err
 		}
 	} else if err := runfolder.CheckTarget(target, p.inputs()); err != nil {
 		return nil, err

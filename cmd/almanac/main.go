@@ -122,7 +122,7 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 // boolFlags are the flags that take no value, in every spelling; every
 // other flag written without "=" takes the next argument as its value.
 var boolFlags = map[string]bool{"--quiet": true, "-quiet": true, "-q": true, "--help": true, "-help": true, "-h": true,
-	"--all-forecasts": true, "-all-forecasts": true}
+	"--all-forecasts": true, "-all-forecasts": true, "--clean-shards": true, "-clean-shards": true}
 
 // flagsFirst moves a command's flags in front of its arguments, so that
 // "almanac run spec.yaml --workers 2" works as people type it (urfave/cli
@@ -164,7 +164,7 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 		Commands: []*cli.Command{
 			{
 				Name:      "check",
-				Usage:     "validate specs; list every error with file:line:col",
+				Usage:     "validate specs (every error with file:line:col) and that their sources exist and name the spec's columns (headers only)",
 				ArgsUsage: "SPEC...",
 				Action:    checkCmd,
 			},
@@ -228,9 +228,10 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 			},
 			{
 				Name:      "verify",
-				Usage:     "rerun a stored run from its manifest and compare every table byte for byte (exit 0 identical, 1 differs, 2 inputs changed or missing)",
+				Usage:     "rerun a stored run from its manifest and compare every table byte for byte (exit 0 identical, 1 differs, 3 inputs changed or missing, 4 unusable run folder or manifest)",
 				ArgsUsage: "RUN_DIR",
 				Flags: []cli.Flag{
+					&cli.StringFlag{Name: "input-root", Usage: "resolve the run's input paths against this folder instead of the spec's folder"},
 					&cli.IntFlag{Name: "workers", Aliases: []string{"w"}, Value: runtime.NumCPU(), Usage: "series processed in parallel"},
 				},
 				Action: verifyCmd,
@@ -245,6 +246,7 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 					&cli.IntFlag{Name: "workers", Aliases: []string{"w"}, Value: runtime.NumCPU(), Usage: "series processed in parallel"},
 					&cli.BoolFlag{Name: "quiet", Aliases: []string{"q"}, Usage: "no progress output"},
 					&cli.IntFlag{Name: "shard-count", Usage: "split the run into this many shards by a stable hash of each series' key; this process does one"},
+					&cli.BoolFlag{Name: "clean-shards", Usage: "remove the parts and manifests a run with another shard count left in the dataset folder"},
 					&cli.IntFlag{Name: "shard-index", Value: -1, Usage: "the shard this process does, 0-based (default: $JOB_COMPLETION_INDEX, as Kubernetes Indexed Jobs set it)"},
 					&cli.Int64Flag{Name: "batch-rows", Value: pipeline.DefaultBatchRows, Usage: "input rows held in memory at once; larger inputs are spilled to a temporary folder and processed in key-range batches"},
 					&cli.StringFlag{Name: "memory-limit", Value: "3GiB", Usage: "soft memory limit for the Go runtime (e.g. 3GiB, 800MiB; 0 for none); the environment's GOMEMLIMIT wins when set"},
@@ -329,7 +331,13 @@ func checkCmd(c *cli.Context) error {
 			bad++
 			continue
 		}
-		fmt.Fprintf(c.App.Writer, "%s: ok (%s, %d method(s), sha256 %s)\n", path, s.Name, len(s.Methods), s.Hash()[:16])
+		if err := pipeline.CheckSources(s); err != nil {
+			fmt.Fprintln(c.App.ErrWriter, err)
+			fmt.Fprintf(c.App.ErrWriter, "%s: the inputs do not match the spec\n", path)
+			bad++
+			continue
+		}
+		fmt.Fprintf(c.App.Writer, "%s: ok (%s, %d method(s), sha256 %s; inputs name its columns)\n", path, s.Name, len(s.Methods), s.Hash()[:16])
 	}
 	if bad > 0 {
 		return &exitError{exitSpec, nil}
@@ -373,7 +381,10 @@ func runCmd(c *cli.Context) error {
 	if workers < 1 {
 		return &exitError{exitSpec, fmt.Errorf("almanac run: --workers must be at least 1, got %d", workers)}
 	}
-	opts := pipeline.Options{Out: c.String("out"), Workers: workers, BatchRows: c.Int64("batch-rows")}
+	opts := pipeline.Options{Out: c.String("out"), Workers: workers, BatchRows: c.Int64("batch-rows"), CleanShards: c.Bool("clean-shards")}
+	if n := c.Int("shard-count"); n < 0 || n > pipeline.MaxShards {
+		return &exitError{exitSpec, fmt.Errorf("almanac run: --shard-count %d is outside 1…%d", n, pipeline.MaxShards)}
+	}
 	if n := c.Int("shard-count"); n > 1 {
 		idx := c.Int("shard-index")
 		if idx < 0 {
@@ -461,6 +472,9 @@ func diffCmd(c *cli.Context) error {
 		return &exitError{exitSpec, fmt.Errorf("almanac diff: --format %q: want text or markdown", c.String("format"))}
 	}
 	if p := c.String("parquet"); p != "" {
+		if err := notInRunFolder("--parquet", p); err != nil {
+			return &exitError{exitSpec, fmt.Errorf("almanac diff: %v", err)}
+		}
 		if err := d.WriteParquet(p); err != nil {
 			return &exitError{exitRun, fmt.Errorf("almanac diff: %v", err)}
 		}
@@ -481,6 +495,11 @@ func explainCmd(c *cli.Context) error {
 		return &exitError{exitSpec, errors.New("almanac explain: expected RUN_DIR and the series' key values")}
 	}
 	opt := explain.Options{AllForecasts: c.Bool("all-forecasts"), Seasons: c.Int("seasons"), PNG: c.String("png")}
+	if opt.PNG != "" {
+		if err := notInRunFolder("--png", opt.PNG); err != nil {
+			return &exitError{exitSpec, fmt.Errorf("almanac explain: %v", err)}
+		}
+	}
 	if m := c.String("methods"); m != "" {
 		opt.Methods = strings.Split(m, ",")
 	}
@@ -529,14 +548,37 @@ func verifyCmd(c *cli.Context) error {
 	if c.NArg() != 1 {
 		return &exitError{exitSpec, fmt.Errorf("almanac verify: expected one RUN_DIR argument, got %d", c.NArg())}
 	}
-	code, err := pipeline.Verify(c.Context, c.Args().First(), c.App.Writer, max(1, c.Int("workers")))
+	// Exit codes: pipeline.VerifyIdentical (0), VerifyDiffers (1),
+	// VerifyInputsChanged (3), VerifyUnusable (4); 2 stays the usage error.
+	code, err := pipeline.Verify(c.Context, c.Args().First(), c.App.Writer,
+		pipeline.VerifyOptions{Workers: max(1, c.Int("workers")), InputRoot: c.String("input-root")})
 	if err != nil {
-		return &exitError{exitSpec, fmt.Errorf("almanac verify: %v", err)}
+		return &exitError{pipeline.VerifyUnusable, fmt.Errorf("almanac verify: %v", err)}
 	}
 	if code != 0 {
 		return &exitError{code, nil}
 	}
 	return nil
+}
+
+// notInRunFolder refuses an output path of a review command that lies in
+// a run folder (or a folder being staged as one): its files belong to the
+// run, and the manifest and verify vouch for them.
+func notInRunFolder(flag, path string) error {
+	abs, err := filepath.Abs(path)
+	if err != nil {
+		return err
+	}
+	for dir := filepath.Dir(abs); ; dir = filepath.Dir(dir) {
+		for _, m := range []string{runfolder.MarkerFile, runfolder.MarkerFile + ".staging"} {
+			if _, err := os.Stat(filepath.Join(dir, m)); err == nil {
+				return fmt.Errorf("%s %s: that is inside the run folder %s; write it elsewhere (almanac never changes a run folder's files)", flag, path, dir)
+			}
+		}
+		if dir == filepath.Dir(dir) {
+			return nil
+		}
+	}
 }
 
 func printSummary(w io.Writer, sum *pipeline.Summary) {

@@ -135,7 +135,7 @@ func (e *Evaluation) Finish(s *spec.Spec, i int, r *forecast.Result) {
 					Model:  fmt.Sprintf("combination(%s of %s)", e.combo.Kind, strings.Join(choice.members, ", ")),
 					Values: combineForecasts(e.combo.Kind, fcs)})
 			} else {
-				r.Problems = append(r.Problems, runfolder.Problem{Key: r.Series.Key, Stage: "forecast", Severity: "error", Method: e.combo.Label,
+				r.Problems = append(r.Problems, runfolder.Problem{Key: r.Series.Key, Stage: "forecast", Severity: "error", Code: runfolder.CodeCombinationFailed, Method: e.combo.Label,
 					Message: "a member of the combination failed on the full history; no combination forecast"})
 			}
 		}

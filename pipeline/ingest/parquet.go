@@ -22,7 +22,7 @@ import (
 // parquetBatchRows is how many rows are decoded at a time.
 const parquetBatchRows = 64 * 1024
 
-func readParquet(s *spec.Spec, f *InputFile, fileIdx int32, cal calendar.Calendar, rs *Rows) (err error) {
+func readParquet(ctx context.Context, s *spec.Spec, f *InputFile, fileIdx int32, cal calendar.Calendar, rs *Rows) (err error) {
 	defer func() {
 		// The Parquet decoder can panic on some corrupt files; a corrupt
 		// input is a data error, not a crash.
@@ -48,7 +48,7 @@ func readParquet(s *spec.Spec, f *InputFile, fileIdx int32, cal calendar.Calenda
 	if err != nil {
 		return err
 	}
-	rr, err := fr.GetRecordReader(context.Background(), cols, nil)
+	rr, err := fr.GetRecordReader(ctx, cols, nil)
 	if err != nil {
 		return fmt.Errorf("%s: %v", f.Path, err)
 	}
@@ -58,11 +58,14 @@ func readParquet(s *spec.Spec, f *InputFile, fileIdx int32, cal calendar.Calenda
 	var row int64
 	var errs []string
 	for rr.Next() {
+		if err := ctx.Err(); err != nil {
+			return err
+		}
 		rec := rr.RecordBatch()
 		n := int(rec.NumRows())
 		tcol, vcol := rec.Column(0), rec.Column(1)
 		periods, terrs := parquetPeriods(f.Path, s.Columns.Time, tcol, cal, row)
-		values, verr := parquetValues(f.Path, s.Columns.Value, vcol)
+		values, verr := parquetValues(f.Path, s.Columns.Value, vcol, row)
 		errs = append(errs, terrs...)
 		if verr != nil {
 			errs = append(errs, verr.Error())
@@ -84,14 +87,19 @@ func readParquet(s *spec.Spec, f *InputFile, fileIdx int32, cal calendar.Calenda
 				if kerr != nil {
 					return kerr
 				}
-				keyParts[j] = k
+				keyParts[j] = normaliseKey(rs.keyRule, k)
 				if k == "" {
 					rs.KeyBlanks++
 				} else if !utf8.ValidString(k) {
 					return &DataError{Msgs: []string{fmt.Sprintf("%s: row %d: column %q: %q is not valid UTF-8; almanac reads text as UTF-8", f.Path, row+int64(i)+1, s.Columns.Keys[j], k)}}
+				} else if msg := keyCharError(k); msg != "" {
+					return &DataError{Msgs: []string{fmt.Sprintf("%s: row %d: column %q: %s", f.Path, row+int64(i)+1, s.Columns.Keys[j], msg)}}
 				}
 			}
-			rs.add(rs.internKey(keyParts), periods[i], values[i], fileIdx, row+int64(i)+1)
+			if !rs.Times.observe(cal, periods[i], fileIdx, row+int64(i)+1) {
+				continue
+			}
+			rs.add(rs.internKey(keyParts), periods[i].Period, values[i], fileIdx, row+int64(i)+1)
 		}
 		row += int64(n)
 	}
@@ -107,7 +115,7 @@ func readParquet(s *spec.Spec, f *InputFile, fileIdx int32, cal calendar.Calenda
 	f.Rows = row
 	f.SHA256 = sum
 	if row == 0 {
-		rs.Notes = append(rs.Notes, fmt.Sprintf("%s has no rows", f.Path))
+		rs.Notes = append(rs.Notes, runfolder.Problem{Stage: "read", Severity: "warning", Code: runfolder.CodeNoRows, Message: fmt.Sprintf("%s has no rows", f.Path)})
 	}
 	return nil
 }
@@ -136,9 +144,9 @@ func parquetColumns(pf *file.Reader, path string, s *spec.Spec) ([]int, error) {
 	return cols, nil
 }
 
-func parquetPeriods(path, name string, col arrow.Array, cal calendar.Calendar, base int64) ([]int64, []string) {
+func parquetPeriods(path, name string, col arrow.Array, cal calendar.Calendar, base int64) ([]calendar.RowTime, []string) {
 	n := col.Len()
-	out := make([]int64, n)
+	out := make([]calendar.RowTime, n)
 	var errs []string
 	nullErr := func(i int) {
 		errs = append(errs, fmt.Sprintf("%s: row %d: column %q: the time is NULL", path, base+int64(i)+1, name))
@@ -150,7 +158,12 @@ func parquetPeriods(path, name string, col arrow.Array, cal calendar.Calendar, b
 				nullErr(i)
 				continue
 			}
-			out[i] = cal.FromDays(int64(c.Value(i)))
+			t, err := cal.DayTime(int64(c.Value(i)))
+			if err != nil {
+				errs = append(errs, fmt.Sprintf("%s: row %d: column %q: %v", path, base+int64(i)+1, name, err))
+				continue
+			}
+			out[i] = t
 		}
 	case *array.Date64:
 		for i := 0; i < n; i++ {
@@ -158,7 +171,12 @@ func parquetPeriods(path, name string, col arrow.Array, cal calendar.Calendar, b
 				nullErr(i)
 				continue
 			}
-			out[i] = cal.FromDays(calendar.FloorDiv(int64(c.Value(i)), 86400000))
+			t, err := cal.DayTime(calendar.FloorDiv(int64(c.Value(i)), 86400000))
+			if err != nil {
+				errs = append(errs, fmt.Sprintf("%s: row %d: column %q: %v", path, base+int64(i)+1, name, err))
+				continue
+			}
+			out[i] = t
 		}
 	case *array.Timestamp:
 		unit := c.DataType().(*arrow.TimestampType).Unit
@@ -168,7 +186,12 @@ func parquetPeriods(path, name string, col arrow.Array, cal calendar.Calendar, b
 				nullErr(i)
 				continue
 			}
-			out[i] = cal.FromDays(calendar.FloorDiv(int64(c.Value(i)), perDay))
+			t, err := cal.DayTime(calendar.FloorDiv(int64(c.Value(i)), perDay))
+			if err != nil {
+				errs = append(errs, fmt.Sprintf("%s: row %d: column %q: %v", path, base+int64(i)+1, name, err))
+				continue
+			}
+			out[i] = t
 		}
 	case array.StringLike:
 		for i := 0; i < n; i++ {
@@ -176,7 +199,7 @@ func parquetPeriods(path, name string, col arrow.Array, cal calendar.Calendar, b
 				nullErr(i)
 				continue
 			}
-			p, err := cal.Parse(strings.TrimSpace(c.ValueStr(i)))
+			p, err := cal.ParseSpan(strings.TrimSpace(c.ValueStr(i)))
 			if err != nil {
 				errs = append(errs, fmt.Sprintf("%s: row %d: column %q: %v", path, base+int64(i)+1, name, err))
 				continue
@@ -192,7 +215,7 @@ func parquetPeriods(path, name string, col arrow.Array, cal calendar.Calendar, b
 	return out, errs
 }
 
-func parquetValues(path, name string, col arrow.Array) ([]float64, error) {
+func parquetValues(path, name string, col arrow.Array, base int64) ([]float64, error) {
 	n := col.Len()
 	out := make([]float64, n)
 	get := func(i int) float64 { return 0 }
@@ -228,7 +251,11 @@ func parquetValues(path, name string, col arrow.Array) ([]float64, error) {
 			out[i] = math.NaN()
 			continue
 		}
-		out[i] = get(i)
+		v := get(i)
+		if math.IsInf(v, 0) {
+			return nil, fmt.Errorf("%s: row %d: column %q: %v: infinite values are not accepted; write NULL for a missing value", path, base+int64(i)+1, name, v)
+		}
+		out[i] = v
 	}
 	return out, nil
 }
