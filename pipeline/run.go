@@ -176,6 +176,7 @@ func (p *Plan) Run(ctx context.Context, opts Options, started time.Time) (*Summa
 	if err := x.openStaging(); err != nil {
 		return nil, err
 	}
+	defer runfolder.TrackLive(x.staging)()
 	defer func() {
 		if !x.committed {
 			os.RemoveAll(x.staging)

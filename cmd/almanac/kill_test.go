@@ -255,4 +255,7 @@ func TestSecondSignalExitsAtOnce(t *testing.T) {
 	if v := visible(t, filepath.Join(dir, "out")); len(v) != 1 || v[0] != "kill" {
 		t.Errorf("out/ shows %v", v)
 	}
+	if left, _ := filepath.Glob(filepath.Join(dir, "out", ".almanac-tmp-*")); len(left) != 0 {
+		t.Errorf("the abandoned run left its staging: %v", left)
+	}
 }

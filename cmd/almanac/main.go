@@ -58,7 +58,10 @@ func (e *exitError) Unwrap() error { return e.err }
 
 func main() {
 	ctx, cancel := context.WithCancel(context.Background())
-	stop := onSignals(cancel, os.Stderr, func() { os.Exit(exitInterrupted) })
+	stop := onSignals(cancel, os.Stderr, func() {
+		runfolder.RemoveLive() // the abandoned run's staging and spill folders
+		os.Exit(exitInterrupted)
+	})
 	code := run(ctx, os.Args, os.Stdout, os.Stderr)
 	stop()
 	os.Exit(code)

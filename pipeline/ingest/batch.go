@@ -27,12 +27,13 @@ const spillRowBytes = 4 + 4 + 8 + 8 + 8
 
 // spill holds rows on disk while the input is read.
 type spill struct {
-	dir  string
-	lock *os.File // held while the run lives (see RemoveStaleSpills)
-	f    *os.File
-	w    *bufio.Writer
-	rows int64
-	buf  [spillRowBytes]byte
+	dir     string
+	lock    *os.File // held while the run lives (see RemoveStaleSpills)
+	untrack func()
+	f       *os.File
+	w       *bufio.Writer
+	rows    int64
+	buf     [spillRowBytes]byte
 }
 
 func newSpill() (*spill, error) {
@@ -51,7 +52,7 @@ func newSpill() (*spill, error) {
 		os.RemoveAll(dir)
 		return nil, err
 	}
-	return &spill{dir: dir, lock: lock, f: f, w: bufio.NewWriterSize(f, 1<<20)}, nil
+	return &spill{dir: dir, lock: lock, f: f, w: bufio.NewWriterSize(f, 1<<20), untrack: runfolder.TrackLive(dir)}, nil
 }
 
 func putRow(b []byte, key, file int32, period int64, value float64, line int64) {
@@ -80,6 +81,7 @@ func (s *spill) close() {
 		s.f.Close()
 		os.RemoveAll(s.dir)
 		s.lock.Close()
+		s.untrack()
 	}
 }
 
