@@ -7,6 +7,7 @@ package main
 import (
 	"bufio"
 	"bytes"
+	"encoding/json"
 	"fmt"
 	"math"
 	"os"
@@ -439,5 +440,37 @@ func TestStaleSpillFoldersRemoved(t *testing.T) {
 	left, _ := filepath.Glob(filepath.Join(tmp, "almanac-spill-*"))
 	if len(left) != 1 {
 		t.Errorf("spill folders left: %v", left)
+	}
+}
+
+// --as-of is recorded in the manifest (the canonical spec's shaping.until),
+// so verify reproduces the run with the same cut-off.
+func TestAsOfIsRecordedAndVerified(t *testing.T) {
+	dir := monthlyProject(t, 2)
+	out, stderr, code := almanac(t, dir, "run", "spec.yaml", "-q", "--as-of", "2022-06-30")
+	if code != 0 {
+		t.Fatal(stderr)
+	}
+	if !strings.Contains(out, "error(s), 1 warning(s)") {
+		t.Errorf("summary: %s", out)
+	}
+	b, err := os.ReadFile(filepath.Join(dir, "out", "manifest.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var m struct {
+		RowsRead int64 `json:"rows_read"`
+		Spec     struct {
+			Canonical json.RawMessage `json:"canonical"`
+		} `json:"spec"`
+	}
+	json.Unmarshal(b, &m)
+	var compact bytes.Buffer
+	json.Compact(&compact, m.Spec.Canonical)
+	if !strings.Contains(compact.String(), `"until":"2022-06-30"`) || m.RowsRead != 2*18 {
+		t.Errorf("manifest: %d rows read, canonical %s", m.RowsRead, m.Spec.Canonical)
+	}
+	if out, stderr, code := almanac(t, dir, "verify", "out"); code != 0 {
+		t.Errorf("verify: %d\n%s%s", code, out, stderr)
 	}
 }
