@@ -16,8 +16,7 @@ import "testing"
 // benchMethod13 fits method to a bench series and forecasts 13 steps.
 func benchMethod13(b *testing.B, series string, method Method) {
 	y, m := classicalBenchSeries(b, series)
-	b.ReportAllocs()
-	for b.Loop() {
+	esLoop(b, func() {
 		f, err := method.Fit(y, m)
 		if err != nil {
 			b.Fatal(err)
@@ -25,7 +24,7 @@ func benchMethod13(b *testing.B, series string, method Method) {
 		if len(f.Forecast(13)) != 13 {
 			b.Fatal("short forecast")
 		}
-	}
+	})
 }
 
 func benchMustSTL(b *testing.B, o Options) *STL {
@@ -53,9 +52,11 @@ func BenchmarkClassicalMonthly60H13(b *testing.B) {
 	benchMethod13(b, "monthly60", mustClassical(b, "", "", ""))
 }
 
-// Holt-Winters, additive, α, β, γ estimated: beside R's HoltWinters(x).
+// Holt-Winters, additive season (ETS(A,A,A)), weights and initial states
+// estimated: beside R's HoltWinters(x), which is additive and estimates
+// α, β, γ only.
 func BenchmarkHoltWintersMonthly60H13(b *testing.B) {
-	benchMethod13(b, "monthly60", esMustHW(b, "", true, false))
+	benchMethod13(b, "monthly60", esMustHW(b, FormAdditive, true, false))
 }
 
 // SES beside HoltWinters(x, beta = FALSE, gamma = FALSE); Holt beside

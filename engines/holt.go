@@ -7,34 +7,29 @@ import (
 )
 
 // Holt is exponential smoothing with a level and a trend (Holt 1957), or
-// with a damped trend (Gardner and McKenzie 1985), fitted to each series by
-// minimising the in-sample sum of squared one-step errors. With y_t,
-// t = 1…n (y[0] is t = 1):
+// with a damped trend (Gardner and McKenzie 1985): the state-space forms
+// with additive error and no season (ETS(A,A,N), ETS(A,Ad,N) in Hyndman et
+// al. 2008). With y_t, t = 1…n (y[0] is t = 1) and e_t = y_t − μ_t:
 //
-//	ŷ_t = ℓ_{t−1} + φ·b_{t−1}
-//	ℓ_t = α·y_t + (1−α)·(ℓ_{t−1} + φ·b_{t−1})
-//	b_t = β(ℓ_t − ℓ_{t−1}) + (1−β)·φ·b_{t−1}
+//	μ_t = ℓ_{t−1} + φ·b_{t−1}
+//	ℓ_t = μ_t + α·e_t
+//	b_t = φ·b_{t−1} + β·e_t
 //	ŷ_{n+h} = ℓ_n + (φ + φ² + … + φ^h)·b_n
 //
-// with φ = 1 (the sum is then h) unless damped. β is in Holt's form; in the
-// error-correction form b_t = φb_{t−1} + β_e·e_t it is β_e = αβ, so
-// 0 < β < 1 is 0 < β_e < α.
+// with φ = 1 (the sum is then h) unless damped. β is the error-correction
+// trend parameter (β = α·β* with Holt's weight β*).
 //
-// Fitting. α, β (and φ) minimise SSE = Σ (y_t − ŷ_t)² over the observed
-// t = 1…n, jointly with the initial level and trend ℓ_0, b_0: for fixed
-// smoothing parameters the SSE is quadratic in (ℓ_0, b_0), which are found
-// in closed form from one pass (when that 2×2 system is singular, b_0 is
-// the least-squares slope of the first ten observed values and only ℓ_0 is
-// fitted). The smoothing parameters come from the Nelder–Mead method on
-// the logistic scale within α, β ∈ [0.0001, 0.9999] and φ ∈ [0.8, 0.98],
-// from α = 0.3, β = 0.1, φ = 0.9 (see HoltWinters for the details shared
-// by the family, including missing values).
+// α, β (and φ) and the initial level and trend ℓ_0, b_0 maximise the
+// Gaussian likelihood (minimise the sum of squared one-step errors), in
+// the usual region 0 < β < α < 1, 0.8 ≤ φ ≤ 0.98 (see SmoothingAuto for
+// the fit shared by the family, including missing values).
 //
-// AICc, σ² = SSE/(n−k) and the forecast variance
-// v_h = σ²·(1 + Σ_{j=1}^{h−1} (α + β_e(φ + … + φ^j))²) are as for
-// HoltWinters, with k = 4 (α, β, ℓ_0, b_0), or 5 when damped (φ). The
-// fitted model implements Described, Warner, InSampler, Parameterized
-// (alpha, beta, phi, initial_level, initial_trend) and ForecastVariancer.
+// Describe gives "holt(error=additive, trend=additive, season=none)" (or
+// trend=damped). AICc counts k = 5 (α, β, ℓ_0, b_0, σ²), 6 when damped;
+// the forecast variance is v_h = σ²·(1 + Σ_{j=1}^{h−1} (α + β(φ + … +
+// φ^j))²), σ² = SSE/(n−k+1). The fitted model implements Described,
+// Warner, InSampler, Parameterized (alpha, beta, phi, initial_level,
+// initial_trend) and ForecastVariancer.
 //
 // Options (registered name "holt"):
 //
@@ -52,7 +47,6 @@ import (
 //   - R. J. Hyndman, A. B. Koehler, J. K. Ord and R. D. Snyder (2008),
 //     Forecasting with Exponential Smoothing: The State Space Approach,
 //     Springer, ch. 6 and Table 6.1 (models ETS(A,A,N) and ETS(A,Ad,N)).
-//   - statsmodels Holt (0.13.5), the reference checked in smoothing_test.go.
 type Holt struct {
 	// Damped selects the damped trend. The zero value is Holt's linear
 	// trend.
@@ -88,7 +82,7 @@ func (h Holt) Fit(y []float64, season int) (Fitted, error) {
 	if h.Damped {
 		form.trend = esTrendDamped
 	}
-	mod, err := esFitForm("holt", y, 1, form, nil)
+	mod, err := esFitForm("holt", y, 1, form)
 	if err != nil {
 		return nil, err
 	}

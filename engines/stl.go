@@ -5,8 +5,6 @@ import (
 	"math"
 	"slices"
 	"strconv"
-
-	"gonum.org/v1/gonum/optimize"
 )
 
 // STL is seasonal-trend decomposition by loess, and the forecast built on
@@ -106,8 +104,10 @@ import (
 //	       with α ∈ [0, 1] minimising Σ_{v=2}^{N} (A_v − ℓ_{v−1})²
 //	       (the start of R's HoltWinters(beta = FALSE, gamma = FALSE)).
 //
-// α is found by a grid over [0, 1] in steps of 0.05 and then Nelder–Mead
-// (gonum/optimize) on θ with α = (1 + sin θ)/2, so the bounds are reached.
+// α is found by the level-only fit of the exponential smoothing core
+// (esLevelFit, shared with theta): a grid over [0, 1] in steps of 0.05,
+// then Brent's search between the grid points around the best one, and
+// the bounds compared when that bracket reaches them.
 // The fitted model also implements Described and Decomposed.
 //
 // # Options (registered name "stl")
@@ -711,48 +711,17 @@ func stlLoessAt(y, rw []float64, x float64, left, right, q, degree int) (v float
 	return y0 / s0, true
 }
 
-// stlSES fits simple exponential smoothing to y (len ≥ 2; see STL) and
+// stlSES fits simple exponential smoothing to y (len ≥ 2; see STL) with
+// the level-only fit of the smoothing core (esLevelFit, α ∈ [0, 1]) and
 // returns α and the final level ℓ_N.
-//
-// This is a private helper of STL's forecast, kept here so that STL does
-// not depend on another engine.
 func stlSES(y []float64) (alpha, level float64) {
-	best, bestSSE := 0.0, math.Inf(1)
-	for i := 0; i <= 20; i++ {
-		a := float64(i) / 20
-		if v, _ := stlSESRun(y, a); v < bestSSE {
-			best, bestSSE = a, v
-		}
-	}
-	toAlpha := func(theta float64) float64 { return (1 + math.Sin(theta)) / 2 }
-	prob := optimize.Problem{Func: func(x []float64) float64 {
-		v, _ := stlSESRun(y, toAlpha(x[0]))
-		return v
-	}}
-	settings := &optimize.Settings{
-		Converger:       &optimize.FunctionConverge{Absolute: 1e-12, Relative: 1e-12, Iterations: 20},
-		FuncEvaluations: 400,
-	}
-	theta0 := math.Asin(2*best - 1)
-	res, err := optimize.Minimize(prob, []float64{theta0}, settings, &optimize.NelderMead{SimplexSize: 0.05})
-	if err == nil && res != nil && res.F < bestSSE {
-		best = toAlpha(res.X[0])
-	}
-	_, level = stlSESRun(y, best)
-	return best, level
+	alpha, level, _ = esLevelFit(y, 0, 1, stlSESIterations)
+	return alpha, level
 }
 
-// stlSESRun runs simple exponential smoothing with the given α over y
-// (ℓ_1 = y_1) and returns Σ_{v=2}^{N} (y_v − ℓ_{v−1})² and ℓ_N.
-func stlSESRun(y []float64, alpha float64) (sse, level float64) {
-	level = y[0]
-	for _, v := range y[1:] {
-		e := v - level
-		sse += e * e
-		level += alpha * e
-	}
-	return sse, level
-}
+// stlSESIterations caps Brent's search in stlSES; on the smooth sum of
+// squares of an adjusted series it converges in a few dozen.
+const stlSESIterations = 200
 
 // stlFit is a fitted STL forecast.
 type stlFit struct {

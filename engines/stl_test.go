@@ -299,7 +299,7 @@ func TestSTLForecastMatchesR(t *testing.T) {
 					// the forecast, to a relative 1e-7 of the series.
 					tol = 1e-7 * scale
 					alpha, level := stlSES(d.Adjusted)
-					sse, _ := stlSESRun(d.Adjusted, alpha)
+					sse, _ := esLevelFilter(d.Adjusted, alpha, d.Adjusted[0])
 					if math.Abs(alpha-fx.SES.Alpha) > 1e-6 {
 						t.Errorf("ses: alpha %.9g, R %.9g", alpha, fx.SES.Alpha)
 					}
@@ -374,7 +374,7 @@ func TestSTLSESByHand(t *testing.T) {
 	if math.Abs(alpha-0.75) > 1e-6 || math.Abs(level-13) > 1e-6 {
 		t.Errorf("stlSES(10, 14, 13) = α %.9g, ℓ %.9g; want 0.75, 13", alpha, level)
 	}
-	if sse, _ := stlSESRun(y, 0.75); sse != 16 {
+	if sse, _ := esLevelFilter(y, 0.75, y[0]); sse != 16 {
 		t.Errorf("SSE at α = 0.75: %v, want 16", sse)
 	}
 	if _, level := stlSES([]float64{5, 5, 5, 5}); level != 5 {
@@ -401,7 +401,7 @@ func TestSTLSESRecursionMatchesR(t *testing.T) {
 	if err := json.Unmarshal(b, &fx); err != nil {
 		t.Fatal(err)
 	}
-	sse, level := stlSESRun(fx.X, fx.Alpha)
+	sse, level := esLevelFilter(fx.X, fx.Alpha, fx.X[0])
 	if math.Abs(sse-fx.SSE) > 1e-12*fx.SSE || math.Abs(level-fx.Coefficients.A) > 1e-12*fx.Coefficients.A {
 		t.Errorf("SSE %.15g, level %.15g; R %.15g, %.15g", sse, level, fx.SSE, fx.Coefficients.A)
 	}

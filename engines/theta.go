@@ -122,10 +122,6 @@ const (
 
 var thetaDeseasonNames = []string{"auto", "always", "never"}
 
-// thetaZ90 is the 95% quantile of the standard normal: the two-sided 90%
-// critical value of the seasonality test.
-const thetaZ90 = 1.6448536269514722
-
 func init() {
 	Register("theta", func(o Options) (Method, error) {
 		var des string
@@ -220,7 +216,7 @@ func (th *Theta) fit(y []float64, season int, alpha float64) (Fitted, error) {
 			f.warnings = append(f.warnings, warn)
 		}
 	} else {
-		_, level = thetaSES(x, alpha)
+		_, level = esLevelFilter(x, alpha, x[0])
 	}
 	f.alpha, f.level, f.b0 = alpha, level, b0
 	// 1/α − (1−α)^n/α − 1, with the first two terms written as
@@ -250,7 +246,7 @@ func (th *Theta) deseasonalize(f *thetaFit, y []float64, m, observed, nonPositiv
 		return nil
 	}
 	if th.deseason == thetaAuto {
-		if _, seasonal := thetaSeasonalityTest(y, m); !seasonal {
+		if _, seasonal := SeasonalityTest(y, m); !seasonal {
 			return nil
 		}
 	}
@@ -266,50 +262,7 @@ func (th *Theta) deseasonalize(f *thetaFit, y []float64, m, observed, nonPositiv
 	return d
 }
 
-// thetaSeasonalityTest returns the statistic |r_m| / sqrt((1 + 2·Σ_{k<m}
-// r_k²)/n) of the seasonality test of Theta (n = number of observed values)
-// and whether it exceeds the 90% critical value. It returns 0, false when
-// the observed values do not vary.
-func thetaSeasonalityTest(y []float64, m int) (stat float64, seasonal bool) {
-	var s float64
-	k := 0
-	for _, v := range y {
-		if v == v {
-			s += v
-			k++
-		}
-	}
-	mean := s / float64(k)
-	var c0 float64
-	for _, v := range y {
-		if v == v {
-			c0 += (v - mean) * (v - mean)
-		}
-	}
-	if !(c0 > 0) {
-		return 0, false
-	}
-	var sum2, rm float64
-	for lag := 1; lag <= m; lag++ {
-		var c float64
-		for i := lag; i < len(y); i++ {
-			// NaN products drop out: NaN == NaN is false.
-			if p := (y[i] - mean) * (y[i-lag] - mean); p == p {
-				c += p
-			}
-		}
-		r := c / c0
-		if lag < m {
-			sum2 += r * r
-		} else {
-			rm = r
-		}
-	}
-	stat = math.Abs(rm) / math.Sqrt((1+2*sum2)/float64(k))
-	return stat, stat > thetaZ90
-}
-
-// Bounds of the smoothing constant of thetaSES.
+// Bounds of the smoothing constant of Theta's smoothing.
 const (
 	thetaAlphaLo = 0.0001
 	thetaAlphaHi = 1.0
@@ -320,174 +273,17 @@ const (
 // early.
 var thetaSearchIterations = 100
 
-// thetaSES runs simple exponential smoothing of x from ℓ_0 = x[0] with
-// constant alpha. It returns the sum of squared one-step errors and the
-// final level. NaN values of x leave the level unchanged and add nothing to
-// the sum. x[0] must not be NaN.
-//
-// This is a private smoothing routine of the Theta method; it can later
-// share code with the exponential smoothing engines.
-func thetaSES(x []float64, alpha float64) (sse, level float64) {
-	level = x[0]
-	for _, v := range x[1:] {
-		e := v - level
-		if e != e {
-			continue
-		}
-		sse += e * e
-		level += alpha * e
-	}
-	return sse, level
-}
-
 // thetaSESFit returns the smoothing constant in [thetaAlphaLo, thetaAlphaHi]
-// that minimises the sum of squared one-step errors of thetaSES on x, the
-// final level at that constant, and a warning if the search did not
-// converge.
-//
-// It scans α = thetaAlphaLo, 0.05, 0.10, …, 0.95, thetaAlphaHi, then runs
-// Brent's minimiser on the two grid steps around the best grid point, and
-// finally compares the result with the bounds when the bracket touches
-// them (Brent's method never evaluates the ends of its interval).
+// that minimises the sum of squared one-step errors of simple exponential
+// smoothing of x from ℓ_0 = x[0] (esLevelFit, the level-only fit the
+// smoothing core shares with stl), the final level at that constant, and a
+// warning if the search did not converge.
 func thetaSESFit(x []float64) (alpha, level float64, warn string) {
-	const steps = 20 // grid spacing 1/steps
-	grid := func(k int) float64 {
-		switch k {
-		case 0:
-			return thetaAlphaLo
-		case steps:
-			return thetaAlphaHi
-		}
-		return float64(k) / steps
+	alpha, level, ok := esLevelFit(x, thetaAlphaLo, thetaAlphaHi, thetaSearchIterations)
+	if !ok {
+		warn = fmt.Sprintf("theta: smoothing-constant search stopped after %d iterations without converging; used the best alpha found, %.6g", thetaSearchIterations, alpha)
 	}
-	// All grid points in one pass: independent recursions side by side
-	// run several times faster than one after another.
-	var alphas, levels, sses [steps + 1]float64
-	for k := range alphas {
-		alphas[k], levels[k] = grid(k), x[0]
-	}
-	for _, v := range x[1:] {
-		if v != v {
-			continue
-		}
-		for k := range levels {
-			e := v - levels[k]
-			sses[k] += e * e
-			levels[k] += alphas[k] * e
-		}
-	}
-	best, bestSSE := 0, math.Inf(1)
-	for k, sse := range sses {
-		if sse < bestSSE {
-			best, bestSSE = k, sse
-		}
-	}
-	alpha = grid(best)
-	if bestSSE > 0 && !math.IsInf(bestSSE, 0) {
-		lo, hi := grid(max(best-1, 0)), grid(min(best+1, steps))
-		a, fa, ok := thetaBrent(func(a float64) float64 { s, _ := thetaSES(x, a); return s }, lo, hi, thetaSearchIterations)
-		if fa <= bestSSE {
-			alpha, bestSSE = a, fa
-		}
-		for _, end := range [2]float64{lo, hi} {
-			if end == thetaAlphaLo || end == thetaAlphaHi {
-				if s, _ := thetaSES(x, end); s <= bestSSE {
-					alpha, bestSSE = end, s
-				}
-			}
-		}
-		if !ok {
-			warn = fmt.Sprintf("theta: smoothing-constant search stopped after %d iterations without converging; used the best alpha found, %.6g", thetaSearchIterations, alpha)
-		}
-	}
-	_, level = thetaSES(x, alpha)
 	return alpha, level, warn
-}
-
-// thetaBrent minimises f on the open interval (a, b) by Brent's method:
-// golden-section steps combined with parabolic interpolation through the
-// three best points, stopping when the minimiser is known to within
-// tol = √ε·|x| + 1e-10 (ε the float64 machine epsilon). It returns the best
-// point found, its value, and false if maxIter iterations passed first.
-//
-// Reference: R. P. Brent (1973), Algorithms for Minimization without
-// Derivatives, Prentice-Hall, chapter 5.
-func thetaBrent(f func(float64) float64, a, b float64, maxIter int) (x, fx float64, converged bool) {
-	const (
-		golden = 0.3819660112501051 // (3 − √5)/2
-		sqeps  = 1.4901161193847656e-08
-		abstol = 1e-10
-	)
-	x = a + golden*(b-a)
-	w, v := x, x
-	fx = f(x)
-	fw, fv := fx, fx
-	var d, e float64 // the step just taken and the one before it
-	for range maxIter {
-		mid := (a + b) / 2
-		tol := sqeps*math.Abs(x) + abstol
-		if math.Abs(x-mid) <= 2*tol-(b-a)/2 {
-			return x, fx, true
-		}
-		useGolden := true
-		if math.Abs(e) > tol {
-			// Parabola through (v, fv), (w, fw), (x, fx): its vertex is
-			// x + p/q.
-			r := (x - w) * (fx - fv)
-			q := (x - v) * (fx - fw)
-			p := (x-v)*q - (x-w)*r
-			q = 2 * (q - r)
-			if q > 0 {
-				p = -p
-			} else {
-				q = -q
-			}
-			// Accept it if it falls inside (a, b) and moves less than half
-			// the step before last.
-			if math.Abs(p) < math.Abs(q*e/2) && p > q*(a-x) && p < q*(b-x) {
-				e, d = d, p/q
-				u := x + d
-				if u-a < 2*tol || b-u < 2*tol {
-					d = math.Copysign(tol, mid-x)
-				}
-				useGolden = false
-			}
-		}
-		if useGolden {
-			if x < mid {
-				e = b - x
-			} else {
-				e = a - x
-			}
-			d = golden * e
-		}
-		u := x + d
-		if math.Abs(d) < tol {
-			u = x + math.Copysign(tol, d)
-		}
-		fu := f(u)
-		if fu <= fx {
-			if u < x {
-				b = x
-			} else {
-				a = x
-			}
-			v, fv, w, fw, x, fx = w, fw, x, fx, u, fu
-			continue
-		}
-		if u < x {
-			a = u
-		} else {
-			b = u
-		}
-		switch {
-		case fu <= fw || w == x:
-			v, fv, w, fw = w, fw, u, fu
-		case fu <= fv || v == x || v == w:
-			v, fv = u, fu
-		}
-	}
-	return x, fx, false
 }
 
 // thetaFit is a fitted Theta model.

@@ -108,20 +108,20 @@ var catalog = map[string]methodDef{
 		},
 	},
 	"ses": {
-		Doc: "simple exponential smoothing (level only); smoothing weight and initial level fitted by least squares",
+		Doc: "simple exponential smoothing (level only), a state-space model; smoothing weight and initial level fitted by maximum likelihood",
 	},
 	"holt": {
-		Doc: "Holt's linear trend (level + trend), optionally damped; weights fitted by least squares",
+		Doc: "Holt's linear trend (level + trend), optionally damped, a state-space model; weights and initial states fitted by maximum likelihood",
 		Options: map[string]optionDef{
 			"damped": {Kind: kindBool, Default: false, Doc: "damped trend (Gardner & McKenzie), damping fitted in [0.8, 0.98]"},
 		},
 	},
 	"holt_winters": {
-		Doc:      "Holt-Winters (level + trend + season), additive or multiplicative season, optionally damped; weights fitted by least squares",
+		Doc:      "Holt-Winters (level + trend + season), a state-space model; season tested (auto), additive or multiplicative; optionally damped; weights and initial states fitted by maximum likelihood",
 		Seasonal: true,
 		Options: map[string]optionDef{
-			"seasonal": {Kind: kindEnum, Allowed: Forms, Default: string(Additive),
-				Doc: "additive or multiplicative season (multiplicative needs strictly positive values, else additive with a warning)"},
+			"seasonal": {Kind: kindEnum, Allowed: []string{"auto", string(Additive), string(Multiplicative)}, Default: "auto",
+				Doc: "auto (default): the lag-m autocorrelation test (90%) decides; no season found — level + trend only, season found — the additive or multiplicative form with the lower AICc (multiplicative only for strictly positive series); additive; multiplicative (needs strictly positive values, else additive with a warning)"},
 			"damped": {Kind: kindBool, Default: false, Doc: "damped trend, damping fitted in [0.8, 0.98]"},
 			"trend":  {Kind: kindBool, Default: true, Doc: "false drops the trend (level + season)"},
 		},
@@ -133,13 +133,32 @@ var catalog = map[string]methodDef{
 		},
 	},
 	"smoothing_auto": {
-		Doc: "exponential smoothing, form chosen per series by AICc among the admissible trend × season forms (named in the model column)",
+		Doc: "exponential smoothing as state-space models (ETS), form chosen per series by AICc among the admissible error × trend × season forms (named in the model column)",
 	},
 	"theta": {
 		Doc: "Theta method (simple exponential smoothing with drift of half the fitted slope), deseasonalised when the series tests seasonal",
 		Options: map[string]optionDef{
 			"deseasonalize": {Kind: kindEnum, Allowed: []string{"auto", "always", "never"}, Default: "auto",
 				Doc: "auto: classical multiplicative deseasonalising when the lag-m autocorrelation test (90%) says seasonal; always; never"},
+		},
+	},
+	"arima": {
+		Doc: "seasonal ARIMA fitted by exact maximum likelihood; orders chosen per series by unit-root and seasonal-strength tests and a stepwise AICc search, or fixed (named in the model column)",
+		Options: map[string]optionDef{
+			"p": {Kind: kindIntOrWord, Allowed: []string{"auto"}, Min: 0, Max: 5, Default: "auto",
+				Doc: "autoregressive order: auto (chosen by the stepwise AICc search) or 0 to 5"},
+			"d": {Kind: kindIntOrWord, Allowed: []string{"auto"}, Min: 0, Max: 2, Default: "auto",
+				Doc: "number of first differences: auto (repeated KPSS tests at 5%) or 0 to 2"},
+			"q": {Kind: kindIntOrWord, Allowed: []string{"auto"}, Min: 0, Max: 5, Default: "auto",
+				Doc: "moving-average order: auto or 0 to 5"},
+			"seasonal_p": {Kind: kindIntOrWord, Allowed: []string{"auto"}, Min: 0, Max: 2, Default: "auto",
+				Doc: "seasonal autoregressive order (lags of the season length): auto or 0 to 2; above 0 needs season_length ≥ 2"},
+			"seasonal_d": {Kind: kindIntOrWord, Allowed: []string{"auto"}, Min: 0, Max: 1, Default: "auto",
+				Doc: "number of seasonal differences: auto (1 when the seasonal strength of a classical decomposition exceeds 0.64) or 0 to 1"},
+			"seasonal_q": {Kind: kindIntOrWord, Allowed: []string{"auto"}, Min: 0, Max: 2, Default: "auto",
+				Doc: "seasonal moving-average order: auto or 0 to 2"},
+			"constant": {Kind: kindBool, Default: true,
+				Doc: "allow a constant (the mean when no differencing, a drift with one difference; never with two or more)"},
 		},
 	},
 	"croston": {

@@ -19,11 +19,15 @@ Rscript holdout/make_holdout.R    # holdout/*.json
 Rscript metrics/make_metrics.R    # metrics/*.json (accuracy metrics, interval and pinball scores)
 Rscript bench/time_r.R            # bench/*.json (timings vary run to run)
 $PY ets/make_ets.py               # ets/*.json   (reads data/*.json)
+$PY ets/make_etsmodel.py          # ets/etsmodel_fixed.json (statsmodels ETSModel; reads data/*.json)
+$PY smoothing/make_variance.py    # smoothing/forecast_variance.json (reads data/*.json)
 $PY theta/make_theta.py           # theta/*.json (reads data/*.json)
+Rscript arima/make_arima.R        # arima/fits.json, arima/strength.json (stats::arima, decompose)
+$PY arima/make_kpss.py            # arima/kpss.json (statsmodels kpss)
 
 # every fixture must be valid JSON
 n=0
-for f in data/*.json decompose/*.json statsmodels_decompose/*.json hw/*.json ets/*.json stl/*.json theta/*.json holdout/*.json metrics/*.json bench/*.json; do
+for f in data/*.json decompose/*.json statsmodels_decompose/*.json hw/*.json ets/*.json smoothing/*.json stl/*.json theta/*.json arima/*.json holdout/*.json metrics/*.json bench/*.json; do
   $PY -m json.tool "$f" >/dev/null || { echo "invalid JSON: $f" >&2; exit 1; }
   n=$((n + 1))
 done
