@@ -1,11 +1,13 @@
 package ingest
 
 import (
-	"almanac/pipeline/calendar"
-	"almanac/pipeline/runfolder"
 	"context"
+	"crypto/sha256"
+	"encoding/hex"
 	"fmt"
+	"io"
 	"math"
+	"os"
 	"strconv"
 	"strings"
 	"unicode/utf8"
@@ -16,6 +18,8 @@ import (
 	"github.com/apache/arrow-go/v18/parquet/file"
 	"github.com/apache/arrow-go/v18/parquet/pqarrow"
 
+	"almanac/pipeline/calendar"
+	"almanac/pipeline/runfolder"
 	"almanac/spec"
 )
 
@@ -30,8 +34,11 @@ func readParquet(ctx context.Context, s *spec.Spec, f *InputFile, fileIdx int32,
 			err = fmt.Errorf("%s: not a readable Parquet file: %v", f.Path, r)
 		}
 	}()
-	sum, err := runfolder.HashFile(f.Abs)
+	sum, err := hashFile(ctx, f.Abs)
 	if err != nil {
+		if ctx.Err() != nil {
+			return ctx.Err()
+		}
 		return fmt.Errorf("%s: %v", f.Path, err)
 	}
 	pf, err := file.OpenParquetFile(f.Abs, false)
@@ -296,4 +303,29 @@ func parquetKeys(path, name string, col arrow.Array) (func(int) (string, error),
 		}, nil
 	}
 	return nil, fmt.Errorf("%s: key column %q has type %s; key columns must be text or integers", path, name, col.DataType())
+}
+
+// hashFile is the hex SHA-256 of a file, read in pieces that each look at
+// ctx first, so that a signal stops the hashing of a large file too.
+func hashFile(ctx context.Context, path string) (string, error) {
+	fh, err := os.Open(path)
+	if err != nil {
+		return "", err
+	}
+	defer fh.Close()
+	h := sha256.New()
+	buf := make([]byte, 1<<20)
+	for {
+		if err := ctx.Err(); err != nil {
+			return "", err
+		}
+		n, err := fh.Read(buf)
+		h.Write(buf[:n])
+		if err == io.EOF {
+			return hex.EncodeToString(h.Sum(nil)), nil
+		}
+		if err != nil {
+			return "", err
+		}
+	}
 }
