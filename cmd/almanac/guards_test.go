@@ -106,6 +106,10 @@ func TestPartialLastWeekMatchesTheFullWeekCut(t *testing.T) {
 	if _, stderr, code := runIn(t, filepath.Join(root, "keep"), midweek, "shaping: {partial_period: keep}\n"); code != 0 {
 		t.Fatal(stderr)
 	}
+	// plan says so before anything runs.
+	if out, stderr, code := almanac(t, filepath.Join(root, "mid"), "plan", "spec.yaml"); code != 0 || !strings.Contains(out, "partial_period: the last period 2024-W11 (2024-03-11 … 2024-03-17) is incomplete: the data end on 2024-03-12") {
+		t.Errorf("plan: %d\n%s%s", code, out, stderr)
+	}
 	a := forecastValues(t, filepath.Join(root, "mid", "out", "forecasts.parquet"))
 	b := forecastValues(t, filepath.Join(root, "cut", "out", "forecasts.parquet"))
 	k := forecastValues(t, filepath.Join(root, "keep", "out", "forecasts.parquet"))
