@@ -194,6 +194,10 @@ func (p *Plan) Stages() []Stage {
 		}
 		out = append(out, Stage{Name: "intervals", Detail: fmt.Sprintf("%s bounds at %s%% for %s", iv.Source, joinInts(iv.Levels), which)})
 	}
+	if t := s.Totals; len(t.LeadTimes) > 0 {
+		out = append(out, Stage{Name: "totals", Detail: fmt.Sprintf("totals over %s period(s) of the chosen entry, quantiles at %s%%", joinInts(t.LeadTimes), joinInts(t.Levels)),
+			Tables: []string{runfolder.TableTotals}})
+	}
 	out = append(out, Stage{Name: "write", Detail: runfolder.ManifestFile + ", " + runfolder.LineageFile + "; committed atomically", Tables: []string{runfolder.TableProblems}})
 	if r := s.Report; r != nil {
 		out = append(out, Stage{Name: "report", Detail: fmt.Sprintf("report.html: %d named series and up to %d picked", len(r.Series), r.Picks)})

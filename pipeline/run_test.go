@@ -292,8 +292,8 @@ func runBytes(t *testing.T, s *spec.Spec, out string, workers int) map[string][]
 		t.Fatal(err)
 	}
 	files := map[string][]byte{}
-	for _, name := range []string{runfolder.TableForecasts, runfolder.TableComponents, runfolder.TableSeasonalFactors, runfolder.TableProblems, runfolder.TableAccuracy, runfolder.TableChoices} {
-		if _, err := os.Stat(filepath.Join(out, name+".parquet")); os.IsNotExist(err) && (name == runfolder.TableAccuracy || name == runfolder.TableChoices) {
+	for _, name := range []string{runfolder.TableForecasts, runfolder.TableComponents, runfolder.TableSeasonalFactors, runfolder.TableProblems, runfolder.TableAccuracy, runfolder.TableChoices, runfolder.TableTotals} {
+		if _, err := os.Stat(filepath.Join(out, name+".parquet")); os.IsNotExist(err) && (name == runfolder.TableAccuracy || name == runfolder.TableChoices || name == runfolder.TableTotals) {
 			continue
 		}
 		b, err := os.ReadFile(filepath.Join(out, name+".parquet"))
@@ -308,18 +308,26 @@ func runBytes(t *testing.T, s *spec.Spec, out string, workers int) map[string][]
 func TestSameBytesAtAnyWorkerCount(t *testing.T) {
 	dir := t.TempDir()
 	// 2,000 series, so that workers really interleave; with a backtest,
-	// selection, a combination and pooled intervals.
+	// selection, a combination, pooled intervals and totals. Every tenth
+	// series is a slow mover (demand in about one month of four), so its
+	// bounds come from resampled paths on a stream seeded by its key.
 	var b strings.Builder
 	b.WriteString("month,store,item,qty\n")
 	for k := 0; k < 2000; k++ {
 		for i := 0; i < 40; i++ {
 			v := 50 + float64(k%17) + float64(i) + 20*math.Sin(float64(i+k))
+			if k%10 == 3 {
+				v = 0
+				if (i*7+k)%4 == 0 {
+					v = float64(1 + (i+k)%3)
+				}
+			}
 			fmt.Fprintf(&b, "%04d-%02d,S%04d,I%d,%.2f\n", 2020+i/12, i%12+1, k%500, k/500, v)
 		}
 	}
 	os.MkdirAll(filepath.Join(dir, "data"), 0o755)
 	os.WriteFile(filepath.Join(dir, "data", "sales.csv"), []byte(b.String()), 0o644)
-	s := loadFixture(t, dir, fixtureSpec+"backtest: {folds: 2}\nselection: {combine: {kind: mean, top: 2}}\nintervals: {levels: [90]}\n")
+	s := loadFixture(t, dir, fixtureSpec+"backtest: {folds: 2}\nselection: {combine: {kind: mean, top: 2}}\nintervals: {levels: [90]}\ntotals: {lead_times: [3, 6], levels: [50, 95]}\n")
 	one := runBytes(t, s, filepath.Join(dir, "w1"), 1)
 	two := runBytes(t, s, filepath.Join(dir, "w2"), 2)
 	four := runBytes(t, s, filepath.Join(dir, "w4"), 4)

@@ -22,6 +22,8 @@ import (
 type runTables struct {
 	forecasts, components, factors, problems *runfolder.TableWriter
 	accuracy, choices                        *runfolder.TableWriter // nil without a backtest
+	totals                                   *runfolder.TableWriter // nil without spec totals
+	totalLevels                              int
 	series                                   int
 	errors, warnings                         int
 	methodSeries                             map[string]int
@@ -63,6 +65,10 @@ func openTables(dir string, s *spec.Spec, meta map[string]string, mem memory.All
 		rt.accuracy = open(runfolder.TableAccuracy, runfolder.AccuracyColumns())
 		rt.choices = open(runfolder.TableChoices, runfolder.ChoiceColumns())
 	}
+	if len(s.Totals.LeadTimes) > 0 {
+		rt.totals = open(runfolder.TableTotals, runfolder.TotalsColumns(s))
+		rt.totalLevels = len(s.Totals.Levels)
+	}
 	rt.components = open(runfolder.TableComponents, runfolder.ComponentColumns())
 	rt.factors = open(runfolder.TableSeasonalFactors, runfolder.FactorColumns())
 	rt.problems = open(runfolder.TableProblems, runfolder.ProblemColumns())
@@ -87,6 +93,10 @@ func (rt *runTables) startSinks(cal calendar.Calendar, e *evaluate.Evaluation) {
 		runfolder.NewSink(func(r *forecast.Result) error { return l.WriteComponents(rt.components, r, cal) }),
 		runfolder.NewSink(func(r *forecast.Result) error { return l.WriteFactors(rt.factors, r, cal) }),
 		runfolder.NewSink(rt.writeProblems),
+	}
+	if rt.totals != nil {
+		n := rt.totalLevels
+		rt.results = append(rt.results, runfolder.NewSink(func(r *forecast.Result) error { return evaluate.WriteTotals(rt.totals, r, cal, n) }))
 	}
 }
 
@@ -130,6 +140,9 @@ func (rt *runTables) tables() []*runfolder.TableWriter {
 	out := []*runfolder.TableWriter{rt.forecasts, rt.components, rt.factors, rt.problems}
 	if rt.accuracy != nil {
 		out = append(out, rt.accuracy, rt.choices)
+	}
+	if rt.totals != nil {
+		out = append(out, rt.totals)
 	}
 	return out
 }

@@ -24,6 +24,7 @@ type canonicalSpec struct {
 	Backtest      *canonicalBacktest  `json:"backtest,omitempty"`
 	Selection     *canonicalSelect    `json:"selection,omitempty"`
 	Intervals     *canonicalIntervals `json:"intervals,omitempty"`
+	Totals        *canonicalTotals    `json:"totals,omitempty"`
 	Report        *canonicalReport    `json:"report,omitempty"`
 	Problems      *canonicalProblems  `json:"problems,omitempty"`
 }
@@ -53,6 +54,14 @@ type canonicalIntervals struct {
 	Levels     []int  `json:"levels"`
 	Source     string `json:"source"`
 	AllMethods bool   `json:"all_methods"`
+	// omitempty keeps the canonical form (and hash) of specs written
+	// before the option existed.
+	AllowNegative bool `json:"allow_negative,omitempty"`
+}
+
+type canonicalTotals struct {
+	LeadTimes []int `json:"lead_times"`
+	Levels    []int `json:"levels"`
 }
 
 type canonicalLimits struct {
@@ -145,7 +154,10 @@ func (s *Spec) Canonical() []byte {
 		c.Selection = &canonicalSelect{Metric: s.Selection.Metric, Combine: s.Selection.Combine, Fallback: s.Selection.Fallback, Route: s.Selection.Route}
 	}
 	if len(s.Intervals.Levels) > 0 {
-		c.Intervals = &canonicalIntervals{Levels: s.Intervals.Levels, Source: s.Intervals.Source, AllMethods: s.Intervals.AllMethods}
+		c.Intervals = &canonicalIntervals{Levels: s.Intervals.Levels, Source: s.Intervals.Source, AllMethods: s.Intervals.AllMethods, AllowNegative: s.Intervals.AllowNegative}
+	}
+	if len(s.Totals.LeadTimes) > 0 {
+		c.Totals = &canonicalTotals{LeadTimes: s.Totals.LeadTimes, Levels: s.Totals.Levels}
 	}
 	if r := s.Report; r != nil {
 		c.Report = &canonicalReport{Series: r.Series, Picks: r.Picks}

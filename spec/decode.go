@@ -330,6 +330,7 @@ func (d *decoder) spec(root *yaml.Node) *Spec {
 	}
 	var (
 		backtestNode, selectionNode, intervalsNode *yaml.Node
+		totalsNode                                 *yaml.Node
 		decompNode, seasonNode                     *yaml.Node
 		methodNodes                                []*yaml.Node
 		haveDecomp                                 bool
@@ -419,6 +420,10 @@ func (d *decoder) spec(root *yaml.Node) *Spec {
 		{"intervals", false, func(n *yaml.Node, p string) {
 			intervalsNode = n
 			d.intervals(n, p, &s.Intervals)
+		}},
+		{"totals", false, func(n *yaml.Node, p string) {
+			totalsNode = n
+			d.totals(n, p, &s.Totals)
 		}},
 		{"report", false, func(n *yaml.Node, p string) {
 			r := &Report{Picks: 6}
@@ -532,6 +537,20 @@ func (d *decoder) spec(root *yaml.Node) *Spec {
 	if c := s.Selection.Combine; c != nil {
 		if _, dup := seen[c.Label]; dup {
 			d.errAt(selectionNode, "selection.combine.label", "label %q is already used by a method; give the combination another label", c.Label)
+		}
+	}
+	if totalsNode != nil {
+		switch {
+		case backtestNode == nil:
+			d.errAt(totalsNode, "totals", "quantiles of totals come from backtest errors; add a backtest section")
+		case s.Horizon > 0 && s.Backtest.Horizon > 0:
+			for _, l := range s.Totals.LeadTimes {
+				if l > s.Horizon {
+					d.errAt(totalsNode, "totals.lead_times", "lead time %d is longer than the horizon (%d)", l, s.Horizon)
+				} else if l > s.Backtest.Horizon {
+					d.errAt(totalsNode, "totals.lead_times", "lead time %d is longer than the backtest horizon (%d): its quantiles come from backtest windows at least that long", l, s.Backtest.Horizon)
+				}
+			}
 		}
 	}
 	if intervalsNode != nil && s.Intervals.Source == "empirical" && backtestNode == nil {
@@ -761,7 +780,7 @@ func (d *decoder) columns(n *yaml.Node, path string, c *Columns) {
 		}
 		seen[k] = true
 		if IsOutputColumn(k) {
-			d.errAt(at, p, "key column %q has the name of an output column, so the tables would hold two columns of that name; rename it in the input (reserved, in any letter case: %s, and lower_<level>, upper_<level>)", k, quoteList(OutputColumns))
+			d.errAt(at, p, "key column %q has the name of an output column, so the tables would hold two columns of that name; rename it in the input (reserved, in any letter case: %s, and lower_<level>, upper_<level>, quantile_<level>)", k, quoteList(OutputColumns))
 		}
 	}
 }

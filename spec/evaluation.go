@@ -83,6 +83,20 @@ type Intervals struct {
 	// own forecast variance where it has one, empirical otherwise.
 	Source     string
 	AllMethods bool // intervals for every method, not only the chosen one
+	// AllowNegative lets bounds go below zero for every series. By default
+	// a series whose history never goes below zero gets bounds at or above
+	// zero (its predictive distribution is read as censored at zero).
+	AllowNegative bool
+}
+
+// Totals asks for quantiles of forecast totals over lead times: for each
+// lead time L, the total of the forecast over steps 1..L and the values the
+// actual total stays at or below with each probability in Levels. They come
+// from the errors of totals over L consecutive steps of the backtest
+// windows, so they need a backtest whose horizon reaches every lead time.
+type Totals struct {
+	LeadTimes []int // periods from the first forecast step, each 1 … backtest horizon
+	Levels    []int // probabilities in percent, 1 to 99
 }
 
 func (d *decoder) backtest(n *yaml.Node, path string, b *Backtest) {
@@ -216,19 +230,66 @@ func (d *decoder) intervals(n *yaml.Node, path string, iv *Intervals) {
 			d.enum(n, p, "interval source", IntervalSources, &iv.Source)
 			sourceOK = iv.Source != ""
 		}},
-		{"all_methods", false, func(n *yaml.Node, p string) {
-			sn, ok := d.scalar(n, p, "true or false")
-			if !ok {
-				return
-			}
-			if sn.Tag != "!!bool" {
-				d.errAt(sn, p, "expected true or false, found %s", kindName(sn))
-				return
-			}
-			iv.AllMethods = sn.Value == "true"
-		}},
+		{"all_methods", false, func(n *yaml.Node, p string) { d.boolean(n, p, &iv.AllMethods) }},
+		{"allow_negative", false, func(n *yaml.Node, p string) { d.boolean(n, p, &iv.AllowNegative) }},
 	})
 	if !sourceOK {
 		iv.Source = "invalid" // already reported; keeps the cross-section check quiet
 	}
+}
+
+// boolean decodes true or false.
+func (d *decoder) boolean(n *yaml.Node, p string, dst *bool) {
+	sn, ok := d.scalar(n, p, "true or false")
+	if !ok {
+		return
+	}
+	if sn.Tag != "!!bool" {
+		d.errAt(sn, p, "expected true or false, found %s", kindName(sn))
+		return
+	}
+	*dst = sn.Value == "true"
+}
+
+// intList decodes a non-empty list of distinct integers from lo to hi.
+func (d *decoder) intList(n *yaml.Node, p, what, example string, lo, hi int) []int {
+	n = d.resolve(n)
+	if n == nil {
+		return nil
+	}
+	if n.Kind != yaml.SequenceNode || len(n.Content) == 0 {
+		d.errAt(n, p, "expected a list of %s, such as %s", what, example)
+		return nil
+	}
+	var out []int
+	seen := map[int]bool{}
+	for i, item := range n.Content {
+		var v int
+		ip := fmt.Sprintf("%s[%d]", p, i)
+		if !d.integer(item, ip, fmt.Sprintf("one of the %s (an integer, %d to %d)", what, lo, hi), &v) {
+			continue
+		}
+		if v < lo || v > hi {
+			d.errAt(item, ip, "%s run from %d to %d, found %d", what, lo, hi, v)
+			continue
+		}
+		if seen[v] {
+			d.errAt(item, ip, "%d is listed twice", v)
+			continue
+		}
+		seen[v] = true
+		out = append(out, v)
+	}
+	return out
+}
+
+func (d *decoder) totals(n *yaml.Node, path string, t *Totals) {
+	d.mapping(n, path, "totals", []field{
+		{"lead_times", true, func(n *yaml.Node, p string) {
+			t.LeadTimes = d.intList(n, p, "lead times in periods", "[4, 8, 13]", 1, 100000)
+		}},
+		{"levels", true, func(n *yaml.Node, p string) {
+			t.Levels = d.intList(n, p, "levels in percent", "[50, 80, 95, 99]", 1, 99)
+		}},
+	})
 }

@@ -7,7 +7,7 @@ import (
 
 // OutputColumns is every column name the run folder's tables write besides
 // the key columns (forecasts, components, seasonal_factors, problems,
-// accuracy, choices; schemas/tables.md documents each). A key column may
+// accuracy, choices, totals; schemas/tables.md documents each). A key column may
 // not take any of these names, in any letter case, nor one matched by
 // OutputColumnPattern: the tables would hold two columns of one name.
 //
@@ -27,11 +27,14 @@ var OutputColumns = []string{
 	"mae", "rmse", "mape", "mape_zeros", "smape", "mase", "rmsse", "wape", "bias", "status",
 	// choices
 	"metric", "score", "runner_up", "runner_up_score", "folds", "demand_class", "adi", "cv2", "reason",
+	// totals
+	"lead_time", "first_period", "last_period", "total", "total_source",
 }
 
-// OutputColumnPattern matches the interval bound columns of forecasts
-// (lower_80, upper_95, …), one per level.
-var OutputColumnPattern = regexp.MustCompile(`(?i)^(lower|upper)_[0-9]+$`)
+// OutputColumnPattern matches the columns named per level: the interval
+// bounds of forecasts (lower_80, upper_95, …) and the quantiles of totals
+// (quantile_95).
+var OutputColumnPattern = regexp.MustCompile(`(?i)^(lower|upper|quantile)_[0-9]+$`)
 
 // IsOutputColumn reports whether a key column named name would collide
 // with an output column.

@@ -27,6 +27,7 @@ type Spec struct {
 	Backtest      Backtest  // Folds == 0: no backtest
 	Selection     Selection // used when there is a backtest
 	Intervals     Intervals // no Levels: no intervals
+	Totals        Totals    // no LeadTimes: no totals table
 	Report        *Report   // nil: no HTML report
 	Problems      ProblemDetail
 

@@ -62,6 +62,8 @@ type evaluation struct {
 	route      map[string][]string
 	levels     []int // interval levels; none without intervals
 	source     string
+	leads      []int // totals' lead times; none without totals
+	quantiles  []int // totals' levels
 }
 
 // example is one example spec and what the test knows about it from the
@@ -124,6 +126,7 @@ var examples = []*example{
 				"lumpy":        {"sba", "seasonal_naive", "mean"},
 			},
 			levels: []int{80, 95}, source: "empirical",
+			leads: []int{4, 8, 13}, quantiles: []int{50, 80, 95, 99},
 		},
 	},
 	{
@@ -278,6 +281,9 @@ func (ex *example) tableNames() []string {
 	names := []string{"forecasts", "components", "seasonal_factors", "problems"}
 	if ex.eval != nil {
 		names = append(names, "accuracy", "choices")
+		if len(ex.eval.leads) > 0 {
+			names = append(names, "totals")
+		}
 	}
 	return names
 }
@@ -411,7 +417,7 @@ func (ex *example) on(a, b string) string {
 // {KO} their byte order, {M} the season length, {H} the horizon, {fc},
 // {comp}, {sf}, {prob}, {raw}, {shaped}, {dec}, {deca} the example's
 // views, {acc} and {ch} its accuracy and choices views (with a
-// backtest), {bt} the backtest folds the test expects, {next} and {pos}
+// backtest), {tot} its totals view (with totals), {bt} the backtest folds the test expects, {next} and {pos}
 // its period macros, {fK} the key columns of
 // alias f, {labels} the method labels as a SQL list in spec order,
 // {entries} the same with the combination's label last, {comb} the
@@ -448,6 +454,7 @@ func (ex *example) sql(q string) string {
 		"{pos}", p+"_pos",
 		"{acc}", p+"_acc",
 		"{ch}", p+"_ch",
+		"{tot}", p+"_tot",
 		"{bt}", p+"_bt",
 		"{labels}", "["+strings.Join(labels, ", ")+"]",
 		"{entries}", "["+strings.Join(entries, ", ")+"]",
@@ -577,6 +584,9 @@ func (ex *example) defineViews() error {
 	if ex.eval != nil {
 		if ex.canon.Backtest == nil || ex.canon.Selection == nil {
 			return fmt.Errorf("the spec file has a backtest and a selection, the canonical spec in manifest.json does not")
+		}
+		if len(ex.eval.leads) > 0 {
+			stmts = append(stmts, fmt.Sprintf("CREATE OR REPLACE VIEW {tot} AS SELECT * FROM read_parquet(%s, file_row_number = true)", sqlStr(ex.table("totals"))))
 		}
 		stmts = append(stmts,
 			fmt.Sprintf("CREATE OR REPLACE VIEW {acc} AS SELECT * FROM read_parquet(%s, file_row_number = true)", sqlStr(ex.table("accuracy"))),
@@ -711,6 +721,10 @@ func count(t *testing.T, q string) int64 {
 
 // columns is the expected DuckDB schema of each table after the keys.
 var columns = map[string][][2]string{
+	"totals": {
+		{"method", "VARCHAR"}, {"lead_time", "INTEGER"}, {"first_period", "DATE"}, {"last_period", "DATE"},
+		{"total", "DOUBLE"}, {"total_source", "VARCHAR"},
+	},
 	"forecasts": {
 		{"method", "VARCHAR"}, {"model", "VARCHAR"}, {"period", "DATE"}, {"step", "INTEGER"}, {"value", "DOUBLE"},
 	},
@@ -743,6 +757,13 @@ var columns = map[string][][2]string{
 // intervals.
 func (ex *example) columns(name string) [][2]string {
 	cols := columns[name]
+	if name == "totals" {
+		cols = append([][2]string(nil), cols...)
+		for _, l := range ex.eval.quantiles {
+			cols = append(cols, [2]string{fmt.Sprintf("quantile_%d", l), "DOUBLE"})
+		}
+		return cols
+	}
 	if name != "forecasts" || ex.eval == nil {
 		return cols
 	}
@@ -1183,8 +1204,15 @@ func TestForecasts(t *testing.T) {
 			if m.kind != "classical" {
 				none(t, m.label+": model", ex.sql("SELECT DISTINCT model FROM {fc} WHERE method = "+sqlStr(m.label)+" AND model <> "+sqlStr(m.kind)))
 			}
+			// With bounds or totals asked for, a series whose history
+			// never goes below zero gets no negative forecast (tables.md):
+			// negative values are raised to zero.
+			if ex.eval != nil && (len(ex.eval.levels) > 0 || len(ex.eval.leads) > 0) {
+				want = "CASE WHEN b.min_y >= 0 THEN greatest(" + want + ", 0) ELSE " + want + " END"
+			}
 			q := `
-				WITH b AS (SELECT {K}, any_value(n) AS n, arg_max(y, idx) AS last_y, arg_min(y, idx) AS first_y, avg(y) AS mean_y
+				WITH b AS (SELECT {K}, any_value(n) AS n, arg_max(y, idx) AS last_y, arg_min(y, idx) AS first_y, avg(y) AS mean_y,
+							min(y) AS min_y
 						FROM {shaped} GROUP BY {K})
 				SELECT {fK}, f.step, f.value, ` + want + ` AS want
 				FROM {fc} f LEFT JOIN b ON ` + ex.on("b", "f") + ` ` + join + `

@@ -36,12 +36,10 @@ type Evaluation struct {
 	allMeth bool
 
 	choices []seriesChoice // by series index
-	// errs[label][step] pools the backtest errors of every series, scaled
-	// by each series' in-sample seasonal naive MAE.
-	errs map[string][]*errorHistogram
-	// quantiles[label][step][level] = (lower, upper) scaled quantiles,
-	// computed once pass 1 is done.
-	quantiles map[string][][][2]float64
+	// iv pools the backtest errors of every series per entry, scaled by
+	// each series' in-sample seasonal naive MAE, for bounds and totals
+	// (intervals.go).
+	iv intervalState
 
 	// Leaderboard material: each series' mean MASE per entry, and wins.
 	mase      map[string][]float64
@@ -66,21 +64,15 @@ func New(s *spec.Spec, n int) *Evaluation {
 	}
 	e := &Evaluation{bt: s.Backtest, metric: s.Selection.Metric, combo: s.Selection.Combine,
 		levels: s.Intervals.Levels, source: s.Intervals.Source, allMeth: s.Intervals.AllMethods,
-		choices: make([]seriesChoice, n), errs: map[string][]*errorHistogram{},
-		mase: map[string][]float64{}, wins: map[string]int{}, fallback: s.Selection.Fallback, route: s.Selection.Route}
+		choices: make([]seriesChoice, n),
+		mase:    map[string][]float64{}, wins: map[string]int{}, fallback: s.Selection.Fallback, route: s.Selection.Route}
 	for _, m := range s.Methods {
 		e.labels = append(e.labels, m.Label)
 	}
 	if e.combo != nil {
 		e.labels = append(e.labels, e.combo.Label)
 	}
-	for _, l := range e.labels {
-		h := make([]*errorHistogram, e.bt.Horizon)
-		for i := range h {
-			h[i] = newErrorHistogram()
-		}
-		e.errs[l] = h
-	}
+	e.initIntervals(s)
 	return e
 }
 
@@ -350,7 +342,7 @@ func combineForecasts(kind string, fcs [][]float64) []float64 {
 	return out
 }
 
-// Record is pass 1's emit step for one series: it feeds the histograms, the
+// Record is pass 1's emit step for one series: it feeds the error pools, the
 // leaderboard and the choices, in series order.
 func (e *Evaluation) Record(i int, r *Backtest) {
 	c := seriesChoice{}
@@ -374,19 +366,8 @@ func (e *Evaluation) Record(i int, r *Backtest) {
 		if eb.reason != "" {
 			continue
 		}
-		hist := e.errs[eb.label]
 		for _, f := range eb.folds {
-			scale := f.scores.MASEScale
-			if !(scale > 0) || math.IsInf(scale, 0) {
-				continue
-			}
-			y := r.Series.Values[f.fold.TrainEnd:f.fold.TestEnd]
-			for step := range y {
-				if math.IsNaN(y[step]) || math.IsNaN(f.fc[step]) {
-					continue
-				}
-				hist[step].add((y[step] - f.fc[step]) / scale)
-			}
+			e.recordWindow(eb.label, r.demand, r.Series.Values[f.fold.TrainEnd:f.fold.TestEnd], f.fc, f.scores.MASEScale)
 		}
 	}
 	e.choices[i].problems = r.Problems // written with the series in pass 2

@@ -2,121 +2,271 @@ package evaluate
 
 import (
 	"fmt"
+	"hash/fnv"
 	"math"
 	"strings"
 
 	"gonum.org/v1/gonum/stat/distuv"
 
 	"almanac/engines"
+	"almanac/engines/uncertainty"
 	"almanac/pipeline/forecast"
 	"almanac/pipeline/runfolder"
 	"almanac/spec"
 )
 
-// FinishPass1 turns the pooled error histograms into interval quantiles.
+// How bounds and total quantiles are made (issue 13; the measurements
+// behind each choice are in pipeline/bench/calibration/README.md):
+//
+//   - empirical: the backtest errors of the entry at each step ahead, each
+//     divided by its series' in-sample seasonal naive MAE, pooled across
+//     the run's series of the same demand group (intermittent or lumpy
+//     series apart from the rest, whose errors are shaped differently);
+//     each step pooled with its neighbours on either side
+//     and the spread made to grow with the step (uncertainty.
+//     DefaultSmoothing). Bounds are the forecast plus these quantiles times
+//     the series' scale.
+//   - model: the method's forecast variance with normal quantiles.
+//   - resampled demand: for series classed intermittent or lumpy, the
+//     bootstrap of Willemain, Smart & Schwarz (2004) from the series' own
+//     history, resampleReps paths on a stream seeded from the series key.
+//
+// Every set of bounds is coherent (uncertainty.Bands): it contains the
+// forecast, nests across levels, and for a series whose history never goes
+// below zero it is read from the distribution censored at zero (unless
+// intervals.allow_negative), which interval_source says.
+//
+// Totals over lead times come from the pooled errors of totals over 1..L
+// of each backtest window (uncertainty.Pool, again per entry and demand
+// group), for every series; resampled paths serve an intermittent series
+// when its pool holds fewer than minTotalWindows windows that long or the
+// series has no usable scale. For a series that cannot go below zero the quantiles of a longer
+// lead time are never below those of a shorter one.
+
+// resampleReps is the number of simulated paths per intermittent series.
+const resampleReps = 1000
+
+// minTotalWindows is the fewest backtest windows a pool needs before an
+// intermittent series' totals are read from it rather than from its
+// resampled paths (a run with a handful of slow movers has too few).
+const minTotalWindows = 30
+
+// Interval and total sources, as written to interval_source and
+// total_source.
+const (
+	SourceEmpirical = "empirical"
+	SourceModel     = "model"
+	SourceResampled = "resampled demand"
+	SourceTotals    = "backtest totals"
+	censoredSuffix  = ", censored at 0"
+)
+
+// intervalState is what pass 1 pools for bounds and totals.
+type intervalState struct {
+	horizon int                           // the forecast horizon
+	probs   []float64                     // the probabilities the bands read
+	leads   []int                         // totals' lead times
+	pools   map[poolKey]*uncertainty.Pool // by entry label and demand group
+	stepQ   map[poolKey][][]float64       // the same, after pass 1
+}
+
+// poolKey names one pool: an entry and a demand group.
+type poolKey struct {
+	label        string
+	intermittent bool // series classed intermittent or lumpy
+}
+
+// intermittentGroup reports whether a series with demand class d (nil: no
+// class, for example a series with negative values) pools with the
+// intermittent and lumpy series.
+func intermittentGroup(d *engines.DemandClass) bool {
+	return d != nil && (d.Class == engines.DemandIntermittent || d.Class == engines.DemandLumpy)
+}
+
+func (e *Evaluation) initIntervals(s *spec.Spec) {
+	e.iv = intervalState{horizon: s.Horizon, probs: uncertainty.BandProbs(s.Intervals.Levels), leads: s.Totals.LeadTimes, pools: map[poolKey]*uncertainty.Pool{}}
+	for _, l := range e.labels {
+		for _, g := range []bool{false, true} {
+			e.iv.pools[poolKey{l, g}] = uncertainty.NewPool(e.bt.Horizon, s.Totals.LeadTimes)
+		}
+	}
+}
+
+// recordWindow pools one backtest window of an entry.
+func (e *Evaluation) recordWindow(label string, d *engines.DemandClass, y, fc []float64, scale float64) {
+	e.iv.pools[poolKey{label, intermittentGroup(d)}].AddWindow(y, fc, scale)
+}
+
+// FinishPass1 turns the pooled errors into smoothed step quantiles.
 func (e *Evaluation) FinishPass1() {
 	if len(e.levels) == 0 {
 		return
 	}
-	e.quantiles = map[string][][][2]float64{}
-	for label, hs := range e.errs {
-		q := make([][][2]float64, len(hs))
-		for step, h := range hs {
-			q[step] = make([][2]float64, len(e.levels))
-			for li, lvl := range e.levels {
-				alpha := 1 - float64(lvl)/100
-				q[step][li] = [2]float64{h.quantile(alpha / 2), h.quantile(1 - alpha/2)}
-			}
-		}
-		e.quantiles[label] = q
+	e.iv.stepQ = map[poolKey][][]float64{}
+	for k, p := range e.iv.pools {
+		e.iv.stepQ[k] = uncertainty.StepQuantiles(p.Steps, e.iv.probs, e.iv.horizon, uncertainty.DefaultSmoothing)
 	}
 }
 
-// intervals fills the interval bounds of one final forecast. Model-based
-// bounds use the method's forecast variance with normal quantiles; empirical
-// bounds add the pooled scaled error quantiles times this series' scale.
-func (e *Evaluation) intervals(f *forecast.Forecast, scale float64, levels []int, source string) {
-	h := len(f.Values)
-	if source == "model" && f.Variance != nil {
-		f.IntervalSource = "model"
-		for _, lvl := range levels {
-			z := distuv.UnitNormal.Quantile(1 - (1-float64(lvl)/100)/2)
-			lo, hi := make([]float64, h), make([]float64, h)
-			for s := 0; s < h; s++ {
-				sd := math.Sqrt(f.Variance[s])
-				lo[s], hi[s] = f.Values[s]-z*sd, f.Values[s]+z*sd
-			}
-			f.Lower, f.Upper = append(f.Lower, lo), append(f.Upper, hi)
-		}
-		return
+// seriesSeed derives a series' random stream from its key, so resampled
+// bounds depend on neither the worker count, the shard nor the run.
+func seriesSeed(key []string) uint64 {
+	h := fnv.New64a()
+	h.Write([]byte("almanac resampled demand"))
+	for _, k := range key {
+		h.Write([]byte{0})
+		h.Write([]byte(k))
 	}
-	if source == "model" || e == nil || e.quantiles == nil {
-		// Model-based intervals only where the method has a variance: an
+	return h.Sum64()
+}
+
+// normalQ is the predictive distribution forecast + z·sd.
+type normalQ struct{ f, variance []float64 }
+
+func (n normalQ) Quantile(s int, p float64) float64 {
+	return n.f[s] + distuv.UnitNormal.Quantile(p)*math.Sqrt(n.variance[s])
+}
+
+// seriesUncertainty is what one series' bounds and totals are made from.
+type seriesUncertainty struct {
+	history      []float64
+	key          []string
+	scale        float64
+	nonNeg       bool
+	intermittent bool               // classed intermittent or lumpy
+	paths        *uncertainty.Paths // resampled futures; nil unless intermittent
+}
+
+func newSeriesUncertainty(s *spec.Spec, r *forecast.Result) *seriesUncertainty {
+	su := &seriesUncertainty{history: r.Series.Values, key: r.Series.Key}
+	sc, _ := engines.PointScores(nil, nil, su.history, s.Calendar.SeasonLength)
+	su.scale = sc.MASEScale
+	su.nonNeg = !s.Intervals.AllowNegative && uncertainty.NonNegative(su.history)
+	if d, ok := classifyDemand(su.history); ok && intermittentGroup(&d) {
+		su.intermittent = true
+		if p, err := uncertainty.Resample(su.history, s.Horizon, resampleReps, seriesSeed(su.key), uncertainty.JitterNone); err == nil {
+			su.paths = p
+		}
+	}
+	return su
+}
+
+func (su *seriesUncertainty) scaleOK() bool { return su.scale > 0 && !math.IsInf(su.scale, 0) }
+
+// intervals fills the bounds of one final forecast (and raises its values
+// to zero where the series cannot go below zero).
+func (e *Evaluation) intervals(f *forecast.Forecast, su *seriesUncertainty, levels []int, source string) {
+	var q uncertainty.Quantiler
+	switch {
+	case su.paths != nil:
+		q, f.IntervalSource = su.paths, SourceResampled
+	case source == "model" && f.Variance != nil:
+		q, f.IntervalSource = normalQ{f.Values, f.Variance}, SourceModel
+	case source == "model" || e == nil || e.iv.stepQ == nil:
+		// Model-based bounds only where the method has a variance: an
 		// empirical stand-in would pool errors across the run's series and
 		// make a sharded run differ from a whole one.
 		return
-	}
-	q := e.quantiles[f.Label]
-	if q == nil || !(scale > 0) || math.IsInf(scale, 0) {
-		return
-	}
-	f.IntervalSource = "empirical"
-	for li := range levels {
-		lo, hi := make([]float64, h), make([]float64, h)
-		for s := 0; s < h; s++ {
-			step := min(s, len(q)-1) // past the backtest horizon, the last step's spread
-			lo[s] = f.Values[s] + q[step][li][0]*scale
-			hi[s] = f.Values[s] + q[step][li][1]*scale
+	default:
+		sq := e.iv.stepQ[poolKey{f.Label, su.intermittent}]
+		if sq == nil || !su.scaleOK() || math.IsNaN(sq[0][0]) {
+			return
 		}
-		f.Lower, f.Upper = append(f.Lower, lo), append(f.Upper, hi)
+		q, f.IntervalSource = &uncertainty.Additive{Forecast: f.Values, Scale: su.scale, Probs: e.iv.probs, Q: sq}, SourceEmpirical
+	}
+	f.Values, f.Lower, f.Upper = uncertainty.Bands(f.Values, levels, q, su.nonNeg)
+	if su.nonNeg && f.IntervalSource != SourceResampled {
+		f.IntervalSource += censoredSuffix
 	}
 }
 
-// errorHistogram counts scaled errors in bins of width histWidth over
-// [-histRange, histRange]; values beyond fall into the end bins. Counting is
-// order-free, so the quantiles do not depend on the worker count.
-type errorHistogram struct {
-	counts []int32
-	n      int64
-}
-
-const (
-	histWidth = 0.01
-	histRange = 50.0
-)
-
-func newErrorHistogram() *errorHistogram {
-	return &errorHistogram{counts: make([]int32, int(2*histRange/histWidth)+1)}
-}
-
-func (h *errorHistogram) add(v float64) {
-	i := int(math.Round((v + histRange) / histWidth))
-	i = max(0, min(i, len(h.counts)-1))
-	h.counts[i]++
-	h.n++
-}
-
-// quantile returns the centre of the bin holding the p-quantile.
-func (h *errorHistogram) quantile(p float64) float64 {
-	if h.n == 0 {
-		return math.NaN()
-	}
-	target := p * float64(h.n)
-	var cum float64
-	for i, c := range h.counts {
-		cum += float64(c)
-		if cum >= target && c > 0 {
-			return float64(i)*histWidth - histRange
+// totals computes the totals rows of the chosen forecast f.
+func (e *Evaluation) totals(f *forecast.Forecast, su *seriesUncertainty, levels []int) []forecast.Total {
+	fc := f.Values
+	if su.nonNeg {
+		fc = append([]float64(nil), fc...)
+		for i := range fc {
+			fc[i] = max(fc[i], 0)
 		}
 	}
-	return histRange
+	pool := e.iv.pools[poolKey{f.Label, su.intermittent}]
+	var out []forecast.Total
+	for k, l := range e.iv.leads {
+		t := forecast.Total{Label: f.Label, Lead: l, Total: math.NaN()}
+		if l <= len(fc) {
+			sum := 0.0
+			for _, v := range fc[:l] {
+				sum += v
+			}
+			t.Total = sum
+		}
+		switch {
+		case math.IsNaN(t.Total):
+		case pool != nil && su.scaleOK() && (pool.Totals[k].N() >= minTotalWindows || (pool.Totals[k].N() > 0 && su.paths == nil)):
+			total := t.Total
+			t.Quantiles = uncertainty.TotalQuantiles(levels, func(p float64) float64 { return pool.TotalQuantile(k, total, su.scale, p) }, su.nonNeg)
+			t.Source = SourceTotals
+			if su.nonNeg {
+				t.Source += censoredSuffix
+			}
+		case su.paths != nil && l <= su.paths.H:
+			t.Quantiles = uncertainty.TotalQuantiles(levels, func(p float64) float64 { return su.paths.TotalQuantile(l, p) }, su.nonNeg)
+			t.Source = SourceResampled
+		}
+		out = append(out, t)
+	}
+	if su.nonNeg {
+		monotoneInLead(out)
+	}
+	return out
+}
+
+// monotoneInLead raises each quantile of a total to the same quantile of
+// every shorter lead time's total: demand that cannot go below zero only
+// adds up.
+func monotoneInLead(ts []forecast.Total) {
+	for i := range ts {
+		for j := range ts {
+			if ts[j].Lead < ts[i].Lead && ts[i].Quantiles != nil && ts[j].Quantiles != nil {
+				for k := range ts[i].Quantiles {
+					ts[i].Quantiles[k] = max(ts[i].Quantiles[k], ts[j].Quantiles[k])
+				}
+			}
+		}
+	}
+}
+
+// raiseToZero raises every negative forecast value to zero: with bounds
+// or totals asked for, a series whose history never goes below zero gets
+// no negative forecast from any method (before the combination is made,
+// so that it stays the mean of what its members show).
+func raiseToZero(fs []forecast.Forecast) {
+	for k := range fs {
+		var raised []float64
+		for j, v := range fs[k].Values {
+			if v < 0 {
+				if raised == nil {
+					raised = append([]float64(nil), fs[k].Values...)
+				}
+				raised[j] = 0
+			}
+		}
+		if raised != nil {
+			fs[k].Values = raised
+		}
+	}
 }
 
 // Finish adds what the evaluation decided to series i's final forecasts:
-// the combination entry, the chosen flag, and prediction intervals. e may
-// be nil (no backtest): model-based intervals are still added.
+// the combination entry, the chosen flag, prediction intervals and the
+// totals of the chosen entry. e may be nil (no backtest): model-based
+// intervals (and resampled ones for intermittent series) are still added.
 func (e *Evaluation) Finish(s *spec.Spec, i int, r *forecast.Result) {
 	levels := s.Intervals.Levels
+	wantTotals := e != nil && len(e.iv.leads) > 0
+	if (len(levels) > 0 || wantTotals) && !s.Intervals.AllowNegative && uncertainty.NonNegative(r.Series.Values) {
+		raiseToZero(r.Forecasts)
+	}
 	var choice seriesChoice
 	if e != nil {
 		choice = e.choices[i]
@@ -140,19 +290,21 @@ func (e *Evaluation) Finish(s *spec.Spec, i int, r *forecast.Result) {
 			}
 		}
 	}
-	if len(levels) == 0 && e == nil {
+	if (len(levels) == 0 && !wantTotals) || r.Series.Skip != "" || forecast.AllMissing(r.Series.Values) {
+		for k := range r.Forecasts {
+			r.Forecasts[k].Chosen = e != nil && r.Forecasts[k].Label == choice.chosen
+		}
 		return
 	}
-	scale := math.NaN()
-	if len(levels) > 0 && r.Series.Skip == "" {
-		sc, _ := engines.PointScores(nil, nil, r.Series.Values, s.Calendar.SeasonLength)
-		scale = sc.MASEScale
-	}
+	su := newSeriesUncertainty(s, r)
 	for k := range r.Forecasts {
 		f := &r.Forecasts[k]
 		f.Chosen = e != nil && f.Label == choice.chosen
 		if len(levels) > 0 && (e == nil || f.Chosen || s.Intervals.AllMethods) {
-			e.intervals(f, scale, levels, s.Intervals.Source)
+			e.intervals(f, su, levels, s.Intervals.Source)
+		}
+		if wantTotals && f.Chosen {
+			r.Totals = e.totals(f, su, s.Totals.Levels)
 		}
 	}
 }

@@ -28,6 +28,17 @@ type Result struct {
 	Decomp    *engines.Decomposition
 	Forecasts []Forecast
 	Problems  []runfolder.Problem
+	Totals    []Total // the chosen entry's lead-time totals (spec totals)
+}
+
+// Total is one lead time's line of the totals table: the chosen entry's
+// forecast total over steps 1..Lead and the quantiles of that total.
+type Total struct {
+	Label     string
+	Lead      int
+	Total     float64
+	Quantiles []float64 // one per totals level, in spec order; nil when none could be made
+	Source    string    // total_source; "" with no quantiles
 }
 
 // Forecast is one method's (or the combination's) forecast of one series.

@@ -18,6 +18,7 @@ const (
 	TableProblems        = "problems"
 	TableAccuracy        = "accuracy"
 	TableChoices         = "choices"
+	TableTotals          = "totals"
 )
 
 // Column names of the tables.
@@ -32,6 +33,11 @@ const (
 	ColDecomposition  = "decomposition"
 	ColDemandClass    = "demand_class"
 	ColFactor         = "factor"
+	ColFirstPeriod    = "first_period"
+	ColLastPeriod     = "last_period"
+	ColLeadTime       = "lead_time"
+	ColTotal          = "total"
+	ColTotalSource    = "total_source"
 	ColFold           = "fold"
 	ColFolds          = "folds"
 	ColForm           = "form"
@@ -75,6 +81,27 @@ func ColLower(level int) string { return fmt.Sprintf("lower_%d", level) }
 
 // ColUpper names the upper interval bound of a level: upper_80.
 func ColUpper(level int) string { return fmt.Sprintf("upper_%d", level) }
+
+// ColQuantile names a quantile of a lead-time total in the totals table:
+// quantile_95.
+func ColQuantile(level int) string { return fmt.Sprintf("quantile_%d", level) }
+
+// TotalsColumns is the totals table's layout for a spec: a quantile column
+// per totals level, in spec order.
+func TotalsColumns(s *spec.Spec) []Column {
+	cols := []Column{
+		{ColMethod, colString, false},
+		{ColLeadTime, colInt, false},
+		{ColFirstPeriod, colDate, false},
+		{ColLastPeriod, colDate, false},
+		{ColTotal, colFloat, true},
+		{ColTotalSource, colString, true},
+	}
+	for _, l := range s.Totals.Levels {
+		cols = append(cols, Column{ColQuantile(l), colFloat, true})
+	}
+	return cols
+}
 
 // ForecastColumns is the forecasts table's layout for a spec: with a
 // backtest it says which entry was chosen; with intervals it has a lower and

@@ -6,6 +6,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"sort"
 	"time"
 
 	"gonum.org/v1/plot"
@@ -13,24 +14,15 @@ import (
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 	"gonum.org/v1/plot/vg/vgimg"
+
+	"almanac/pipeline/review/look"
 )
 
 // chartDPI is the resolution the chart is drawn at; sizes are in pixels.
 const chartDPI = 96
 
-var (
-	inkHistory = color.RGBA{R: 0x33, G: 0x33, B: 0x33, A: 0xff}
-	inkTrend   = color.RGBA{R: 0x2a, G: 0x7f, B: 0x62, A: 0xff}
-	// One ink per forecast shown, reused in turn.
-	inkForecast = []color.RGBA{
-		{R: 0xc8, G: 0x5a, B: 0x19, A: 0xff},
-		{R: 0x3b, G: 0x5b, B: 0xa9, A: 0xff},
-		{R: 0x8e, G: 0x3b, B: 0x8f, A: 0xff},
-		{R: 0xb0, G: 0x8d, B: 0x1a, A: 0xff},
-		{R: 0x1f, G: 0x8a, B: 0x9e, A: 0xff},
-		{R: 0x9e, G: 0x2b, B: 0x3a, A: 0xff},
-	}
-)
+// px converts pixels at chartDPI to the plot's length unit.
+func px(v float64) vg.Length { return vg.Length(v) * vg.Inch / chartDPI }
 
 // xOf places a period on the chart's x axis, in seconds since 1970.
 func xOf(t time.Time) float64 { return float64(t.Unix()) }
@@ -96,13 +88,21 @@ func buildChart(sd *seriesData, opt Options) (*plot.Plot, error) {
 	p.Y.Label.Text = "value"
 	p.Legend.Top = true
 	p.Legend.Left = true
+	p.BackgroundColor = look.Paper.RGBA()
 	p.Add(plotter.NewGrid())
 
 	fcs := sd.forecastsShown(opt)
-	// Interval bands first, under the lines: widest level lightest.
+	// Interval bands first, under the lines, in almanac's look (package
+	// look, shared with the report): the narrowest level filled, each
+	// wider one its two edges, dotted.
+	asc := make([]int, len(sd.levels))
+	for i := range asc {
+		asc[i] = i
+	}
+	sort.SliceStable(asc, func(a, b int) bool { return sd.levels[asc[a]] < sd.levels[asc[b]] })
 	for k, f := range fcs {
-		ink := inkForecast[k%len(inkForecast)]
-		for li := range sd.levels {
+		ink := look.Inks[k%len(look.Inks)]
+		for rank, li := range asc {
 			var upper, lower plotter.XYs
 			for _, r := range f.rows {
 				if math.IsNaN(r.lower[li]) || math.IsNaN(r.upper[li]) {
@@ -115,20 +115,37 @@ func buildChart(sd *seriesData, opt Options) (*plot.Plot, error) {
 			if len(upper) < 2 {
 				continue
 			}
-			ring := append(plotter.XYs{}, upper...)
-			for i := len(lower) - 1; i >= 0; i-- {
-				ring = append(ring, lower[i])
+			name := fmt.Sprintf("%s %d%%", f.label, sd.levels[li])
+			if rank == 0 {
+				ring := append(plotter.XYs{}, upper...)
+				for i := len(lower) - 1; i >= 0; i-- {
+					ring = append(ring, lower[i])
+				}
+				poly, err := plotter.NewPolygon(ring)
+				if err != nil {
+					return nil, err
+				}
+				poly.Color = look.BandFill(ink).RGBA()
+				poly.LineStyle.Width = 0
+				p.Add(poly)
+				p.Legend.Add(name, poly)
+				continue
 			}
-			poly, err := plotter.NewPolygon(ring)
-			if err != nil {
-				return nil, err
+			for e, edge := range []plotter.XYs{upper, lower} {
+				l, err := plotter.NewLine(edge)
+				if err != nil {
+					return nil, err
+				}
+				l.LineStyle.Color = ink.RGBA()
+				l.LineStyle.Width = px(look.FenceWidth)
+				for _, d := range look.FenceDash(rank) {
+					l.LineStyle.Dashes = append(l.LineStyle.Dashes, px(d))
+				}
+				p.Add(l)
+				if e == 0 {
+					p.Legend.Add(name, l)
+				}
 			}
-			// Alpha falls with the level: the 95% band is fainter than the 80%.
-			a := uint8(40 + 60*(1-float64(sd.levels[li])/100)*2)
-			poly.Color = color.NRGBA{R: ink.R, G: ink.G, B: ink.B, A: a}
-			poly.LineStyle.Width = 0
-			p.Add(poly)
-			p.Legend.Add(fmt.Sprintf("%s %d%%", f.label, sd.levels[li]), poly)
 		}
 	}
 
@@ -138,10 +155,14 @@ func buildChart(sd *seriesData, opt Options) (*plot.Plot, error) {
 	for i, h := range sd.hist {
 		xs[i], obs[i], trend[i] = xOf(h.period), h.observed, h.trend
 	}
-	if err := addLine(p, "observed", xs, obs, inkHistory, vg.Points(1.2), nil); err != nil {
+	if err := addLine(p, "observed", xs, obs, look.History.RGBA(), px(look.HistoryWidth), nil); err != nil {
 		return nil, err
 	}
-	if err := addLine(p, "trend", xs, trend, inkTrend, vg.Points(1.6), []vg.Length{vg.Points(5), vg.Points(3)}); err != nil {
+	var trendDash []vg.Length
+	for _, d := range look.TrendDash {
+		trendDash = append(trendDash, px(d))
+	}
+	if err := addLine(p, "trend", xs, trend, look.Trend.RGBA(), px(2), trendDash); err != nil {
 		return nil, err
 	}
 	for k, f := range fcs {
@@ -160,8 +181,24 @@ func buildChart(sd *seriesData, opt Options) (*plot.Plot, error) {
 		if f.chosen {
 			name += " (chosen)"
 		}
-		if err := addLine(p, name, fx, fy, inkForecast[k%len(inkForecast)], vg.Points(1.8), nil); err != nil {
+		ink := look.Inks[k%len(look.Inks)].RGBA()
+		if err := addLine(p, name, fx, fy, ink, px(look.ForecastWidth), nil); err != nil {
 			return nil, err
+		}
+		// Square markers on the forecast steps, as in the report.
+		var pts plotter.XYs
+		for _, r := range f.rows {
+			if !math.IsNaN(r.value) {
+				pts = append(pts, plotter.XY{X: xOf(r.period), Y: r.value})
+			}
+		}
+		if len(pts) > 0 && len(pts) <= 60 {
+			sc, err := plotter.NewScatter(pts)
+			if err != nil {
+				return nil, err
+			}
+			sc.GlyphStyle = draw.GlyphStyle{Color: ink, Radius: px(look.MarkerSize / 2), Shape: draw.BoxGlyph{}}
+			p.Add(sc)
 		}
 	}
 	// Head room above the data, so the legend (top left) covers none of it.

@@ -198,6 +198,9 @@ type seriesData struct {
 	levels   []int
 	fcs      []methodFC
 	problems []problemRow
+	// the totals table's rows of the series, and its levels
+	totals      []totalRow
+	totalLevels []int
 }
 
 func (sd *seriesData) hasBacktest() bool { return sd.eval.Backtest != nil }
@@ -231,7 +234,7 @@ func load(run *runfolder.Run, key []string, opt Options) (*seriesData, error) {
 	sd.key = key
 
 	tables := map[string]*runfolder.Table{}
-	for _, name := range []string{runfolder.TableForecasts, runfolder.TableComponents, runfolder.TableSeasonalFactors, runfolder.TableAccuracy, runfolder.TableChoices, runfolder.TableProblems} {
+	for _, name := range []string{runfolder.TableForecasts, runfolder.TableComponents, runfolder.TableSeasonalFactors, runfolder.TableAccuracy, runfolder.TableChoices, runfolder.TableProblems, runfolder.TableTotals} {
 		if !run.HasTable(name) {
 			continue
 		}
@@ -284,6 +287,11 @@ func load(run *runfolder.Run, key []string, opt Options) (*seriesData, error) {
 	}
 	if t := tables[runfolder.TableProblems]; t != nil {
 		loadProblems(sd, t)
+	}
+	if t := tables[runfolder.TableTotals]; t != nil {
+		if err := loadTotals(sd, t); err != nil {
+			return nil, err
+		}
 	}
 	for _, t := range tables {
 		if err := t.Err(); err != nil {

@@ -880,17 +880,18 @@ func TestExplainWithoutBacktest(t *testing.T) {
 	// rows carry.
 	var labels []string
 	withModel := 0
-	bounded := map[string]bool{}
+	bounded := map[string]string{} // method → interval_source
 	for _, i := range rowsFor(tb.forecasts, tb.keys, key) {
 		m := str(tb.forecasts, "method", i)
 		if len(labels) == 0 || labels[len(labels)-1] != m {
 			labels = append(labels, m)
 		}
 		if src, ok := tb.forecasts.Str("interval_source", i); ok {
-			if src != "model" {
+			// Model bounds, read as censored at zero for this positive series.
+			if src != "model, censored at 0" {
 				t.Fatalf("fixture: interval source %q", src)
 			}
-			bounded[m] = true
+			bounded[m] = src
 		}
 	}
 	var fcBlocks []block
@@ -905,14 +906,14 @@ func TestExplainWithoutBacktest(t *testing.T) {
 	for k, m := range labels {
 		b := fcBlocks[k]
 		wantTitle := "forecast · " + m + " · no intervals"
-		if bounded[m] {
-			wantTitle = "forecast · " + m + " · intervals: model"
+		if bounded[m] != "" {
+			wantTitle = "forecast · " + m + " · intervals: " + bounded[m]
 			withModel++
 		}
 		if b.title != wantTitle {
 			t.Errorf("forecast title %q, want %q", b.title, wantTitle)
 		}
-		checkForecast(t, c, tb, key, m, b, bounded[m])
+		checkForecast(t, c, tb, key, m, b, bounded[m] != "")
 	}
 	if withModel == 0 {
 		t.Error("fixture: no method has model intervals")

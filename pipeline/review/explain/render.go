@@ -272,6 +272,7 @@ func render(out io.Writer, sd *seriesData, opt Options) error {
 	renderChoice(w, sd)
 	renderModels(w, sd, opt)
 	renderForecasts(w, sd, shownFC)
+	renderTotals(w, sd)
 	if len(sd.problems) > 0 {
 		section(w, "problems")
 		g := &grid{left: 4}

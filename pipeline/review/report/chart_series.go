@@ -6,6 +6,8 @@ import (
 	"sort"
 	"strings"
 	"time"
+
+	"almanac/pipeline/review/look"
 )
 
 // seriesChart draws a series' history, trend, drawn forecast with its
@@ -127,7 +129,9 @@ func drawBands(s *svg, d *seriesData, levels, lv []int, xs, ys linear, freq stri
 			order = append(order, j)
 		}
 	}
-	sort.Slice(order, func(a, b int) bool { return levels[order[a]] > levels[order[b]] })
+	// The look (package look): the narrowest level a filled band, each
+	// wider one its two edges, dotted, gaps longer the wider the level.
+	sort.Slice(order, func(a, b int) bool { return levels[order[a]] < levels[order[b]] })
 	for rank, j := range order {
 		lo := make([]float64, len(d.forecast))
 		up := make([]float64, len(d.forecast))
@@ -137,9 +141,15 @@ func drawBands(s *svg, d *seriesData, levels, lv []int, xs, ys linear, freq stri
 				lo[i], up[i] = math.NaN(), math.NaN()
 			}
 		}
-		if path := bandOf(fx, lo, up); path != "" {
-			op := 0.14 + 0.14*float64(rank)
-			s.raw(`<path d="%s" fill="%s" fill-opacity="%.2f" stroke="none"><title>%d%% interval</title></path>`, path, colForecast, op, levels[j])
+		if rank == 0 {
+			if path := bandOf(fx, lo, up); path != "" {
+				s.raw(`<path d="%s" fill="%s" stroke="none" class="band"><title>%d%% interval</title></path>`, path, colBand, levels[j])
+			}
+			continue
+		}
+		if path := pathOf(fx, up) + pathOf(fx, lo); path != "" {
+			s.raw(`<path d="%s" fill="none" stroke="%s" stroke-width="%g" stroke-dasharray="%s" class="fence"><title>%d%% interval</title></path>`,
+				path, colForecast, look.FenceWidth, dashOf(look.FenceDash(rank)), levels[j])
 		}
 	}
 	// where the forecast starts
@@ -166,10 +176,10 @@ func drawLines(s *svg, d *seriesData, xs, ys linear, tmin time.Time) {
 			pt[i] = scaleOrNaN(ys, d.trend[i])
 		}
 		if p := pathOf(px, pt); p != "" {
-			s.raw(`<path d="%s" fill="none" stroke="%s" stroke-width="2" stroke-dasharray="7 4"/>`, p, colTrend)
+			s.raw(`<path d="%s" fill="none" stroke="%s" stroke-width="2" stroke-dasharray="%s"/>`, p, colTrend, dashOf(look.TrendDash))
 		}
 		if p := pathOf(px, py); p != "" {
-			s.raw(`<path d="%s" fill="none" stroke="%s" stroke-width="1.4" stroke-linejoin="round"/>`, p, colObserved)
+			s.raw(`<path d="%s" fill="none" stroke="%s" stroke-width="%g" stroke-linejoin="round"/>`, p, colObserved, look.HistoryWidth)
 		}
 	}
 	if len(d.previous) > 0 {
@@ -182,7 +192,7 @@ func drawLines(s *svg, d *seriesData, xs, ys linear, tmin time.Time) {
 			qy = append(qy, scaleOrNaN(ys, p.value))
 		}
 		if p := pathOf(qx, qy); p != "" {
-			s.raw(`<path d="%s" fill="none" stroke="%s" stroke-width="2" stroke-dasharray="2 3"/>`, p, colPrevious)
+			s.raw(`<path d="%s" fill="none" stroke="%s" stroke-width="2" stroke-dasharray="%s"/>`, p, colPrevious, dashOf(look.PreviousDash))
 		}
 	}
 	if len(d.forecast) > 0 {
@@ -193,12 +203,13 @@ func drawLines(s *svg, d *seriesData, xs, ys linear, tmin time.Time) {
 			fy[i] = scaleOrNaN(ys, p.value)
 		}
 		if p := pathOf(fx, fy); p != "" {
-			s.raw(`<path d="%s" fill="none" stroke="%s" stroke-width="2.2" stroke-linejoin="round"/>`, p, colForecast)
+			s.raw(`<path d="%s" fill="none" stroke="%s" stroke-width="%g" stroke-linejoin="round"/>`, p, colForecast, look.ForecastWidth)
 		}
 		if len(d.forecast) <= 60 {
+			m := look.MarkerSize
 			for i := range fx {
 				if !math.IsNaN(fy[i]) {
-					s.raw(`<circle cx="%.1f" cy="%.1f" r="2.4" fill="%s"/>`, fx[i], fy[i], colForecast)
+					s.raw(`<rect x="%.1f" y="%.1f" width="%g" height="%g" fill="%s"/>`, fx[i]-m/2, fy[i]-m/2, m, m, colForecast)
 				}
 			}
 		}
@@ -239,13 +250,17 @@ func seriesDescription(d *seriesData, levels []int, allPeriods int) string {
 		}
 		desc.WriteString(". ")
 		if lv := drawnLevels(d, levels); len(lv) > 0 {
-			fmt.Fprintf(&desc, "Shaded: the %s interval%s. ", joinLevels(lv), map[bool]string{true: "s", false: ""}[len(lv) > 1])
+			sort.Ints(lv)
+			fmt.Fprintf(&desc, "Filled: the %d%% interval. ", lv[0])
+			if len(lv) > 1 {
+				fmt.Fprintf(&desc, "Dotted edges: the %s interval%s. ", joinLevels(lv[1:]), map[bool]string{true: "s", false: ""}[len(lv) > 2])
+			}
 		}
 	} else {
 		desc.WriteString("No forecast. ")
 	}
 	if len(d.previous) > 0 {
-		fmt.Fprintf(&desc, "Dotted grey: the previous run's forecast by %s. ", d.prevWhat)
+		fmt.Fprintf(&desc, "Dotted stone grey: the previous run's forecast by %s. ", d.prevWhat)
 	}
 	return strings.TrimSpace(desc.String())
 }
@@ -260,7 +275,7 @@ func seriesLegend(s *svg, d *seriesData, lv []int, x0 float64) {
 		lx += 30 + float64(textWidth(label, 12)) + 22
 	}
 	if len(d.periods) > 0 {
-		item(func(x float64) { s.line(x, 16, x+24, 16, colObserved, 1.6, "") }, "observed")
+		item(func(x float64) { s.line(x, 16, x+24, 16, colObserved, look.HistoryWidth, "") }, "observed")
 		hasTrend := false
 		for _, v := range d.trend {
 			if !math.IsNaN(v) {
@@ -269,17 +284,25 @@ func seriesLegend(s *svg, d *seriesData, lv []int, x0 float64) {
 			}
 		}
 		if hasTrend {
-			item(func(x float64) { s.line(x, 16, x+24, 16, colTrend, 2, "7 4") }, "trend ("+d.decomp+")")
+			item(func(x float64) { s.line(x, 16, x+24, 16, colTrend, 2, dashOf(look.TrendDash)) }, "trend ("+d.decomp+")")
 		}
 	}
 	if len(d.forecast) > 0 {
-		item(func(x float64) { s.line(x, 16, x+24, 16, colForecast, 2.2, "") }, "forecast: "+d.method)
-		for rank, l := range sortedDesc(lv) {
+		item(func(x float64) {
+			s.line(x, 16, x+24, 16, colForecast, look.ForecastWidth, "")
+			m := look.MarkerSize
+			s.rect(x+12-m/2, 16-m/2, m, m, colForecast, "")
+		}, "forecast: "+d.method)
+		asc := append([]int(nil), lv...)
+		sort.Ints(asc)
+		for rank, l := range asc {
 			item(func(x float64) {
-				// inner bands lie over the outer ones: show the sum
-				for r := 0; r <= rank; r++ {
-					s.rect(x, 10, 24, 12, colForecast, fmt.Sprintf(` fill-opacity="%.2f"`, 0.14+0.14*float64(r)))
+				if rank == 0 {
+					s.rect(x, 10, 24, 12, colBand, "")
+					return
 				}
+				s.line(x, 11, x+24, 11, colForecast, look.FenceWidth, dashOf(look.FenceDash(rank)))
+				s.line(x, 21, x+24, 21, colForecast, look.FenceWidth, dashOf(look.FenceDash(rank)))
 			}, fmt.Sprintf("%d%% interval", l))
 		}
 	}
@@ -307,12 +330,6 @@ func drawnLevels(d *seriesData, levels []int) []int {
 			}
 		}
 	}
-	return out
-}
-
-func sortedDesc(v []int) []int {
-	out := append([]int(nil), v...)
-	sort.Sort(sort.Reverse(sort.IntSlice(out)))
 	return out
 }
 

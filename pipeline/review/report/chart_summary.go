@@ -1,6 +1,8 @@
 package report
 
 import (
+	"almanac/pipeline/review/look"
+
 	"fmt"
 	"math"
 	"sort"
@@ -93,7 +95,7 @@ func leaderboardChart(id string, entries []lbEntry) string {
 		} else {
 			fill := colBar
 			if e.lowest {
-				fill = "#2f5477"
+				fill = look.History.Hex()
 			}
 			s.rect(ax0, cy-barH/2, xs.at(e.mean)-ax0, barH, fill, "")
 			end := xs.at(e.mean)

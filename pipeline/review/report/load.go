@@ -114,6 +114,7 @@ type seriesData struct {
 	prevWhat string    // the previous run's entry label
 	factors  []factor
 	problems []problemRow
+	totals   []totalRow // the totals table's rows, when the run has one
 }
 
 // change is how much one series' chosen forecast moved since the
@@ -128,26 +129,27 @@ type change struct {
 
 // model is everything the page shows.
 type model struct {
-	opt        Options
-	run        *runfolder.Run
-	spec       *runfolder.CanonicalSpec
-	specX      specExtras
-	extra      extras
-	keys       []string
-	levels     []int // interval levels with lower_/upper_ columns in forecasts
-	problems   []problemRow
-	choices    []choice // in table order; nil without a backtest
-	metric     string
-	series     []*seriesData
-	missing    []string // requested series not in the run
-	worst      []choice
-	changes    []change // most changed first; nil without a previous run
-	prevDir    string
-	prevOnly   int // series only in the previous run
-	newOnly    int // series only in this run
-	prevErr    string
-	noPickBy   string // why the automatic picks fell back to the first series
-	methodNote string // Options.Method named no method of the run
+	opt         Options
+	run         *runfolder.Run
+	spec        *runfolder.CanonicalSpec
+	specX       specExtras
+	extra       extras
+	keys        []string
+	levels      []int // interval levels with lower_/upper_ columns in forecasts
+	totalLevels []int // levels of the totals table's quantile_ columns
+	problems    []problemRow
+	choices     []choice // in table order; nil without a backtest
+	metric      string
+	series      []*seriesData
+	missing     []string // requested series not in the run
+	worst       []choice
+	changes     []change // most changed first; nil without a previous run
+	prevDir     string
+	prevOnly    int // series only in the previous run
+	newOnly     int // series only in this run
+	prevErr     string
+	noPickBy    string // why the automatic picks fell back to the first series
+	methodNote  string // Options.Method named no method of the run
 }
 
 // errStop ends a Scan early.

@@ -245,6 +245,9 @@ func (m *model) fillSeries(prev map[string]*drawn) error {
 			s.method, s.model, s.source = d.method, d.model, d.source
 		}
 	}
+	if err := m.loadTotals(r, by, filter); err != nil {
+		return err
+	}
 	if r.HasTable(runfolder.TableSeasonalFactors) {
 		err := r.Scan(runfolder.TableSeasonalFactors, filter(runfolder.ColDecomposition, runfolder.ColForm, runfolder.ColPosition, runfolder.ColFactor, runfolder.ColCount), func(t *runfolder.Table) error {
 			for i := 0; i < t.Rows; i++ {

@@ -141,6 +141,7 @@ func (m *model) renderSeries(p *page) {
 		if len(s.forecast) > 0 {
 			m.renderForecastTable(p, s)
 		}
+		m.renderTotals(p, s)
 		if len(s.problems) > 0 {
 			p.f("<ul class=\"problems\">\n")
 			for _, pr := range s.problems {

@@ -116,7 +116,8 @@ dl.facts dd{margin:0}
 .warn{background:#fff4e0;border-left:4px solid #b15a00;padding:6px 10px}
 figure{margin:10px 0 6px}
 figcaption{font-size:13px;color:#4a4a4a}
-svg.chart{display:block;width:100%;height:auto;max-width:1000px;background:#fff;border:1px solid #e4e1d8}
+table.totals caption{caption-side:top;text-align:left;font-size:14px;color:#4a4a4a;padding:8px 0 4px}
+svg.chart{display:block;width:100%;height:auto;max-width:1000px;background:#fbfaf6;border:1px solid #e4e1d8}
 svg .tick{font-size:12px;fill:#404040}
 svg .axis{font-size:12.5px;fill:#2b2b2b}
 svg .head{font-size:13px;font-weight:600;fill:#1d1d1d}

@@ -3,6 +3,7 @@ package report
 import (
 	"bytes"
 	"context"
+	"fmt"
 	"image/png"
 	"os"
 	"os/exec"
@@ -158,7 +159,11 @@ func TestReportInChromium(t *testing.T) {
 		t.Errorf("only %d of %d sampled pixels differ from the background", differ, total)
 	}
 	// The bar colour of the charts must be on screen: the SVGs drew.
-	if colours[[3]uint32{0x4d, 0x6f, 0x94}] == 0 {
+	var bar [3]uint32
+	if _, err := fmt.Sscanf(colBar, "#%02x%02x%02x", &bar[0], &bar[1], &bar[2]); err != nil {
+		t.Fatal(err)
+	}
+	if colours[bar] == 0 {
 		t.Error("no chart bar colour in the screenshot")
 	}
 	if keep := os.Getenv("ALMANAC_REPORT_SCREENSHOT"); keep != "" {

@@ -148,10 +148,10 @@ func TestGardenReport(t *testing.T) {
 		switch {
 		case p.Stroke == colObserved:
 			observedPath = p.D
-		case p.Stroke == colForecast:
+		case p.Stroke == colForecast && p.Dash == "":
 			forecastPath = p.D
-		case p.Fill == colForecast && p.FillOpacity != "":
-			bands++
+		case p.Fill == colBand || p.Stroke == colForecast && p.Dash != "":
+			bands++ // the filled narrowest band, and the dotted edges of each wider one
 		}
 	}
 	if got := strings.Count(observedPath, "M") + strings.Count(observedPath, "L"); got != obs {
@@ -517,11 +517,11 @@ func TestPreviousRun(t *testing.T) {
 			if p.Stroke == colPrevious && p.Dash == "2 3" {
 				sawPrev = true
 			}
-			if p.Fill == colForecast && p.FillOpacity == "" {
-				t.Error("band without opacity")
+			if p.Fill == colForecast {
+				t.Error("a band filled in the forecast's colour: the narrowest band is filled with the band colour")
 			}
 		}
-		if !strings.Contains(d.Desc.Text, "previous run's forecast") || !strings.Contains(d.Desc.Text, "Shaded: the 90% interval.") {
+		if !strings.Contains(d.Desc.Text, "previous run's forecast") || !strings.Contains(d.Desc.Text, "Filled: the 90% interval.") {
 			t.Errorf("B's description: %q", d.Desc.Text)
 		}
 	}

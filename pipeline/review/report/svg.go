@@ -4,24 +4,37 @@ import (
 	"fmt"
 	"html"
 	"math"
+	"strconv"
 	"strings"
+
+	"almanac/pipeline/review/look"
 )
 
-// Colours, chosen to stay apart for the common colour-vision deficiencies
-// and to print legibly in grey: every series is also told apart by its
-// dash pattern or shape.
-const (
+// Colours: almanac's one palette (package look), shared with explain's
+// chart; every series is also told apart by its dash pattern or shape, so
+// the charts print legibly in grey.
+var (
 	colInk      = "#1d1d1d"
-	colGrid     = "#e3e3e3"
-	colAxis     = "#6b6b6b"
-	colObserved = "#1d1d1d"
-	colTrend    = "#b15a00"
-	colForecast = "#1b5fa6"
-	colPrevious = "#7a7a7a"
-	colBar      = "#4d6f94"
-	colBarAlt   = "#8a6d3b"
-	colBarHi    = "#a33b3b"
+	colGrid     = look.Grid.Hex()
+	colAxis     = look.Axis.Hex()
+	colObserved = look.History.Hex()
+	colTrend    = look.Trend.Hex()
+	colForecast = look.Forecast.Hex()
+	colBand     = look.Band.Hex()
+	colPrevious = look.Previous.Hex()
+	colBar      = look.History.Tint(0.3).Hex()
+	colBarAlt   = look.Forecast.Tint(0.15).Hex()
+	colBarHi    = "#9b2d4a"
 )
+
+// dashOf writes a dash pattern for stroke-dasharray.
+func dashOf(d []float64) string {
+	parts := make([]string, len(d))
+	for i, v := range d {
+		parts[i] = strconv.FormatFloat(v, 'f', -1, 64)
+	}
+	return strings.Join(parts, " ")
+}
 
 // svg builds one inline SVG figure.
 type svg struct {
