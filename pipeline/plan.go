@@ -36,6 +36,9 @@ type Plan struct {
 	Batches int    // key-range batches the run would process
 	First   string // earliest period in the data
 	Last    string // latest period in the data
+	// Guards are what the input guards decided (rows after until, stray
+	// dates and an incomplete last period left out, keys spelled two ways).
+	Guards []string
 }
 
 // Compile checks s against the files and the output folder and compiles
@@ -56,8 +59,8 @@ func Compile(s *spec.Spec, opts Options) (*Plan, error) {
 	p := &Plan{Spec: s, Out: target, Inputs: files, Methods: methods, Decomposer: decomposer, Shard: opts.Shard,
 		Cal: calendar.Calendar{Freq: s.Calendar.Frequency, Season: s.Calendar.SeasonLength}}
 	if opts.Shard.Count > 1 {
-		if opts.Shard.Index < 0 || opts.Shard.Index >= opts.Shard.Count {
-			return nil, fmt.Errorf("shard index %d is outside 0…%d", opts.Shard.Index, opts.Shard.Count-1)
+		if err := runfolder.ValidateShard(opts.Shard.Index, opts.Shard.Count); err != nil {
+			return nil, err
 		}
 	} else if err := runfolder.CheckTarget(target, p.inputs()); err != nil {
 		return nil, err
@@ -92,6 +95,12 @@ func (p *Plan) Count(ctx context.Context, opts Options) error {
 	}
 	defer src.Close()
 	p.Counted, p.Rows, p.Series, p.Batches = true, rs.RowCount, len(rs.Keys), src.Count()
+	for _, n := range rs.Notes {
+		switch n.Code {
+		case runfolder.CodeAfterUntil, runfolder.CodeStrayPeriod, runfolder.CodePartialPeriod, runfolder.CodeKeyVariants:
+			p.Guards = append(p.Guards, n.Code+": "+n.Message)
+		}
+	}
 	p.Periods.Min = 1 << 62
 	lo, hi := int64(math.MaxInt64), int64(math.MinInt64)
 	for b := 0; b < src.Count(); b++ {
@@ -138,7 +147,7 @@ func (p *Plan) Stages() []Stage {
 	read.More = append(read.More, fmt.Sprintf("columns: time %q, value %q, keys %s", s.Columns.Time, s.Columns.Value, listOrNone(s.Columns.Keys)))
 	out = append(out, read)
 	out = append(out, Stage{Name: "shape", Detail: fmt.Sprintf("%s periods, season length %d; rows in one period: %s; missing periods: %s; series end at the %s end",
-		s.Calendar.Frequency, s.Calendar.SeasonLength, s.Shaping.Combine, s.Shaping.Gaps, s.Shaping.End)})
+		s.Calendar.Frequency, s.Calendar.SeasonLength, s.Shaping.Combine, s.Shaping.Gaps, s.Shaping.End), More: p.Guards})
 	split := Stage{Name: "split", Detail: "series by key"}
 	if p.Counted {
 		split.Detail = fmt.Sprintf("%d series", p.Series)

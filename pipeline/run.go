@@ -41,6 +41,13 @@ type Manifest = runfolder.Manifest
 // DataError is bad input data, naming file and line.
 type DataError = ingest.DataError
 
+// MaxShards bounds a sharded run's shard count (see runfolder.MaxShards).
+const MaxShards = runfolder.MaxShards
+
+// CheckSources checks that a spec's sources exist and name its columns,
+// reading headers and schemas only (see ingest.CheckSources).
+func CheckSources(s *spec.Spec) error { return ingest.CheckSources(s) }
+
 // Progress receives the count of series written. Implementations must be
 // safe to call from the goroutine that runs the pipeline.
 type Progress interface {
@@ -64,6 +71,9 @@ type Options struct {
 	// Shard, when Count > 1, runs only this shard's series and writes its
 	// part files into the dataset folder (see runfolder.CommitShard and Combine).
 	Shard Shard
+	// CleanShards lets a shard run remove the parts and manifests that a
+	// run with another shard count left in the dataset folder.
+	CleanShards bool
 
 	// Finish, when set, runs once the tables, manifest and lineage are
 	// staged and before the run folder is committed, with the staging
@@ -135,8 +145,18 @@ func (p *Plan) Run(ctx context.Context, opts Options, started time.Time) (*Summa
 	if x.workers <= 0 {
 		x.workers = runtime.NumCPU()
 	}
+	shardIndex := -1
 	if p.Shard.Count > 1 {
-		if err := runfolder.PrepareDataset(p.Out, p.inputs()); err != nil {
+		shardIndex = p.Shard.Index
+	}
+	unlock, err := runfolder.LockTarget(p.Out, shardIndex)
+	if err != nil {
+		return nil, err
+	}
+	defer unlock()
+	ingest.RemoveStaleSpills()
+	if p.Shard.Count > 1 {
+		if err := runfolder.PrepareDataset(p.Out, p.inputs(), p.Shard.Count, opts.CleanShards); err != nil {
 			return nil, err
 		}
 	}
@@ -149,6 +169,7 @@ func (p *Plan) Run(ctx context.Context, opts Options, started time.Time) (*Summa
 	if err := x.openStaging(); err != nil {
 		return nil, err
 	}
+	defer runfolder.TrackLive(x.staging)()
 	defer func() {
 		if !x.committed {
 			// The run failed and reports why; a staging folder that cannot
@@ -235,15 +256,15 @@ func (x *execution) openTables() error {
 	}
 	x.tables = w
 	// Run-level problems come first in the problems table.
-	for _, msg := range x.rows.Notes {
-		w.problem(runfolder.Problem{Stage: "read", Severity: "warning", Message: msg})
+	for _, p := range x.rows.Notes {
+		w.problem(p)
 	}
 	if n := x.rows.KeyBlanks; n > 0 {
-		w.problem(runfolder.Problem{Stage: "read", Severity: "warning",
+		w.problem(runfolder.Problem{Stage: "read", Severity: "warning", Code: runfolder.CodeEmptyKey,
 			Message: fmt.Sprintf("%d rows have an empty key value; they form series whose key holds an empty string", n)})
 	}
 	if n := x.rows.Missing; n > 0 {
-		w.problem(runfolder.Problem{Stage: "read", Severity: "warning",
+		w.problem(runfolder.Problem{Stage: "read", Severity: "warning", Code: runfolder.CodeMissingValues,
 			Message: fmt.Sprintf("%d rows have an empty or NaN value; they count as missing", n)})
 	}
 	x.work = &forecast.Work{Spec: s, Methods: p.Methods, Decomposer: p.Decomposer,
@@ -334,7 +355,7 @@ func (x *execution) manifest() (*Manifest, error) {
 		GoVersion: runtime.Version(),
 		RunID:     x.runID,
 		Spec: runfolder.ManifestSpec{
-			Name: s.Name, File: s.File, Dir: s.Dir, SHA256: s.Hash(), Canonical: s.Canonical(),
+			Name: s.Name, File: s.File, Dir: s.Dir, DirFromRun: runfolder.DirFromRun(p.Out, s.Dir), SHA256: s.Hash(), Canonical: s.Canonical(),
 		},
 		Inputs:        p.inputs(),
 		RowsRead:      x.rows.RowCount,
@@ -389,6 +410,15 @@ func (x *execution) commit(man *Manifest) error {
 		if err := x.opts.Finish(staging, target); err != nil {
 			return err
 		}
+		// The report depends on the previous run: the manifest records its
+		// hash, so that verify can tell it was not altered.
+		if sum, err := runfolder.HashFile(filepath.Join(staging, runfolder.ReportFile)); err == nil {
+			st, _ := os.Stat(filepath.Join(staging, runfolder.ReportFile))
+			man.Report = &runfolder.TableInfo{Name: "report", File: runfolder.ReportFile, Bytes: st.Size(), SHA256: sum}
+			if err := runfolder.WriteManifest(filepath.Join(staging, runfolder.ManifestFile), man); err != nil {
+				return err
+			}
+		}
 	}
 	if err := runfolder.CommitStaging(staging, target); err != nil {
 		return err
@@ -406,6 +436,10 @@ func openBatches(ctx context.Context, s *spec.Spec, files []ingest.InputFile, ca
 	}
 	rs, err := ingest.Read(ctx, s, files, cal, batchRows, opts.Shard)
 	if err != nil {
+		return nil, nil, err
+	}
+	if err := ingest.Guard(rs, s, cal); err != nil {
+		rs.Close()
 		return nil, nil, err
 	}
 	if n := len(rs.Keys); n > s.Limits.MaxSeries {

@@ -220,18 +220,20 @@ func TestRunWritesTypedTables(t *testing.T) {
 	}
 
 	// Problems: the short series is too short for classical (decompose and
-	// both classical methods); S1/B has zeros, so multiplicative falls back.
+	// both classical methods); S1/B has zeros, so multiplicative falls back:
+	// the default decomposition's warning is one run-level summary row,
+	// last; the method's own stays per series.
 	pr := tables[runfolder.TableProblems]
 	var got []string
 	for i := 0; i < pr.rows; i++ {
-		got = append(got, strings.Join([]string{pr.str("store", i), pr.str("item", i), pr.str("stage", i), pr.str("severity", i), pr.str("method", i)}, " "))
+		got = append(got, strings.Join([]string{pr.str("store", i), pr.str("item", i), pr.str("stage", i), pr.str("severity", i), pr.str("code", i), pr.str("method", i)}, " "))
 	}
 	want := []string{
-		"S1 B decompose warning <null>",
-		"S1 B forecast warning classical_mult",
-		"S2 A decompose error <null>",
-		"S2 A forecast error classical_mult",
-		"S2 A forecast error classical_add",
+		"S1 B forecast warning nonpositive_for_multiplicative classical_mult",
+		"S2 A decompose error short_history <null>",
+		"S2 A forecast error short_history classical_mult",
+		"S2 A forecast error short_history classical_add",
+		"<null> <null> decompose warning nonpositive_for_multiplicative <null>",
 	}
 	if strings.Join(got, "\n") != strings.Join(want, "\n") {
 		t.Errorf("problems:\n%s\nwant:\n%s", strings.Join(got, "\n"), strings.Join(want, "\n"))

@@ -48,7 +48,11 @@ func rowStrings(t *testing.T, path string) []string {
 // intervals: every per-series stage. (Empirical intervals pool errors
 // across the series of a run, so a shard pools across its own series only;
 // see the README.)
-const shardSpec = fixtureSpec + `backtest: {folds: 2}
+//
+// Problems are written one row per series here: the summary rows of
+// problems.detail: summary count within a shard.
+const shardSpec = fixtureSpec + `problems: {detail: series}
+backtest: {folds: 2}
 selection: {combine: {kind: median, top: 3}, route: {intermittent: [seasonal_naive, mean]}}
 intervals: {levels: [80], source: model}
 `

@@ -3,6 +3,9 @@ package pipeline
 import (
 	"errors"
 	"sync"
+	"fmt"
+	"slices"
+	"strings"
 
 	"github.com/apache/arrow-go/v18/arrow/memory"
 
@@ -28,11 +31,26 @@ type runTables struct {
 	layout                                   forecast.Layout
 	backtests                                []*runfolder.Sink[*evaluate.Backtest]
 	results                                  []*runfolder.Sink[*forecast.Result]
+
+	// With problems.detail: summary, the decomposition's per-series
+	// warnings (the decompose stage runs whether or not the spec asks for
+	// it) become one run-level row per code, written last.
+	summarise bool
+	keyNames  []string
+	summary   map[string]*codeSummary
+	codes     []string // summary codes in order of first appearance
+}
+
+type codeSummary struct {
+	series  int
+	key     []string
+	message string
 }
 
 func openTables(dir string, s *spec.Spec, meta map[string]string, mem memory.Allocator) (*runTables, error) {
 	keys := s.Columns.Keys
 	rt := &runTables{methodSeries: map[string]int{},
+		summarise: s.Problems != spec.DetailSeries, keyNames: keys, summary: map[string]*codeSummary{},
 		layout: forecast.Layout{WithChosen: s.Backtest.Folds > 0, Levels: len(s.Intervals.Levels), Decomposition: s.Decomposition.Method}}
 	var err error
 	open := func(name string, cols []runfolder.Column) *runfolder.TableWriter {
@@ -75,14 +93,7 @@ func (rt *runTables) startSinks(cal calendar.Calendar, e *evaluate.Evaluation) {
 		runfolder.NewSink(func(r *forecast.Result) error { return l.WriteForecasts(rt.forecasts, r, cal, rt.methodSeries) }),
 		runfolder.NewSink(func(r *forecast.Result) error { return l.WriteComponents(rt.components, r, cal) }),
 		runfolder.NewSink(func(r *forecast.Result) error { return l.WriteFactors(rt.factors, r, cal) }),
-		runfolder.NewSink(func(r *forecast.Result) error {
-			for _, p := range r.Problems {
-				if err := rt.problem(p); err != nil {
-					return err
-				}
-			}
-			return nil
-		}),
+		runfolder.NewSink(rt.writeProblems),
 	}
 	if rt.totals != nil {
 		n := rt.totalLevels
@@ -146,11 +157,44 @@ func (rt *runTables) abort() {
 	}
 }
 
+// writeProblems writes one series' problems rows, or counts those the
+// summary stands for.
+func (rt *runTables) writeProblems(r *forecast.Result) error {
+	var counted []string
+	for _, p := range r.Problems {
+		if rt.summarise && p.Key != nil && p.Stage == "decompose" && p.Severity == "warning" {
+			cs := rt.summary[p.Code]
+			if cs == nil {
+				cs = &codeSummary{key: p.Key, message: p.Message}
+				rt.summary[p.Code] = cs
+				rt.codes = append(rt.codes, p.Code)
+			}
+			if !slices.Contains(counted, p.Code) {
+				cs.series++
+				counted = append(counted, p.Code)
+			}
+			continue
+		}
+		if err := rt.problem(p); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
 // close drains the sinks and closes the tables at once: each finishes its
 // last row group, footer and fsync beside the others.
 func (rt *runTables) close() error {
 	if err := rt.drain(); err != nil {
 		return err
+	}
+	for _, code := range rt.codes {
+		cs := rt.summary[code]
+		if err := rt.problem(runfolder.Problem{Stage: "decompose", Severity: "warning", Code: code,
+			Message: fmt.Sprintf("%d series: %s (first: %s); one row per series with problems: {detail: series}",
+				cs.series, cs.message, keyLabel(rt.keyNames, cs.key))}); err != nil {
+			return err
+		}
 	}
 	ts := rt.tables()
 	errs := make([]error, len(ts))
@@ -176,4 +220,16 @@ func (rt *runTables) problem(p runfolder.Problem) error {
 		rt.warnings++
 	}
 	return runfolder.WriteProblem(rt.problems, p)
+}
+
+// keyLabel renders a key for messages: depot=North, sku=A-100.
+func keyLabel(names, key []string) string {
+	if len(names) == 0 {
+		return "(the only series)"
+	}
+	parts := make([]string, len(names))
+	for i := range names {
+		parts[i] = names[i] + "=" + key[i]
+	}
+	return strings.Join(parts, ", ")
 }

@@ -5,6 +5,7 @@ import (
 	"bytes"
 	"context"
 	"encoding/json"
+	"errors"
 	"os"
 	"path/filepath"
 	"regexp"
@@ -22,7 +23,7 @@ func TestVerify(t *testing.T) {
 	run := filepath.Join(dir, "out", "run")
 	verify := func() (int, string) {
 		var b bytes.Buffer
-		code, err := Verify(context.Background(), run, &b, 2)
+		code, err := Verify(context.Background(), run, &b, VerifyOptions{Workers: 2})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -46,10 +47,63 @@ func TestVerify(t *testing.T) {
 	bad[len(bad)/2] ^= 0x01
 	os.WriteFile(fc, bad, 0o644)
 	code, out = verify()
-	if code != VerifyDiffers || !strings.Contains(out, "choices.parquet: does not match the manifest") || !strings.Contains(out, "choices.parquet: DIFFERS from the rerun") {
+	if code != VerifyDiffers || !strings.Contains(out, "choices.parquet: DIFFERS from the rerun and from its manifest hash (altered after the run)") || !strings.Contains(out, "result   DIFFERS: 1 file(s)") {
 		t.Fatalf("altered table: code %d\n%s", code, out)
 	}
 	os.WriteFile(fc, orig, 0o644)
+	// An extra file, a table dropped from the manifest, a redirected entry,
+	// a path outside the folder.
+	os.WriteFile(filepath.Join(run, "notes.txt"), []byte("x"), 0o644)
+	if code, out := verify(); code != VerifyDiffers || !strings.Contains(out, "extra    notes.txt: in the run folder but not in its manifest") {
+		t.Fatalf("extra file: code %d\n%s", code, out)
+	}
+	os.Remove(filepath.Join(run, "notes.txt"))
+	manPath := filepath.Join(run, "manifest.json")
+	manOrig, _ := os.ReadFile(manPath)
+	editManifest := func(edit func(m *Manifest)) {
+		var m Manifest
+		json.Unmarshal(manOrig, &m)
+		edit(&m)
+		b, _ := json.Marshal(m)
+		os.WriteFile(manPath, b, 0o644)
+	}
+	editManifest(func(m *Manifest) { m.Tables = m.Tables[1:] })
+	if code, out := verify(); code != VerifyDiffers || !strings.Contains(out, "forecasts.parquet: MISSING from the manifest (the rerun writes it)") || !strings.Contains(out, "extra    forecasts.parquet") {
+		t.Fatalf("dropped entry: code %d\n%s", code, out)
+	}
+	editManifest(func(m *Manifest) { m.Tables[0].File = "components.parquet2" })
+	if code, out := verify(); code != VerifyDiffers || !strings.Contains(out, "forecasts.parquet: the manifest points it at components.parquet2 (REDIRECTED)") {
+		t.Fatalf("redirected entry: code %d\n%s", code, out)
+	}
+	for _, p := range []string{"../../x.parquet", "/etc/passwd", "sub/x.parquet"} {
+		editManifest(func(m *Manifest) { m.Tables[0].File = p })
+		var b bytes.Buffer
+		code, err := Verify(context.Background(), run, &b, VerifyOptions{Workers: 2})
+		var ue *UnusableError
+		if code != VerifyUnusable || !errors.As(err, &ue) || !strings.Contains(err.Error(), "outside the run folder") {
+			t.Fatalf("table path %s: code %d, %v", p, code, err)
+		}
+	}
+	os.WriteFile(manPath, manOrig, 0o644)
+	// A copy of the whole project verifies against its own inputs.
+	moved := filepath.Join(t.TempDir(), "copy")
+	if err := os.CopyFS(moved, os.DirFS(dir)); err != nil {
+		t.Fatal(err)
+	}
+	var mb bytes.Buffer
+	if code, err := Verify(context.Background(), filepath.Join(moved, "out", "run"), &mb, VerifyOptions{Workers: 2}); code != VerifyIdentical || err != nil {
+		t.Fatalf("moved project: %d %v\n%s", code, err, mb.String())
+	}
+	os.WriteFile(filepath.Join(moved, "data", "sales.csv"), []byte("month,store,item,qty\n"), 0o644)
+	mb.Reset()
+	if code, _ := Verify(context.Background(), filepath.Join(moved, "out", "run"), &mb, VerifyOptions{Workers: 2}); code != VerifyInputsChanged || !strings.Contains(mb.String(), "resolved against "+moved) {
+		t.Fatalf("the moved run was verified against the original inputs: %d\n%s", code, mb.String())
+	}
+	// ... unless pointed at another input root.
+	mb.Reset()
+	if code, _ := Verify(context.Background(), filepath.Join(moved, "out", "run"), &mb, VerifyOptions{Workers: 2, InputRoot: dir}); code != VerifyIdentical {
+		t.Fatalf("--input-root: %d\n%s", code, mb.String())
+	}
 	// One changed input byte is detected before any rerun.
 	in := filepath.Join(dir, "data", "sales.csv")
 	data, _ := os.ReadFile(in)

@@ -352,9 +352,7 @@ func TestAgreement(t *testing.T) {
 // reservedProbe is the output column names a key column may not take, as
 // decode.go lists them. The test probes each against both sides; a name added
 // to the decoder and not here goes unchecked, so keep the two lists together.
-var reservedProbe = []string{"method", "model", "period", "step", "value", "decomposition", "form",
-	"observed", "trend", "seasonal", "remainder", "adjusted", "position", "factor", "count",
-	"stage", "severity", "message"}
+var reservedProbe = append(append([]string{}, spec.OutputColumns...), "lower_80", "upper_95", "quantile_95")
 
 const probeSpec = `version: 1
 name: probe
@@ -381,12 +379,14 @@ func TestReservedKeyColumns(t *testing.T) {
 		check(r, false)
 		check(strings.ToUpper(r), false)
 		check(strings.ToUpper(r[:1])+r[1:], false)
-		check(r+"s", true)
+		check(r+"s", spec.IsOutputColumn(r+"s") == false) // "fold" + "s" is itself reserved
 		check("x_"+r, true)
 	}
 	// strings.EqualFold folds ſ (long s) to s.
 	check("ſtep", false)
 	check("depot", true)
+	check("lower_", true)
+	check("upper_bound", true)
 }
 
 // def returns the schema's $defs entry with the given name.
@@ -1217,6 +1217,14 @@ func TestSections(t *testing.T) {
 			func(s *spec.Spec) (any, bool) { return string(s.Shaping.Gaps), true }, ""},
 		{"shaping.end", []string{"shaping: {end: %s}"}, []string{},
 			func(s *spec.Spec) (any, bool) { return string(s.Shaping.End), true }, ""},
+		{"shaping.stray_dates", []string{"shaping: {stray_dates: %s}"}, []string{},
+			func(s *spec.Spec) (any, bool) { return string(s.Shaping.StrayDates), true }, ""},
+		{"shaping.partial_period", []string{"shaping: {partial_period: %s}"}, []string{},
+			func(s *spec.Spec) (any, bool) { return string(s.Shaping.Partial), true }, ""},
+		{"shaping.key_variants", []string{"shaping: {key_variants: %s}"}, []string{},
+			func(s *spec.Spec) (any, bool) { return string(s.Shaping.KeyVariants), true }, ""},
+		{"problems.detail", []string{"problems: {detail: %s}"}, []string{"problems: {}"},
+			func(s *spec.Spec) (any, bool) { return string(s.Problems), true }, ""},
 		{"decomposition.method", []string{"decomposition: {method: %s}"}, []string{"decomposition: {}"},
 			func(s *spec.Spec) (any, bool) { return s.Decomposition.Method, true }, ""},
 		{"limits.max_series", []string{"limits: {max_series: %s}"}, []string{"limits: {}"},
@@ -1293,6 +1301,10 @@ func TestEnumsAndDefaults(t *testing.T) {
 		{"shaping.combine", walk(props, "shaping", "properties", "combine"), spec.CombineRules},
 		{"shaping.gaps", walk(props, "shaping", "properties", "gaps"), spec.GapRules},
 		{"shaping.end", walk(props, "shaping", "properties", "end"), spec.Ends},
+		{"shaping.stray_dates", walk(props, "shaping", "properties", "stray_dates"), spec.StrayRules},
+		{"shaping.partial_period", walk(props, "shaping", "properties", "partial_period"), spec.PartialRules},
+		{"shaping.key_variants", walk(props, "shaping", "properties", "key_variants"), spec.KeyVariantRules},
+		{"problems.detail", walk(props, "problems", "properties", "detail"), spec.ProblemDetails},
 		{"decomposition.method", walk(props, "decomposition", "properties", "method"), spec.DecompositionMethods()},
 		{"backtest.window", walk(props, "backtest", "properties", "window"), spec.Windows},
 		{"selection.metric", walk(props, "selection", "properties", "metric"), spec.Metrics},
@@ -1322,7 +1334,9 @@ func TestEnumsAndDefaults(t *testing.T) {
 		where     string
 		got, want any
 	}{
-		{"shaping", walk(props, "shaping")["default"], map[string]any{"combine": string(spec.DefaultShaping.Combine), "gaps": string(spec.DefaultShaping.Gaps), "end": string(spec.DefaultShaping.End)}},
+		{"shaping", walk(props, "shaping")["default"], map[string]any{"combine": string(spec.DefaultShaping.Combine), "gaps": string(spec.DefaultShaping.Gaps), "end": string(spec.DefaultShaping.End),
+			"stray_dates": string(spec.DefaultShaping.StrayDates), "partial_period": string(spec.DefaultShaping.Partial), "key_variants": string(spec.DefaultShaping.KeyVariants)}},
+		{"problems", walk(props, "problems")["default"], map[string]any{"detail": string(spec.DetailSummary)}},
 		{"limits", walk(props, "limits")["default"], map[string]any{"max_series": spec.DefaultLimits.MaxSeries, "max_periods": spec.DefaultLimits.MaxPeriods}},
 		{"selection", walk(props, "selection")["default"], map[string]any{"metric": spec.DefaultSelection.Metric}},
 		{"selection.combine.label", walk(props, "selection", "properties", "combine", "properties", "label")["default"], "combination"},

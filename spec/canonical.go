@@ -26,6 +26,7 @@ type canonicalSpec struct {
 	Intervals     *canonicalIntervals `json:"intervals,omitempty"`
 	Totals        *canonicalTotals    `json:"totals,omitempty"`
 	Report        *canonicalReport    `json:"report,omitempty"`
+	Problems      *canonicalProblems  `json:"problems,omitempty"`
 }
 
 type canonicalReport struct {
@@ -89,10 +90,28 @@ type canonicalCalendar struct {
 	SeasonLength int    `json:"season_length"`
 }
 
+// canonicalShaping: the options added after the first release appear only
+// when they differ from their defaults, so specs that do not use them keep
+// the hash (and run id) they always had.
 type canonicalShaping struct {
-	Combine string `json:"combine"`
-	Gaps    string `json:"gaps"`
-	End     string `json:"end"`
+	Combine     string `json:"combine"`
+	Gaps        string `json:"gaps"`
+	End         string `json:"end"`
+	Until       string `json:"until,omitempty"`
+	StrayDates  string `json:"stray_dates,omitempty"`
+	Partial     string `json:"partial_period,omitempty"`
+	KeyVariants string `json:"key_variants,omitempty"`
+}
+
+type canonicalProblems struct {
+	Detail string `json:"detail"`
+}
+
+func nonDefault[T ~string](v, def T) string {
+	if v == def {
+		return ""
+	}
+	return string(v)
 }
 
 // canonicalDecomposition is {"method": …, <options>…}; encoding/json sorts
@@ -124,7 +143,11 @@ func (s *Spec) Canonical() []byte {
 			Frequency:    string(s.Calendar.Frequency),
 			SeasonLength: s.Calendar.SeasonLength,
 		},
-		Shaping:       canonicalShaping{Combine: string(s.Shaping.Combine), Gaps: string(s.Shaping.Gaps), End: string(s.Shaping.End)},
+		Shaping: canonicalShaping{Combine: string(s.Shaping.Combine), Gaps: string(s.Shaping.Gaps), End: string(s.Shaping.End),
+			Until:       s.Shaping.Until,
+			StrayDates:  nonDefault(s.Shaping.StrayDates, DefaultShaping.StrayDates),
+			Partial:     nonDefault(s.Shaping.Partial, DefaultShaping.Partial),
+			KeyVariants: nonDefault(s.Shaping.KeyVariants, DefaultShaping.KeyVariants)},
 		Decomposition: canonicalDecomposition(s.Decomposition),
 		Horizon:       s.Horizon,
 		Output:        s.Output,
@@ -148,6 +171,9 @@ func (s *Spec) Canonical() []byte {
 		if c.Report.Series == nil {
 			c.Report.Series = []string{}
 		}
+	}
+	if s.Problems != "" && s.Problems != DetailSummary {
+		c.Problems = &canonicalProblems{Detail: string(s.Problems)}
 	}
 	if c.Columns.Keys == nil {
 		c.Columns.Keys = []string{}

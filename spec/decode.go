@@ -3,6 +3,7 @@ package spec
 import (
 	"errors"
 	"fmt"
+	"io"
 	"math"
 	"os"
 	"path/filepath"
@@ -10,6 +11,7 @@ import (
 	"sort"
 	"strconv"
 	"strings"
+	"time"
 
 	"gopkg.in/yaml.v3"
 )
@@ -26,19 +28,23 @@ var (
 // it returns an ErrorList with every problem found, each with file:line:col.
 // Other errors (the file cannot be read) are returned as they are.
 func Load(path string) (*Spec, error) {
-	info, err := os.Stat(path)
+	f, err := os.Open(path)
 	if err != nil {
 		return nil, fmt.Errorf("spec %s: %w", path, err)
 	}
-	if info.IsDir() {
+	defer f.Close()
+	if info, err := f.Stat(); err == nil && info.IsDir() {
 		return nil, fmt.Errorf("spec %s: is a directory, not a spec file", path)
 	}
-	if info.Size() > MaxSpecBytes {
-		return nil, ErrorList{{File: path, Msg: fmt.Sprintf("spec file is %d bytes; the limit is %d bytes (a spec this large is almost certainly not hand-written)", info.Size(), MaxSpecBytes)}}
-	}
-	src, err := os.ReadFile(path)
+	// Bounded by the bytes actually read, not by stat: a pipe or a device
+	// (/dev/zero) reports no size and would otherwise be read until memory
+	// runs out.
+	src, err := io.ReadAll(io.LimitReader(f, MaxSpecBytes+1))
 	if err != nil {
 		return nil, fmt.Errorf("spec %s: %w", path, err)
+	}
+	if int64(len(src)) > MaxSpecBytes {
+		return nil, ErrorList{{File: path, Msg: fmt.Sprintf("spec file is larger than the limit of %d bytes (reading stopped there; a spec this large is almost certainly not hand-written)", MaxSpecBytes)}}
 	}
 	s, err := Parse(src, path)
 	if err != nil {
@@ -226,6 +232,9 @@ func (d *decoder) mapping(n *yaml.Node, path, what string, fields []field) {
 			} else {
 				msg += "; allowed keys: " + quoteList(names)
 			}
+			if what == "columns" && v.Tag == "!!null" && v.Value == "" && i >= 2 && n.Content[i-2].Value == "keys" {
+				msg += fmt.Sprintf(" (a comma after keys starts a new entry here; for several key columns write a list: keys: [%s, %s])", n.Content[i-1].Value, key)
+			}
 			d.errAt(k, sub, "%s", msg)
 			continue
 		}
@@ -312,17 +321,13 @@ func (d *decoder) enum(n *yaml.Node, path, what string, allowed []string, dst *s
 
 var nameRE = regexp.MustCompile(`^[A-Za-z0-9][A-Za-z0-9._-]*$`)
 
-// reservedColumns are output column names a key column may not take.
-var reservedColumns = []string{"method", "model", "period", "step", "value", "decomposition", "form",
-	"observed", "trend", "seasonal", "remainder", "adjusted", "position", "factor", "count",
-	"stage", "severity", "message"}
-
 func (d *decoder) spec(root *yaml.Node) *Spec {
 	s := &Spec{
 		Shaping:       DefaultShaping,
 		Decomposition: DefaultDecomposition,
 		Limits:        DefaultLimits,
 		Selection:     DefaultSelection,
+		Problems:      DetailSummary,
 	}
 	var (
 		backtestNode, selectionNode, intervalsNode *yaml.Node
@@ -359,6 +364,34 @@ func (d *decoder) spec(root *yaml.Node) *Spec {
 				{"end", false, func(n *yaml.Node, p string) {
 					d.enum(n, p, "history end", Ends, (*string)(&s.Shaping.End))
 				}},
+				{"until", false, func(n *yaml.Node, p string) {
+					var v string
+					d.str(n, p, "the last day to read (YYYY-MM-DD)", &v)
+					if v == "" {
+						return
+					}
+					if msg := CheckDay(v); msg != "" {
+						d.errAt(n, p, "%s", msg)
+						return
+					}
+					s.Shaping.Until = v
+				}},
+				{"stray_dates", false, func(n *yaml.Node, p string) {
+					d.enum(n, p, "stray date rule", StrayRules, (*string)(&s.Shaping.StrayDates))
+				}},
+				{"partial_period", false, func(n *yaml.Node, p string) {
+					d.enum(n, p, "partial period rule", PartialRules, (*string)(&s.Shaping.Partial))
+				}},
+				{"key_variants", false, func(n *yaml.Node, p string) {
+					d.enum(n, p, "key variant rule", KeyVariantRules, (*string)(&s.Shaping.KeyVariants))
+				}},
+			})
+		}},
+		{"problems", false, func(n *yaml.Node, p string) {
+			d.mapping(n, p, "problems", []field{
+				{"detail", false, func(n *yaml.Node, p string) {
+					d.enum(n, p, "problem detail", ProblemDetails, (*string)(&s.Problems))
+				}},
 			})
 		}},
 		{"decomposition", false, func(n *yaml.Node, p string) {
@@ -370,8 +403,8 @@ func (d *decoder) spec(root *yaml.Node) *Spec {
 			haveMethods = true
 		}},
 		{"horizon", true, func(n *yaml.Node, p string) {
-			if d.integer(n, p, "the forecast horizon (a whole number of periods)", &s.Horizon) && s.Horizon <= 0 {
-				d.errAt(n, p, "horizon must be at least 1 period, found %d", s.Horizon)
+			if d.integer(n, p, "the forecast horizon (a whole number of periods)", &s.Horizon) && (s.Horizon <= 0 || s.Horizon > MaxHorizon) {
+				d.errAt(n, p, "horizon must be between 1 and %d periods, found %d", MaxHorizon, s.Horizon)
 				s.Horizon = 0
 			}
 		}},
@@ -723,6 +756,14 @@ func (d *decoder) columns(n *yaml.Node, path string, c *Columns) {
 			if keysNode.Kind == yaml.ScalarNode && keysNode.Tag != "!!null" {
 				var k string
 				d.str(keysNode, p, "a key column name", &k)
+				if strings.Contains(k, ",") {
+					parts := strings.Split(k, ",")
+					for i := range parts {
+						parts[i] = strings.TrimSpace(parts[i])
+					}
+					d.errAt(keysNode, p, "%q is one name holding a comma; for several key columns write a list: keys: [%s]", k, strings.Join(parts, ", "))
+					return
+				}
 				if k != "" {
 					c.Keys = []string{k}
 				}
@@ -759,10 +800,8 @@ func (d *decoder) columns(n *yaml.Node, path string, c *Columns) {
 			d.errAt(at, p, "column %q is listed twice among time, value and keys", k)
 		}
 		seen[k] = true
-		for _, r := range reservedColumns {
-			if strings.EqualFold(k, r) {
-				d.errAt(at, p, "key column %q has the name of an output column; rename it in the input (reserved: %s)", k, quoteList(reservedColumns))
-			}
+		if IsOutputColumn(k) {
+			d.errAt(at, p, "key column %q has the name of an output column, so the tables would hold two columns of that name; rename it in the input (reserved, in any letter case: %s, and lower_<level>, upper_<level>, quantile_<level>)", k, quoteList(OutputColumns))
 		}
 	}
 }
@@ -996,4 +1035,17 @@ func (d *decoder) option(n *yaml.Node, path, method, name string, o optionDef) (
 		return sn.Value == "true", true
 	}
 	panic("spec: unknown option kind")
+}
+
+// CheckDay checks a day written as YYYY-MM-DD (years 1 to 9999) and returns
+// what is wrong with it, or "" when it is a real day.
+func CheckDay(v string) string {
+	if len(v) != 10 || v[4] != '-' || v[7] != '-' {
+		return fmt.Sprintf("%q is not a day; write YYYY-MM-DD, e.g. 2024-03-31", v)
+	}
+	t, err := time.Parse("2006-01-02", v)
+	if err != nil || t.Year() < 1 {
+		return fmt.Sprintf("%q is not a day of the calendar (years 1 to 9999); write YYYY-MM-DD, e.g. 2024-03-31", v)
+	}
+	return ""
 }

@@ -133,18 +133,18 @@ func (d *decoder) backtest(n *yaml.Node, path string, b *Backtest) {
 	windowBad := false
 	d.mapping(n, path, "backtest", []field{
 		{"folds", true, func(n *yaml.Node, p string) {
-			if d.integer(n, p, "the number of folds", &b.Folds) && (b.Folds < 1 || b.Folds > 100) {
-				d.errAt(n, p, "folds must be between 1 and 100, found %d", b.Folds)
+			if d.integer(n, p, "the number of folds", &b.Folds) && (b.Folds < 1 || b.Folds > MaxFolds) {
+				d.errAt(n, p, "folds must be between 1 and %d, found %d", MaxFolds, b.Folds)
 			}
 		}},
 		{"step", false, func(n *yaml.Node, p string) {
-			if d.integer(n, p, "the periods between origins", &b.Step) && b.Step < 1 {
-				d.errAt(n, p, "step must be at least 1, found %d", b.Step)
+			if d.integer(n, p, "the periods between origins", &b.Step) && (b.Step < 1 || b.Step > MaxHorizon) {
+				d.errAt(n, p, "step must be between 1 and %d, found %d", MaxHorizon, b.Step)
 			}
 		}},
 		{"horizon", false, func(n *yaml.Node, p string) {
-			if d.integer(n, p, "the backtest horizon", &b.Horizon) && b.Horizon < 1 {
-				d.errAt(n, p, "horizon must be at least 1, found %d", b.Horizon)
+			if d.integer(n, p, "the backtest horizon", &b.Horizon) && (b.Horizon < 1 || b.Horizon > MaxHorizon) {
+				d.errAt(n, p, "horizon must be between 1 and %d, found %d", MaxHorizon, b.Horizon)
 			}
 		}},
 		{"window", false, func(n *yaml.Node, p string) {

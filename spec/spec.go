@@ -29,6 +29,7 @@ type Spec struct {
 	Intervals     Intervals // no Levels: no intervals
 	Totals        Totals    // no LeadTimes: no totals table
 	Report        *Report   // nil: no HTML report
+	Problems      ProblemDetail
 
 	// Automatic is true when the spec left out methods and runs the
 	// default automatic spec (DefaultMethods, and DefaultAutomaticBacktest
@@ -137,17 +138,96 @@ const (
 // Ends lists the allowed values of End.
 var Ends = []string{string(EndPanel), string(EndSeries)}
 
+// StrayDates says what happens to rows dated far outside the bulk of the
+// input: periods separated from the rest by a long run of periods with no
+// rows at all, holding a tiny share of the rows (one row dated 2031 in a
+// 2022–2024 export).
+type StrayDates string
+
+// Stray date rules.
+const (
+	StrayStop StrayDates = "stop" // the run stops with an error naming the rows
+	StrayDrop StrayDates = "drop" // the rows are left out, a problems row each
+	StrayKeep StrayDates = "keep" // the rows are used as they are
+)
+
+// StrayRules lists the allowed values of StrayDates.
+var StrayRules = []string{string(StrayStop), string(StrayDrop), string(StrayKeep)}
+
+// PartialPeriod says what happens to the last period when the rows carry
+// dates finer than the calendar and the data ends before that period does
+// (daily rows ending on a Tuesday, weekly calendar).
+type PartialPeriod string
+
+// Partial period rules.
+const (
+	PartialDrop PartialPeriod = "drop" // the incomplete last period is left out (a problems row says so)
+	PartialKeep PartialPeriod = "keep" // it is used as if complete
+)
+
+// PartialRules lists the allowed values of PartialPeriod.
+var PartialRules = []string{string(PartialDrop), string(PartialKeep)}
+
+// KeyVariants says what happens when two key values differ only by
+// surrounding whitespace or letter case ("Station " and "Station").
+type KeyVariants string
+
+// Key variant rules.
+const (
+	KeyVariantsWarn  KeyVariants = "warn"  // separate series; a problems row names both spellings
+	KeyVariantsTrim  KeyVariants = "trim"  // surrounding whitespace is removed from every key value
+	KeyVariantsLower KeyVariants = "lower" // whitespace removed and letters lower-cased
+)
+
+// KeyVariantRules lists the allowed values of KeyVariants.
+var KeyVariantRules = []string{string(KeyVariantsWarn), string(KeyVariantsTrim), string(KeyVariantsLower)}
+
 // Shaping turns rows into one value per period.
 type Shaping struct {
 	Combine Combine
 	Gaps    Gaps
 	End     End
+	// Until, when set (YYYY-MM-DD), ignores rows dated after that day, so
+	// a scheduled run or a backfill sees the same data whenever it runs.
+	// The --as-of flag sets it.
+	Until       string
+	StrayDates  StrayDates
+	Partial     PartialPeriod
+	KeyVariants KeyVariants
 }
 
 // DefaultShaping: rows in one period are summed (so daily order lines add up
 // to weekly demand), a period with no rows is zero demand, and every series
-// runs to the end of the panel. A series starts at its own first row.
-var DefaultShaping = Shaping{Combine: CombineSum, Gaps: GapsZero, End: EndPanel}
+// runs to the end of the panel. A series starts at its own first row. Stray
+// dates stop the run, an incomplete last period is dropped, and key values
+// that differ only by whitespace or case are reported.
+var DefaultShaping = Shaping{Combine: CombineSum, Gaps: GapsZero, End: EndPanel,
+	StrayDates: StrayStop, Partial: PartialDrop, KeyVariants: KeyVariantsWarn}
+
+// ProblemDetail says how warnings about defaults the spec did not set are
+// written to the problems table.
+type ProblemDetail string
+
+// Problem detail levels.
+const (
+	// DetailSummary: one run-level row per code for such warnings, with the
+	// count of series it concerns (the default).
+	DetailSummary ProblemDetail = "summary"
+	// DetailSeries: one row per series.
+	DetailSeries ProblemDetail = "series"
+)
+
+// ProblemDetails lists the allowed values of ProblemDetail.
+var ProblemDetails = []string{string(DetailSummary), string(DetailSeries)}
+
+// Bounds on the sizes a spec may ask for; each keeps a typo from turning
+// into a huge allocation. README's "Limits" section documents them.
+const (
+	// MaxHorizon bounds horizon, backtest.horizon and backtest.step.
+	MaxHorizon = 10_000
+	// MaxFolds bounds backtest.folds.
+	MaxFolds = 100
+)
 
 // Form is additive or multiplicative.
 type Form string

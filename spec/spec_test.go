@@ -81,9 +81,9 @@ func TestBadSpecs(t *testing.T) {
 		{"missing required key", "horizon: 6\n", "",
 			[]string{`m.yaml:1:1: missing required key "horizon" in the spec`}},
 		{"horizon zero", "horizon: 6", "horizon: 0",
-			[]string{`m.yaml:7:10: horizon: horizon must be at least 1 period, found 0`}},
+			[]string{`m.yaml:7:10: horizon: horizon must be between 1 and 10000 periods, found 0`}},
 		{"horizon negative", "horizon: 6", "horizon: -2",
-			[]string{`horizon must be at least 1 period, found -2`}},
+			[]string{`horizon must be between 1 and 10000 periods, found -2`}},
 		{"seasonal method with season 1", "calendar: {frequency: month}\nmethods: [naive]", "calendar: {frequency: year}\nmethods: [naive, seasonal_naive]",
 			[]string{`m.yaml:6:18: methods[1]: seasonal_naive needs a season length of at least 2, but calendar.season_length is 1 (the default for frequency year); set calendar.season_length`}},
 		{"unknown method", "methods: [naive]", "methods: [naïve, sesonal_naive]",
@@ -199,8 +199,88 @@ func TestSpecTooLarge(t *testing.T) {
 		t.Fatal(err)
 	}
 	_, err := Load(p)
-	if err == nil || !strings.Contains(err.Error(), "the limit is 1048576 bytes") || !strings.Contains(err.Error(), p) {
+	if err == nil || !strings.Contains(err.Error(), "larger than the limit of 1048576 bytes") || !strings.Contains(err.Error(), p) {
 		t.Fatalf("got %v", err)
+	}
+}
+
+// A device or a pipe has no size to stat: the read itself is bounded, so
+// /dev/zero fails at the limit instead of filling memory.
+func TestSpecFromEndlessDevice(t *testing.T) {
+	if _, err := os.Stat("/dev/zero"); err != nil {
+		t.Skip("no /dev/zero")
+	}
+	_, err := Load("/dev/zero")
+	if err == nil || !strings.Contains(err.Error(), "/dev/zero: spec file is larger than the limit of 1048576 bytes") {
+		t.Fatalf("got %v", err)
+	}
+}
+
+func TestBounds(t *testing.T) {
+	cases := []struct{ extra, want string }{
+		{"horizon: 10000", ""},
+		{"horizon: 10001", "horizon: horizon must be between 1 and 10000 periods, found 10001"},
+		{"horizon: 2147483647", "horizon must be between 1 and 10000 periods, found 2147483647"},
+		{"horizon: 3\nbacktest: {folds: 2, horizon: 10001}", "backtest.horizon: horizon must be between 1 and 10000, found 10001"},
+		{"horizon: 3\nbacktest: {folds: 2, step: 2147483647}", "backtest.step: step must be between 1 and 10000, found 2147483647"},
+		{"horizon: 3\nbacktest: {folds: 101}", "backtest.folds: folds must be between 1 and 100, found 101"},
+	}
+	for _, c := range cases {
+		src := strings.Replace(boundsBase, "HORIZON", strings.ReplaceAll(c.extra, "\\n", "\n"), 1)
+		_, err := Parse([]byte(src), "b.yaml")
+		if c.want == "" {
+			if err != nil {
+				t.Errorf("%s: %v", c.extra, err)
+			}
+			continue
+		}
+		if err == nil || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("%s: got %v, want %q", c.extra, err, c.want)
+		}
+	}
+}
+
+const boundsBase = `version: 1
+name: b
+sources: [d.csv]
+columns: {time: t, value: v, keys: [k]}
+calendar: {frequency: month}
+methods: [naive]
+HORIZON
+`
+
+func TestKeysScalarWithComma(t *testing.T) {
+	src := strings.Replace(boundsBase, "columns: {time: t, value: v, keys: [k]}", "columns:\n  time: t\n  value: v\n  keys: store, product", 1)
+	src = strings.Replace(src, "HORIZON", "horizon: 3", 1)
+	_, err := Parse([]byte(src), "k.yaml")
+	want := `k.yaml:7:9: columns.keys: "store, product" is one name holding a comma; for several key columns write a list: keys: [store, product]`
+	if err == nil || err.Error() != want {
+		t.Fatalf("got %v, want %s", err, want)
+	}
+	// In a flow mapping the comma starts a new entry.
+	src = strings.Replace(boundsBase, "keys: [k]", "keys: store, product", 1)
+	src = strings.Replace(src, "HORIZON", "horizon: 3", 1)
+	_, err = Parse([]byte(src), "k.yaml")
+	if err == nil || !strings.Contains(err.Error(), `unknown key "product" in columns; allowed keys: time, value, keys (a comma after keys starts a new entry here; for several key columns write a list: keys: [store, product])`) {
+		t.Fatalf("got %v", err)
+	}
+}
+
+func TestKeyNamedLikeAnyOutputColumn(t *testing.T) {
+	for _, k := range append(append([]string{}, OutputColumns...), "lower_80", "UPPER_95", "Interval_Source") {
+		src := strings.Replace(boundsBase, "keys: [k]", "keys: ["+k+"]", 1)
+		src = strings.Replace(src, "HORIZON", "horizon: 3", 1)
+		_, err := Parse([]byte(src), "k.yaml")
+		if err == nil || !strings.Contains(err.Error(), "has the name of an output column") || !strings.Contains(err.Error(), "runner_up_score") {
+			t.Errorf("key %q: got %v", k, err)
+		}
+	}
+	for _, k := range []string{"store", "lower_bound", "methods", "upper_"} {
+		src := strings.Replace(boundsBase, "keys: [k]", "keys: ["+k+"]", 1)
+		src = strings.Replace(src, "HORIZON", "horizon: 3", 1)
+		if _, err := Parse([]byte(src), "k.yaml"); err != nil {
+			t.Errorf("key %q refused: %v", k, err)
+		}
 	}
 }
 
@@ -287,6 +367,43 @@ limits: {max_series: 50}
 		}
 		if string(back.Canonical()) != string(s.Canonical()) {
 			t.Errorf("%s: round trip changed the canonical form:\n%s\n%s", s.Name, s.Canonical(), back.Canonical())
+		}
+	}
+}
+
+func TestShapingGuards(t *testing.T) {
+	base := strings.Replace(boundsBase, "HORIZON", "horizon: 3", 1)
+	plain, err := Parse([]byte(base), "g.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if plain.Shaping.StrayDates != StrayStop || plain.Shaping.Partial != PartialDrop || plain.Shaping.KeyVariants != KeyVariantsWarn || plain.Problems != DetailSummary {
+		t.Fatalf("defaults: %+v, %q", plain.Shaping, plain.Problems)
+	}
+	if strings.Contains(string(plain.Canonical()), "until") || strings.Contains(string(plain.Canonical()), "problems") {
+		t.Fatalf("defaults of the new options must stay out of the canonical form: %s", plain.Canonical())
+	}
+	s, err := Parse([]byte(base+"shaping: {until: 2024-03-31, stray_dates: drop, partial_period: keep, key_variants: lower}\nproblems: {detail: series}\n"), "g.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := Shaping{Combine: CombineSum, Gaps: GapsZero, End: EndPanel, Until: "2024-03-31", StrayDates: StrayDrop, Partial: PartialKeep, KeyVariants: KeyVariantsLower}
+	if s.Shaping != want || s.Problems != DetailSeries {
+		t.Fatalf("got %+v %q", s.Shaping, s.Problems)
+	}
+	back, err := FromCanonical(s.Canonical(), "c")
+	if err != nil || back.Hash() != s.Hash() || back.Shaping != want {
+		t.Fatalf("round trip: %v %+v", err, back)
+	}
+	for _, c := range []struct{ v, want string }{
+		{"2024-02-30", `shaping.until: "2024-02-30" is not a day of the calendar (years 1 to 9999)`},
+		{"24-03-01", `shaping.until: "24-03-01" is not a day; write YYYY-MM-DD`},
+		{"0000-01-01", `"0000-01-01" is not a day of the calendar (years 1 to 9999)`},
+		{"2024-03", `"2024-03" is not a day; write YYYY-MM-DD`},
+	} {
+		_, err := Parse([]byte(base+"shaping: {until: \""+c.v+"\"}\n"), "g.yaml")
+		if err == nil || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("until %s: got %v", c.v, err)
 		}
 	}
 }

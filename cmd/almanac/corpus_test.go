@@ -3,8 +3,10 @@ package main
 import (
 	"context"
 	"encoding/json"
+	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 	"time"
@@ -19,17 +21,23 @@ import (
 )
 
 // expectation is a corpus case's expect.yaml: the exit code, text that
-// stderr must hold, and for runs that succeed the series count and the
-// problems rows ("severity stage[ method]: message" prefixes).
+// stderr (and stdout) must hold, and for runs that succeed the series count
+// and the problems rows ("severity stage[ method]: message" prefixes). A
+// case runs "almanac run spec.yaml" unless it names another command line.
 type expectation struct {
+	Command  []string `yaml:"command"`
 	Exit     int      `yaml:"exit"`
 	Stderr   []string `yaml:"stderr"`
+	Stdout   []string `yaml:"stdout"`
 	Series   int      `yaml:"series"`
 	Problems []string `yaml:"problems"`
+	Absent   []string `yaml:"absent"` // problems rows that must not appear (prefixes)
+	Codes    []string `yaml:"codes"`  // values the problems table's code column must hold
 }
 
-// problemRows reads problems.parquet as "severity stage[ method]: message".
-func problemRows(t *testing.T, path string) []string {
+// problemTable reads problems.parquet as rows ("severity stage[ method]:
+// message") and codes.
+func problemTable(t *testing.T, path string) ([]string, []string) {
 	t.Helper()
 	pf, err := file.OpenParquetFile(path, false)
 	if err != nil {
@@ -69,13 +77,20 @@ func problemRows(t *testing.T, path string) []string {
 		}
 		rows[i] = head + ": " + msg[i]
 	}
-	return rows
+	return rows, col("code")
 }
 
 func checkCase(t *testing.T, dir string, want expectation) {
 	t.Helper()
 	out := filepath.Join(t.TempDir(), "run")
-	_, stderr, code := almanac(t, dir, "run", "spec.yaml", "--out", out, "-q")
+	args := []string{"run", "spec.yaml", "--out", out, "-q"}
+	if len(want.Command) > 0 {
+		args = nil
+		for _, a := range want.Command {
+			args = append(args, strings.ReplaceAll(a, "{out}", out))
+		}
+	}
+	stdout, stderr, code := almanac(t, dir, args...)
 	if strings.Contains(stderr, "panic") || strings.Contains(stderr, "goroutine ") {
 		t.Fatalf("almanac panicked:\n%s", stderr)
 	}
@@ -86,6 +101,14 @@ func checkCase(t *testing.T, dir string, want expectation) {
 		if !strings.Contains(stderr, w) {
 			t.Errorf("stderr lacks %q:\n%s", w, stderr)
 		}
+	}
+	for _, w := range want.Stdout {
+		if !strings.Contains(stdout, w) {
+			t.Errorf("stdout lacks %q:\n%s", w, stdout)
+		}
+	}
+	if len(want.Command) > 0 {
+		return
 	}
 	if code != 0 {
 		if _, err := os.Stat(out); !os.IsNotExist(err) {
@@ -102,7 +125,19 @@ func checkCase(t *testing.T, dir string, want expectation) {
 	if want.Series != 0 && m.Series != want.Series {
 		t.Errorf("series = %d, want %d", m.Series, want.Series)
 	}
-	rows := problemRows(t, filepath.Join(out, "problems.parquet"))
+	rows, codes := problemTable(t, filepath.Join(out, "problems.parquet"))
+	for _, c := range want.Codes {
+		if !slices.Contains(codes, c) {
+			t.Errorf("no problems row has code %q; codes: %v", c, codes)
+		}
+	}
+	for _, a := range want.Absent {
+		for _, r := range rows {
+			if strings.HasPrefix(r, a) {
+				t.Errorf("unexpected problems row %q", r)
+			}
+		}
+	}
 	for _, w := range want.Problems {
 		found := false
 		for _, r := range rows {
@@ -122,8 +157,9 @@ func checkCase(t *testing.T, dir string, want expectation) {
 // accepted with its pinned problems rows. Never a panic, never a silent drop.
 func TestBadInputCorpus(t *testing.T) {
 	cases, _ := filepath.Glob("../../pipeline/testdata/corpus/*/expect.yaml")
-	if len(cases) < 30 {
-		t.Fatalf("found %d corpus cases, want at least 30", len(cases))
+	// With the generated cases below (8), the corpus holds at least 80.
+	if len(cases) < 60 {
+		t.Fatalf("found %d corpus cases, want at least 72", len(cases))
 	}
 	for _, c := range cases {
 		dir := filepath.Dir(c)
@@ -258,6 +294,65 @@ func TestBadInputCorpusGenerated(t *testing.T) {
 			checkCase(t, dir, expectation{Exit: 1, Stderr: []string{"data.parquet: not a readable Parquet file"}})
 		}
 	})
+	t.Run("parquet-inf-value", func(t *testing.T) {
+		dir := t.TempDir()
+		writeParquet(t, dir, []arrow.Field{fTimeStr, fStore, fQty}, 3, func(b *array.RecordBuilder, i int) {
+			b.Field(0).(*array.StringBuilder).Append(monthText(i))
+			b.Field(1).(*array.StringBuilder).Append("A")
+			b.Field(2).(*array.Float64Builder).Append([]float64{1, math.Inf(1), 2}[i])
+		})
+		checkCase(t, dir, expectation{Exit: 1, Stderr: []string{`data.parquet: row 2: column "qty": +Inf: infinite values are not accepted`}})
+	})
+	t.Run("parquet-negative-inf-float32", func(t *testing.T) {
+		dir := t.TempDir()
+		writeParquet(t, dir, []arrow.Field{fTimeStr, fStore, {Name: "qty", Type: arrow.PrimitiveTypes.Float32}}, 3, func(b *array.RecordBuilder, i int) {
+			b.Field(0).(*array.StringBuilder).Append(monthText(i))
+			b.Field(1).(*array.StringBuilder).Append("A")
+			b.Field(2).(*array.Float32Builder).Append([]float32{1, 2, float32(math.Inf(-1))}[i])
+		})
+		checkCase(t, dir, expectation{Exit: 1, Stderr: []string{`data.parquet: row 3: column "qty": -Inf: infinite values are not accepted`}})
+	})
+	t.Run("parquet-date32-year-10000", func(t *testing.T) {
+		dir := t.TempDir()
+		writeParquet(t, dir, []arrow.Field{{Name: "month", Type: arrow.FixedWidthTypes.Date32}, fStore, fQty}, 3, func(b *array.RecordBuilder, i int) {
+			d := arrow.Date32FromTime(mustMonth(monthText(i)))
+			if i == 2 {
+				d = arrow.Date32(2932897 + 5) // 10000-01-06
+			}
+			b.Field(0).(*array.Date32Builder).Append(d)
+			b.Field(1).(*array.StringBuilder).Append("A")
+			b.Field(2).(*array.Float64Builder).Append(1)
+		})
+		checkCase(t, dir, expectation{Exit: 1, Stderr: []string{`data.parquet: row 3: column "month": the date lies in the year 10000, outside the years 1 to 9999`}})
+	})
+	t.Run("parquet-timestamp-before-year-1", func(t *testing.T) {
+		dir := t.TempDir()
+		writeParquet(t, dir, []arrow.Field{{Name: "month", Type: &arrow.TimestampType{Unit: arrow.Second, TimeZone: "UTC"}}, fStore, fQty}, 2, func(b *array.RecordBuilder, i int) {
+			ts := arrow.Timestamp(mustMonth(monthText(i)).Unix())
+			if i == 1 {
+				ts = arrow.Timestamp(-62135596800 - 86400*400) // 400 days before 0001-01-01
+			}
+			b.Field(0).(*array.TimestampBuilder).Append(ts)
+			b.Field(1).(*array.StringBuilder).Append("A")
+			b.Field(2).(*array.Float64Builder).Append(1)
+		})
+		checkCase(t, dir, expectation{Exit: 1, Stderr: []string{`data.parquet: row 2: column "month": the date lies in the year -1, outside the years 1 to 9999`}})
+	})
+	// ("a\x00b","c") and ("a","b\x00c") would join to the same bytes
+	// with a NUL separator: control characters in keys are refused.
+	t.Run("parquet-keys-that-would-merge", func(t *testing.T) {
+		dir := t.TempDir()
+		fields := []arrow.Field{fTimeStr, fStore, {Name: "item", Type: arrow.BinaryTypes.String}, fQty}
+		path := writeParquet(t, dir, fields, 4, func(b *array.RecordBuilder, i int) {
+			b.Field(0).(*array.StringBuilder).Append(monthText(i / 2))
+			b.Field(1).(*array.StringBuilder).Append([]string{"a\x00b", "a"}[i%2])
+			b.Field(2).(*array.StringBuilder).Append([]string{"c", "b\x00c"}[i%2])
+			b.Field(3).(*array.Float64Builder).Append(1)
+		})
+		_ = path
+		os.WriteFile(filepath.Join(dir, "spec.yaml"), []byte(strings.Replace(parquetSpec, "keys: [store]", "keys: [store, item]", 1)), 0o644)
+		checkCase(t, dir, expectation{Exit: 1, Stderr: []string{`data.parquet: row 1: column "store": "a\x00b" holds the control character U+0000; key values may not hold control characters`}})
+	})
 	t.Run("spec-50MB", func(t *testing.T) {
 		dir := t.TempDir()
 		f, _ := os.Create(filepath.Join(dir, "spec.yaml"))
@@ -267,7 +362,7 @@ func TestBadInputCorpusGenerated(t *testing.T) {
 			f.WriteString(line)
 		}
 		f.Close()
-		checkCase(t, dir, expectation{Exit: 2, Stderr: []string{"spec.yaml: spec file is 5242", "bytes; the limit is 1048576 bytes"}})
+		checkCase(t, dir, expectation{Exit: 2, Stderr: []string{"spec.yaml: spec file is larger than the limit of 1048576 bytes"}})
 	})
 }
 

@@ -14,6 +14,12 @@ const (
 	// exitInputsChanged: verify found an input changed, missing, or a new
 	// one matching the sources, so the rerun proves nothing.
 	exitInputsChanged = 3
+	// exitUnusable: verify cannot use the folder: not a run folder, or a
+	// manifest that cannot be trusted (unreadable, paths outside the folder).
+	exitUnusable = 4
+	// exitInterrupted: a signal stopped the work (128 + SIGINT, as shells
+	// report an interrupted command).
+	exitInterrupted = 130
 )
 
 // verifyExit maps a verify outcome to the exit code.
@@ -23,6 +29,8 @@ func verifyExit(outcome int) int {
 		return exitOK
 	case pipeline.VerifyInputsChanged:
 		return exitInputsChanged
+	case pipeline.VerifyUnusable:
+		return exitUnusable
 	default:
 		return exitRun
 	}

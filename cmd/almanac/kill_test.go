@@ -13,6 +13,8 @@ import (
 	"syscall"
 	"testing"
 	"time"
+
+	"golang.org/x/sys/unix"
 )
 
 // killPanel writes a panel big enough that a run takes a moment.
@@ -165,5 +167,136 @@ func TestSIGKILLLeavesNoPartialRun(t *testing.T) {
 				t.Errorf("staging folders left after a clean run: %v", hidden)
 			}
 		})
+	}
+}
+
+// startRun starts almanac run with progress lines and waits for the first
+// one (the run is forecasting).
+func startRun(t *testing.T, dir string, args ...string) (*exec.Cmd, *bytes.Buffer) {
+	t.Helper()
+	cmd := exec.Command(binary, append([]string{"run", "spec.yaml", "--workers", "1"}, args...)...)
+	cmd.Dir = dir
+	pr, _ := cmd.StderrPipe()
+	if err := cmd.Start(); err != nil {
+		t.Fatal(err)
+	}
+	var rest bytes.Buffer
+	got := make(chan bool, 1)
+	go func() {
+		sc := bufio.NewScanner(pr)
+		seen := false
+		for sc.Scan() {
+			rest.WriteString(sc.Text() + "\n")
+			if !seen && strings.HasPrefix(sc.Text(), "pass 1:") {
+				seen = true
+				got <- true
+			}
+		}
+		if !seen {
+			got <- false
+		}
+	}()
+	select {
+	case ok := <-got:
+		if !ok {
+			cmd.Wait()
+			t.Fatalf("the run ended before forecasting:\n%s", rest.String())
+		}
+	case <-time.After(60 * time.Second):
+		cmd.Process.Kill()
+		t.Fatal("no progress within a minute")
+	}
+	return cmd, &rest
+}
+
+// TestSIGTERMStopsTheRun: a SIGTERM during forecasting stops the run within
+// a second with exit 130; no run folder appears and no staging is left.
+func TestSIGTERMStopsTheRun(t *testing.T) {
+	dir := t.TempDir()
+	killPanel(t, dir)
+	for _, sig := range []syscall.Signal{syscall.SIGTERM, syscall.SIGINT} {
+		cmd, stderr := startRun(t, dir)
+		sent := time.Now()
+		cmd.Process.Signal(sig)
+		err := cmd.Wait()
+		took := time.Since(sent)
+		code := cmd.ProcessState.ExitCode()
+		if code != exitInterrupted {
+			t.Fatalf("%v: exit %d (%v), want %d\n%s", sig, code, err, exitInterrupted, stderr)
+		}
+		if took > time.Second {
+			t.Errorf("%v: the run took %v to stop, want under 1 s", sig, took)
+		}
+		if !strings.Contains(stderr.String(), "stopping (send it again to exit at once)") || !strings.Contains(stderr.String(), "almanac: interrupted; the target was left as it was") {
+			t.Errorf("%v: stderr:\n%s", sig, stderr)
+		}
+		entries, _ := os.ReadDir(filepath.Join(dir, "out"))
+		if len(entries) != 0 {
+			t.Errorf("%v: out/ holds %v after an interrupted first run", sig, entries)
+		}
+	}
+}
+
+// TestSecondSignalExitsAtOnce: a real run that cannot stop — its input is
+// a pipe whose writer never writes, so the read blocks in the kernel and
+// never looks at the cancelled context — exits at once on a second signal,
+// exit 130, and the previous run folder is untouched.
+func TestSecondSignalExitsAtOnce(t *testing.T) {
+	dir := t.TempDir()
+	killPanel(t, dir)
+	if _, stderr, code := almanac(t, dir, "run", "spec.yaml", "-q"); code != 0 {
+		t.Fatalf("first run: %s", stderr)
+	}
+	before := tableBytes(t, filepath.Join(dir, "out", "kill"))
+	fifo := filepath.Join(dir, "blocked.csv")
+	if err := unix.Mkfifo(fifo, 0o644); err != nil {
+		t.Skip("no FIFO:", err)
+	}
+	spec, _ := os.ReadFile(filepath.Join(dir, "spec.yaml"))
+	os.WriteFile(filepath.Join(dir, "blocked.yaml"), bytes.Replace(spec, []byte("sources: [sales.csv]"), []byte("sources: [blocked.csv]"), 1), 0o644)
+	// Hold the pipe open for writing and write nothing: the reader waits.
+	go func() {
+		if w, err := os.OpenFile(fifo, os.O_WRONLY, 0); err == nil {
+			time.Sleep(30 * time.Second)
+			w.Close()
+		}
+	}()
+	cmd := exec.Command(binary, "run", "blocked.yaml", "-q")
+	cmd.Dir = dir
+	var stderr bytes.Buffer
+	cmd.Stderr = &stderr
+	if err := cmd.Start(); err != nil {
+		t.Fatal(err)
+	}
+	exited := make(chan struct{})
+	go func() { cmd.Wait(); close(exited) }()
+	time.AfterFunc(20*time.Second, func() { cmd.Process.Kill() })
+	time.Sleep(700 * time.Millisecond)
+	cmd.Process.Signal(syscall.SIGTERM)
+	select {
+	case <-exited:
+		t.Fatalf("a blocked run exited on the first signal (exit %d)\n%s", cmd.ProcessState.ExitCode(), stderr.String())
+	case <-time.After(300 * time.Millisecond):
+	}
+	sent := time.Now()
+	cmd.Process.Signal(syscall.SIGTERM)
+	<-exited
+	if code := cmd.ProcessState.ExitCode(); code != exitInterrupted {
+		t.Fatalf("exit %d after the second signal, want %d\n%s", code, exitInterrupted, stderr.String())
+	}
+	if took := time.Since(sent); took > time.Second {
+		t.Errorf("exit took %v after the second signal", took)
+	}
+	after := tableBytes(t, filepath.Join(dir, "out", "kill"))
+	for n := range before {
+		if !bytes.Equal(before[n], after[n]) {
+			t.Errorf("the interrupted rerun changed %s", n)
+		}
+	}
+	if v := visible(t, filepath.Join(dir, "out")); len(v) != 1 || v[0] != "kill" {
+		t.Errorf("out/ shows %v", v)
+	}
+	if left, _ := filepath.Glob(filepath.Join(dir, "out", ".almanac-tmp-*")); len(left) != 0 {
+		t.Errorf("the abandoned run left its staging: %v", left)
 	}
 }

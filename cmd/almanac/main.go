@@ -13,6 +13,7 @@ import (
 	"math"
 	"os"
 	"os/signal"
+	"path/filepath"
 	"runtime"
 	"runtime/debug"
 	"runtime/pprof"
@@ -44,10 +45,43 @@ func (e *exitError) Error() string { return e.err.Error() }
 func (e *exitError) Unwrap() error { return e.err }
 
 func main() {
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	ctx, cancel := context.WithCancel(context.Background())
+	stop := onSignals(cancel, os.Stderr, func() {
+		runfolder.RemoveLive() // the abandoned run's staging and spill folders
+		os.Exit(exitInterrupted)
+	})
 	code := run(ctx, os.Args, os.Stdout, os.Stderr)
 	stop()
 	os.Exit(code)
+}
+
+// onSignals cancels the work on the first SIGINT or SIGTERM (the run stops
+// and removes its staging; the target is untouched, since a run only
+// appears by its atomic commit) and calls exit on the second, for a person
+// who does not want to wait. It returns a function that stops listening.
+func onSignals(cancel context.CancelFunc, stderr io.Writer, exit func()) func() {
+	sigs := make(chan os.Signal, 2)
+	signal.Notify(sigs, os.Interrupt, syscall.SIGTERM)
+	done := make(chan struct{})
+	go func() {
+		select {
+		case s := <-sigs:
+			fmt.Fprintf(stderr, "almanac: %v: stopping (send it again to exit at once)\n", s)
+			cancel()
+		case <-done:
+			return
+		}
+		select {
+		case s := <-sigs:
+			fmt.Fprintf(stderr, "almanac: %v again: exiting now\n", s)
+			exit()
+		case <-done:
+		}
+	}()
+	return func() {
+		signal.Stop(sigs)
+		close(done)
+	}
 }
 
 // run is the whole program: it parses args, does the work, and maps any
@@ -57,6 +91,12 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	err := app.RunContext(ctx, flagsFirst(app, args))
 	if err == nil {
 		return exitOK
+	}
+	if ctx.Err() != nil {
+		// Only a signal cancels ctx: whatever error the work ended with
+		// follows from the interruption.
+		fmt.Fprintln(stderr, "almanac: interrupted; the target was left as it was")
+		return exitInterrupted
 	}
 	var ee *exitError
 	if errors.As(err, &ee) {
@@ -125,7 +165,7 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 		Commands: []*cli.Command{
 			{
 				Name:      "check",
-				Usage:     "validate specs; list every error with file:line:col",
+				Usage:     "validate specs (every error with file:line:col) and that their sources exist and name the spec's columns (headers only)",
 				ArgsUsage: "SPEC...",
 				Action:    checkCmd,
 			},
@@ -133,7 +173,7 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 				Name:      "plan",
 				Usage:     "print the compiled stages, inputs, series count and methods; fits nothing, writes nothing",
 				ArgsUsage: "SPEC",
-				Flags:     []cli.Flag{outFlag()},
+				Flags:     []cli.Flag{outFlag(), asOfFlag()},
 				Action:    planCmd,
 			},
 			{
@@ -189,9 +229,10 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 			},
 			{
 				Name:      "verify",
-				Usage:     "rerun a stored run from its manifest and compare every table byte for byte (exit 0 identical, 1 differs, 3 inputs changed or missing)",
+				Usage:     "rerun a stored run from its manifest and compare every table byte for byte (exit 0 identical, 1 differs, 3 inputs changed or missing, 4 unusable run folder or manifest)",
 				ArgsUsage: "RUN_DIR",
 				Flags: []cli.Flag{
+					&cli.StringFlag{Name: "input-root", Usage: "resolve the run's input paths against this folder instead of the spec's folder"},
 					&cli.IntFlag{Name: "workers", Aliases: []string{"w"}, Value: runtime.NumCPU(), Usage: "series processed in parallel"},
 				},
 				Action: verifyCmd,
@@ -202,9 +243,11 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 				ArgsUsage: "SPEC",
 				Flags: []cli.Flag{
 					outFlag(),
+					asOfFlag(),
 					&cli.IntFlag{Name: "workers", Aliases: []string{"w"}, Value: runtime.NumCPU(), Usage: "series processed in parallel"},
 					&cli.BoolFlag{Name: "quiet", Aliases: []string{"q"}, Usage: "no progress output"},
 					&cli.IntFlag{Name: "shard-count", Usage: "split the run into this many shards by a stable hash of each series' key; this process does one"},
+					&cli.BoolFlag{Name: "clean-shards", Usage: "remove the parts and manifests a run with another shard count left in the dataset folder"},
 					&cli.IntFlag{Name: "shard-index", Value: -1, Usage: "the shard this process does, 0-based (default: $JOB_COMPLETION_INDEX, as Kubernetes Indexed Jobs set it)"},
 					&cli.Int64Flag{Name: "batch-rows", Value: pipeline.DefaultBatchRows, Usage: "input rows held in memory at once; larger inputs are spilled to a temporary folder and processed in key-range batches"},
 					&cli.StringFlag{Name: "memory-limit", Value: "3GiB", Usage: "soft memory limit for the Go runtime (e.g. 3GiB, 800MiB; 0 for none); the environment's GOMEMLIMIT wins when set"},
@@ -214,6 +257,23 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 			},
 		},
 	}
+}
+
+func asOfFlag() cli.Flag {
+	return &cli.StringFlag{Name: "as-of", Usage: "ignore rows dated after this day (YYYY-MM-DD); overrides the spec's shaping.until and is recorded in the manifest"}
+}
+
+// applyAsOf sets the spec's cut-off from --as-of.
+func applyAsOf(c *cli.Context, s *spec.Spec) error {
+	v := c.String("as-of")
+	if v == "" {
+		return nil
+	}
+	if msg := spec.CheckDay(v); msg != "" {
+		return &exitError{exitSpec, fmt.Errorf("almanac %s: --as-of: %s", c.Command.Name, msg)}
+	}
+	s.Shaping.Until = v
+	return nil
 }
 
 func outFlag() cli.Flag {
@@ -228,8 +288,7 @@ func loadSpec(path string, stderr io.Writer) (*spec.Spec, error) {
 	}
 	var list spec.ErrorList
 	if errors.As(err, &list) {
-		src, _ := os.ReadFile(path)
-		fmt.Fprint(stderr, list.Pretty(src))
+		fmt.Fprint(stderr, list.Pretty(readBounded(path)))
 		noun := "errors"
 		if len(list) == 1 {
 			noun = "error"
@@ -237,6 +296,18 @@ func loadSpec(path string, stderr io.Writer) (*spec.Spec, error) {
 		return nil, &exitError{exitSpec, fmt.Errorf("%s: %d %s", path, len(list), noun)}
 	}
 	return nil, &exitError{exitSpec, err}
+}
+
+// readBounded reads at most the spec size limit from path, for showing the
+// lines an error points at (a device such as /dev/zero never ends).
+func readBounded(path string) []byte {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil
+	}
+	defer f.Close()
+	b, _ := io.ReadAll(io.LimitReader(f, spec.MaxSpecBytes))
+	return b
 }
 
 func oneSpec(c *cli.Context) (string, error) {
@@ -261,7 +332,13 @@ func checkCmd(c *cli.Context) error {
 			bad++
 			continue
 		}
-		fmt.Fprintf(c.App.Writer, "%s: ok (%s, %d method(s), sha256 %s)\n", path, s.Name, len(s.Methods), s.Hash()[:16])
+		if err := pipeline.CheckSources(s); err != nil {
+			fmt.Fprintln(c.App.ErrWriter, err)
+			fmt.Fprintf(c.App.ErrWriter, "%s: the inputs do not match the spec\n", path)
+			bad++
+			continue
+		}
+		fmt.Fprintf(c.App.Writer, "%s: ok (%s, %d method(s), sha256 %s; inputs name its columns)\n", path, s.Name, len(s.Methods), s.Hash()[:16])
 	}
 	if bad > 0 {
 		return &exitError{exitSpec, nil}
@@ -276,6 +353,9 @@ func planCmd(c *cli.Context) error {
 	}
 	s, err := loadSpec(path, c.App.ErrWriter)
 	if err != nil {
+		return err
+	}
+	if err := applyAsOf(c, s); err != nil {
 		return err
 	}
 	p, err := pipeline.MakePlan(c.Context, s, pipeline.Options{Out: c.String("out")})
@@ -295,11 +375,17 @@ func runCmd(c *cli.Context) error {
 	if err != nil {
 		return err
 	}
+	if err := applyAsOf(c, s); err != nil {
+		return err
+	}
 	workers := c.Int("workers")
 	if workers < 1 {
 		return &exitError{exitSpec, fmt.Errorf("almanac run: --workers must be at least 1, got %d", workers)}
 	}
-	opts := pipeline.Options{Out: c.String("out"), Workers: workers, BatchRows: c.Int64("batch-rows")}
+	opts := pipeline.Options{Out: c.String("out"), Workers: workers, BatchRows: c.Int64("batch-rows"), CleanShards: c.Bool("clean-shards")}
+	if n := c.Int("shard-count"); n < 0 || n > pipeline.MaxShards {
+		return &exitError{exitSpec, fmt.Errorf("almanac run: --shard-count %d is outside 1…%d", n, pipeline.MaxShards)}
+	}
 	if n := c.Int("shard-count"); n > 1 {
 		idx := c.Int("shard-index")
 		if idx < 0 {
@@ -377,6 +463,9 @@ func diffCmd(c *cli.Context) error {
 		return &exitError{exitSpec, fmt.Errorf("almanac diff: --format %q: want text or markdown", c.String("format"))}
 	}
 	if p := c.String("parquet"); p != "" {
+		if err := notInRunFolder("--parquet", p); err != nil {
+			return &exitError{exitSpec, fmt.Errorf("almanac diff: %v", err)}
+		}
 		if err := d.WriteParquet(p); err != nil {
 			return &exitError{exitRun, fmt.Errorf("almanac diff: %v", err)}
 		}
@@ -397,6 +486,11 @@ func explainCmd(c *cli.Context) error {
 		return &exitError{exitSpec, errors.New("almanac explain: expected RUN_DIR and the series' key values")}
 	}
 	opt := explain.Options{AllForecasts: c.Bool("all-forecasts"), Seasons: c.Int("seasons"), PNG: c.String("png")}
+	if opt.PNG != "" {
+		if err := notInRunFolder("--png", opt.PNG); err != nil {
+			return &exitError{exitSpec, fmt.Errorf("almanac explain: %v", err)}
+		}
+	}
 	if m := c.String("methods"); m != "" {
 		opt.Methods = strings.Split(m, ",")
 	}
@@ -440,14 +534,37 @@ func verifyCmd(c *cli.Context) error {
 	if c.NArg() != 1 {
 		return &exitError{exitSpec, fmt.Errorf("almanac verify: expected one RUN_DIR argument, got %d", c.NArg())}
 	}
-	code, err := pipeline.Verify(c.Context, c.Args().First(), c.App.Writer, max(1, c.Int("workers")))
+	// Exit codes: pipeline.VerifyIdentical (0), VerifyDiffers (1),
+	// VerifyInputsChanged (3), VerifyUnusable (4); 2 stays the usage error.
+	code, err := pipeline.Verify(c.Context, c.Args().First(), c.App.Writer,
+		pipeline.VerifyOptions{Workers: max(1, c.Int("workers")), InputRoot: c.String("input-root")})
 	if err != nil {
-		return &exitError{exitSpec, fmt.Errorf("almanac verify: %v", err)}
+		return &exitError{exitUnusable, fmt.Errorf("almanac verify: %v", err)}
 	}
 	if code := verifyExit(code); code != exitOK {
 		return &exitError{code, nil}
 	}
 	return nil
+}
+
+// notInRunFolder refuses an output path of a review command that lies in
+// a run folder (or a folder being staged as one): its files belong to the
+// run, and the manifest and verify vouch for them.
+func notInRunFolder(flag, path string) error {
+	abs, err := filepath.Abs(path)
+	if err != nil {
+		return err
+	}
+	for dir := filepath.Dir(abs); ; dir = filepath.Dir(dir) {
+		for _, m := range []string{runfolder.MarkerFile, runfolder.MarkerFile + ".staging"} {
+			if _, err := os.Stat(filepath.Join(dir, m)); err == nil {
+				return fmt.Errorf("%s %s: that is inside the run folder %s; write it elsewhere (almanac never changes a run folder's files)", flag, path, dir)
+			}
+		}
+		if dir == filepath.Dir(dir) {
+			return nil
+		}
+	}
 }
 
 func printSummary(w io.Writer, sum *pipeline.Summary) {

@@ -115,13 +115,86 @@ func (e *timeError) Error() string { return e.msg }
 
 const timeForms = "expected a date (2024-07-15), an RFC 3339 timestamp (2024-07-15T09:30:00Z), a month (2024-07), a quarter (2024-Q3), an ISO week (2024-W07) or a year (2024)"
 
-// parse reads a time value written as text and buckets it into its period.
+// Parse reads a time value written as text and buckets it into its period.
 func (c Calendar) Parse(s string) (int64, error) {
+	t, err := c.ParseSpan(s)
+	return t.Period, err
+}
+
+// RowTime is where one row's time value lands: its period, the days it
+// covers (one for a date; all of a month's for "2024-03"), and whether it is
+// a date finer than the calendar (a day on a weekly calendar).
+type RowTime struct {
+	Period      int64
+	First, Last int64 // days since 1970-01-01
+	Fine        bool
+}
+
+// Days of the years almanac accepts, 0001-01-01 … 9999-12-31: beyond them
+// DATE32 values wrap in other tools and the labels lose their meaning.
+var (
+	MinDay = daysFromCivil(1, 1, 1)
+	MaxDay = daysFromCivil(9999, 12, 31)
+)
+
+// ParseSpan is Parse with the days the value covers.
+func (c Calendar) ParseSpan(s string) (RowTime, error) {
 	g, days, idx, err := parseTimeText(s)
 	if err != nil {
-		return 0, err
+		return RowTime{}, err
 	}
-	return c.bucket(s, g, days, idx)
+	p, err := c.bucket(s, g, days, idx)
+	if err != nil {
+		return RowTime{}, err
+	}
+	first, last := grainSpan(g, days, idx)
+	if first < MinDay || last > MaxDay {
+		return RowTime{}, &timeError{fmt.Sprintf("%q lies outside the years 1 to 9999", s)}
+	}
+	return RowTime{Period: p, First: first, Last: last, Fine: g == grainDay && c.Freq != spec.Day}, nil
+}
+
+// DayTime is the RowTime of a day read from a DATE or TIMESTAMP column.
+func (c Calendar) DayTime(days int64) (RowTime, error) {
+	if days < MinDay || days > MaxDay {
+		y, _, _ := civil(days)
+		return RowTime{}, &timeError{fmt.Sprintf("the date lies in the year %d, outside the years 1 to 9999", y)}
+	}
+	return RowTime{Period: c.FromDays(days), First: days, Last: days, Fine: c.Freq != spec.Day}, nil
+}
+
+// grainSpan is the first and last day of a value of grain g.
+func grainSpan(g grain, days, idx int64) (int64, int64) {
+	switch g {
+	case grainDay:
+		return days, days
+	case grainWeek:
+		return idx*7 - 3, idx*7 + 3
+	case grainMonth:
+		y, m := FloorDiv(idx, 12), floorMod(idx, 12)+1
+		first := daysFromCivil(y, m, 1)
+		return first, first + int64(daysIn(y, m)) - 1
+	case grainQuarter:
+		start := func(i int64) int64 { return daysFromCivil(FloorDiv(i, 4), floorMod(i, 4)*3+1, 1) }
+		return start(idx), start(idx+1) - 1
+	}
+	return daysFromCivil(idx, 1, 1), daysFromCivil(idx+1, 1, 1) - 1
+}
+
+// EndDays is the last day of period p.
+func (c Calendar) EndDays(p int64) int64 { return c.StartDays(p+1) - 1 }
+
+// LabelDay renders a day as YYYY-MM-DD.
+func LabelDay(d int64) string {
+	y, m, dd := civil(d)
+	return fmt.Sprintf("%04d-%02d-%02d", y, m, dd)
+}
+
+// DayOf reads a day written YYYY-MM-DD (as spec.CheckDay accepts it).
+func DayOf(s string) int64 {
+	var y, m, d int64
+	fmt.Sscanf(s, "%d-%d-%d", &y, &m, &d)
+	return daysFromCivil(y, m, d)
 }
 
 // bucket turns a parsed value of grain g into a period of the calendar. A

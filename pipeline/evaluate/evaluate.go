@@ -144,7 +144,7 @@ func (e *Evaluation) Backtest(w *forecast.Work, s *series.Series) *Backtest {
 	if dropped > 0 {
 		msg := fmt.Sprintf("only %d of %d backtest folds fit a history of %d periods (min_train %d, horizon %d, step %d)",
 			len(folds), e.bt.Folds, len(y), e.bt.MinTrain, e.bt.Horizon, e.bt.Step)
-		r.Problems = append(r.Problems, runfolder.Problem{Key: s.Key, Stage: "backtest", Severity: "warning", Message: msg})
+		r.Problems = append(r.Problems, runfolder.Problem{Key: s.Key, Stage: "backtest", Severity: "warning", Code: runfolder.CodeBacktestShort, Message: msg})
 	}
 	if len(folds) == 0 {
 		r.reason = fmt.Sprintf("history too short for any backtest fold; fell back to %s", w.Spec.Selection.Fallback)

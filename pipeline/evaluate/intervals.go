@@ -316,7 +316,7 @@ func (e *Evaluation) combine(r *forecast.Result, choice *seriesChoice) {
 		}
 	}
 	problem := func(severity, msg string) {
-		r.Problems = append(r.Problems, runfolder.Problem{Key: r.Series.Key, Stage: "forecast", Severity: severity, Method: e.combo.Label, Message: msg})
+		r.Problems = append(r.Problems, runfolder.Problem{Key: r.Series.Key, Stage: "forecast", Severity: severity, Code: runfolder.CodeCombinationFailed, Method: e.combo.Label, Message: msg})
 	}
 	if len(fcs) < len(choice.members) {
 		if !e.combinationAlways() {

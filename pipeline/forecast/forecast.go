@@ -4,6 +4,7 @@
 package forecast
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"runtime/debug"
@@ -101,26 +102,29 @@ func AllMissing(y []float64) bool {
 // problems rows of the result, never an error.
 func (w *Work) Run(s *series.Series) *Result {
 	r := &Result{Series: s}
-	add := func(stage, severity, method, msg string) {
-		r.Problems = append(r.Problems, runfolder.Problem{Key: s.Key, Stage: stage, Severity: severity, Method: method, Message: msg})
+	add := func(stage, severity, code, method, msg string) {
+		r.Problems = append(r.Problems, runfolder.Problem{Key: s.Key, Stage: stage, Severity: severity, Code: code, Method: method, Message: msg})
+	}
+	for _, n := range s.Notes {
+		add("shape", n.Severity, n.Code, "", n.Message)
 	}
 	if s.Skip != "" {
-		add("shape", "error", "", s.Skip)
+		add("shape", "error", s.SkipCode, "", s.Skip)
 		return r
 	}
 	if AllMissing(s.Values) {
-		add("shape", "error", "", fmt.Sprintf("all %d values are missing; no decomposition or forecast", len(s.Values)))
+		add("shape", "error", runfolder.CodeAllMissing, "", fmt.Sprintf("all %d values are missing; no decomposition or forecast", len(s.Values)))
 		return r
 	}
 	m := w.Spec.Calendar.SeasonLength
 	if w.Decomposer != nil {
 		d, err := safeDecompose(w.Decomposer, s.Values, m)
 		if err != nil {
-			add("decompose", "error", "", err.Error())
+			add("decompose", "error", ErrorCode(err, runfolder.CodeDecomposeFailed), "", err.Error())
 		} else {
 			r.Decomp = d
 			for _, msg := range d.Warnings {
-				add("decompose", "warning", "", msg)
+				add("decompose", "warning", WarningCode(msg, runfolder.CodeDecomposeWarning), "", msg)
 			}
 		}
 	}
@@ -130,11 +134,11 @@ func (w *Work) Run(s *series.Series) *Result {
 		label := mr.Spec.Label
 		res, err := SafeForecast(method, s.Values, m, h, w.WantVariance)
 		if err != nil {
-			add("forecast", "error", label, TrimName(err.Error(), mr.Spec.Method))
+			add("forecast", "error", ErrorCode(err, runfolder.CodeMethodFailed), label, TrimName(err.Error(), mr.Spec.Method))
 			continue
 		}
 		for _, msg := range res.Warnings {
-			add("forecast", "warning", label, TrimName(msg, mr.Spec.Method))
+			add("forecast", "warning", WarningCode(msg, runfolder.CodeMethodWarning), label, TrimName(msg, mr.Spec.Method))
 		}
 		r.Forecasts = append(r.Forecasts, Forecast{Label: label, Model: res.Model, Values: res.Values, Variance: res.Variance})
 	}
@@ -267,4 +271,24 @@ func SafeFit(m engines.Method, y []float64, season int) (f engines.Fitted, err e
 		}
 	}()
 	return m.Fit(y, season)
+}
+
+// ErrorCode classifies a method's or a decomposition's error for the
+// problems table's code column.
+func ErrorCode(err error, other string) string {
+	switch {
+	case errors.Is(err, engines.ErrTooShort):
+		return runfolder.CodeShortHistory
+	case errors.Is(err, engines.ErrAllMissing):
+		return runfolder.CodeAllMissing
+	}
+	return other
+}
+
+// WarningCode classifies a method's or a decomposition's warning.
+func WarningCode(msg, other string) string {
+	if strings.Contains(msg, "needs strictly positive values") {
+		return runfolder.CodeNonpositive
+	}
+	return other
 }

@@ -3,12 +3,16 @@ package ingest
 import (
 	"bufio"
 	"encoding/binary"
+	"errors"
 	"fmt"
 	"io"
 	"math"
 	"os"
 	"path/filepath"
 	"slices"
+	"time"
+
+	"almanac/pipeline/runfolder"
 )
 
 // DefaultBatchRows is how many input rows a run holds in memory at once.
@@ -23,24 +27,32 @@ const spillRowBytes = 4 + 4 + 8 + 8 + 8
 
 // spill holds rows on disk while the input is read.
 type spill struct {
-	dir  string
-	f    *os.File
-	w    *bufio.Writer
-	rows int64
-	buf  [spillRowBytes]byte
+	dir     string
+	lock    *os.File // held while the run lives (see RemoveStaleSpills)
+	untrack func()
+	f       *os.File
+	w       *bufio.Writer
+	rows    int64
+	buf     [spillRowBytes]byte
 }
 
 func newSpill() (*spill, error) {
-	dir, err := os.MkdirTemp("", "almanac-spill-")
+	dir, err := os.MkdirTemp("", spillPrefix)
 	if err != nil {
 		return nil, err
 	}
-	f, err := os.Create(filepath.Join(dir, "rows"))
+	lock, err := runfolder.TakeLock(filepath.Join(dir, "lock"), false)
 	if err != nil {
 		os.RemoveAll(dir)
 		return nil, err
 	}
-	return &spill{dir: dir, f: f, w: bufio.NewWriterSize(f, 1<<20)}, nil
+	f, err := os.Create(filepath.Join(dir, "rows"))
+	if err != nil {
+		lock.Close()
+		os.RemoveAll(dir)
+		return nil, err
+	}
+	return &spill{dir: dir, lock: lock, f: f, w: bufio.NewWriterSize(f, 1<<20), untrack: runfolder.TrackLive(dir)}, nil
 }
 
 func putRow(b []byte, key, file int32, period int64, value float64, line int64) {
@@ -68,6 +80,8 @@ func (s *spill) close() {
 	if s != nil {
 		s.f.Close()
 		os.RemoveAll(s.dir)
+		s.lock.Close()
+		s.untrack()
 	}
 }
 
@@ -214,6 +228,7 @@ func (b *Batches[S]) load(i int) (*Rows, error) {
 		rs.lines = append(rs.lines, line)
 	}
 	rs.PanelLast = g.PanelLast
+	rs.Times = g.Times
 	return rs, nil
 }
 
@@ -225,3 +240,28 @@ func (b *Batches[S]) Close() {
 
 // Close removes the spilled rows, if any.
 func (r *Rows) Close() { r.spill.close() }
+
+// spillPrefix names spill folders in the temporary directory.
+const spillPrefix = "almanac-spill-"
+
+// RemoveStaleSpills removes the spill folders of runs that have died: a
+// live run holds the lock file inside its spill folder. Folders of older
+// versions (no lock file) are removed once a day old.
+func RemoveStaleSpills() {
+	dirs, _ := filepath.Glob(filepath.Join(os.TempDir(), spillPrefix+"*"))
+	for _, d := range dirs {
+		lock := filepath.Join(d, "lock")
+		if _, err := os.Stat(lock); errors.Is(err, os.ErrNotExist) {
+			if st, err := os.Stat(d); err == nil && st.IsDir() && time.Since(st.ModTime()) > 24*time.Hour {
+				os.RemoveAll(d)
+			}
+			continue
+		}
+		f, err := runfolder.TakeLock(lock, false)
+		if err != nil {
+			continue // alive
+		}
+		os.RemoveAll(d)
+		f.Close()
+	}
+}

@@ -1,11 +1,13 @@
 package ingest
 
 import (
-	"almanac/pipeline/calendar"
-	"almanac/pipeline/runfolder"
 	"context"
+	"crypto/sha256"
+	"encoding/hex"
 	"fmt"
+	"io"
 	"math"
+	"os"
 	"strconv"
 	"strings"
 	"unicode/utf8"
@@ -16,13 +18,15 @@ import (
 	"github.com/apache/arrow-go/v18/parquet/file"
 	"github.com/apache/arrow-go/v18/parquet/pqarrow"
 
+	"almanac/pipeline/calendar"
+	"almanac/pipeline/runfolder"
 	"almanac/spec"
 )
 
 // parquetBatchRows is how many rows are decoded at a time.
 const parquetBatchRows = 64 * 1024
 
-func readParquet(s *spec.Spec, f *InputFile, fileIdx int32, cal calendar.Calendar, rs *Rows) (err error) {
+func readParquet(ctx context.Context, s *spec.Spec, f *InputFile, fileIdx int32, cal calendar.Calendar, rs *Rows) (err error) {
 	defer func() {
 		// The Parquet decoder can panic on some corrupt files; a corrupt
 		// input is a data error, not a crash.
@@ -30,8 +34,11 @@ func readParquet(s *spec.Spec, f *InputFile, fileIdx int32, cal calendar.Calenda
 			err = fmt.Errorf("%s: not a readable Parquet file: %v", f.Path, r)
 		}
 	}()
-	sum, err := runfolder.HashFile(f.Abs)
+	sum, err := hashFile(ctx, f.Abs)
 	if err != nil {
+		if ctx.Err() != nil {
+			return ctx.Err()
+		}
 		return fmt.Errorf("%s: %v", f.Path, err)
 	}
 	pf, err := file.OpenParquetFile(f.Abs, false)
@@ -48,7 +55,7 @@ func readParquet(s *spec.Spec, f *InputFile, fileIdx int32, cal calendar.Calenda
 	if err != nil {
 		return err
 	}
-	rr, err := fr.GetRecordReader(context.Background(), cols, nil)
+	rr, err := fr.GetRecordReader(ctx, cols, nil)
 	if err != nil {
 		return fmt.Errorf("%s: %v", f.Path, err)
 	}
@@ -60,11 +67,14 @@ func readParquet(s *spec.Spec, f *InputFile, fileIdx int32, cal calendar.Calenda
 	var row int64
 	var errs []string
 	for pr.Next() {
+		if err := ctx.Err(); err != nil {
+			return err
+		}
 		rec := pr.RecordBatch()
 		n := int(rec.NumRows())
 		tcol, vcol := rec.Column(0), rec.Column(1)
 		periods, terrs := parquetPeriods(f.Path, s.Columns.Time, tcol, cal, row)
-		values, verr := parquetValues(f.Path, s.Columns.Value, vcol)
+		values, verr := parquetValues(f.Path, s.Columns.Value, vcol, row)
 		errs = append(errs, terrs...)
 		if verr != nil {
 			errs = append(errs, verr.Error())
@@ -86,14 +96,19 @@ func readParquet(s *spec.Spec, f *InputFile, fileIdx int32, cal calendar.Calenda
 				if kerr != nil {
 					return kerr
 				}
-				keyParts[j] = k
+				keyParts[j] = normaliseKey(rs.keyRule, k)
 				if k == "" {
 					rs.KeyBlanks++
 				} else if !utf8.ValidString(k) {
 					return &DataError{Msgs: []string{fmt.Sprintf("%s: row %d: column %q: %q is not valid UTF-8; almanac reads text as UTF-8", f.Path, row+int64(i)+1, s.Columns.Keys[j], k)}}
+				} else if msg := keyCharError(k); msg != "" {
+					return &DataError{Msgs: []string{fmt.Sprintf("%s: row %d: column %q: %s", f.Path, row+int64(i)+1, s.Columns.Keys[j], msg)}}
 				}
 			}
-			rs.add(rs.internKey(keyParts), periods[i], values[i], fileIdx, row+int64(i)+1)
+			if !rs.Times.observe(cal, periods[i], fileIdx, row+int64(i)+1) {
+				continue
+			}
+			rs.add(rs.internKey(keyParts), periods[i].Period, values[i], fileIdx, row+int64(i)+1)
 		}
 		row += int64(n)
 	}
@@ -109,7 +124,7 @@ func readParquet(s *spec.Spec, f *InputFile, fileIdx int32, cal calendar.Calenda
 	f.Rows = row
 	f.SHA256 = sum
 	if row == 0 {
-		rs.Notes = append(rs.Notes, fmt.Sprintf("%s has no rows", f.Path))
+		rs.Notes = append(rs.Notes, runfolder.Problem{Stage: "read", Severity: "warning", Code: runfolder.CodeNoRows, Message: fmt.Sprintf("%s has no rows", f.Path)})
 	}
 	return nil
 }
@@ -138,9 +153,9 @@ func parquetColumns(pf *file.Reader, path string, s *spec.Spec) ([]int, error) {
 	return cols, nil
 }
 
-func parquetPeriods(path, name string, col arrow.Array, cal calendar.Calendar, base int64) ([]int64, []string) {
+func parquetPeriods(path, name string, col arrow.Array, cal calendar.Calendar, base int64) ([]calendar.RowTime, []string) {
 	n := col.Len()
-	out := make([]int64, n)
+	out := make([]calendar.RowTime, n)
 	var errs []string
 	nullErr := func(i int) {
 		errs = append(errs, fmt.Sprintf("%s: row %d: column %q: the time is NULL", path, base+int64(i)+1, name))
@@ -152,7 +167,12 @@ func parquetPeriods(path, name string, col arrow.Array, cal calendar.Calendar, b
 				nullErr(i)
 				continue
 			}
-			out[i] = cal.FromDays(int64(c.Value(i)))
+			t, err := cal.DayTime(int64(c.Value(i)))
+			if err != nil {
+				errs = append(errs, fmt.Sprintf("%s: row %d: column %q: %v", path, base+int64(i)+1, name, err))
+				continue
+			}
+			out[i] = t
 		}
 	case *array.Date64:
 		for i := 0; i < n; i++ {
@@ -160,7 +180,12 @@ func parquetPeriods(path, name string, col arrow.Array, cal calendar.Calendar, b
 				nullErr(i)
 				continue
 			}
-			out[i] = cal.FromDays(calendar.FloorDiv(int64(c.Value(i)), 86400000))
+			t, err := cal.DayTime(calendar.FloorDiv(int64(c.Value(i)), 86400000))
+			if err != nil {
+				errs = append(errs, fmt.Sprintf("%s: row %d: column %q: %v", path, base+int64(i)+1, name, err))
+				continue
+			}
+			out[i] = t
 		}
 	case *array.Timestamp:
 		unit := c.DataType().(*arrow.TimestampType).Unit
@@ -170,7 +195,12 @@ func parquetPeriods(path, name string, col arrow.Array, cal calendar.Calendar, b
 				nullErr(i)
 				continue
 			}
-			out[i] = cal.FromDays(calendar.FloorDiv(int64(c.Value(i)), perDay))
+			t, err := cal.DayTime(calendar.FloorDiv(int64(c.Value(i)), perDay))
+			if err != nil {
+				errs = append(errs, fmt.Sprintf("%s: row %d: column %q: %v", path, base+int64(i)+1, name, err))
+				continue
+			}
+			out[i] = t
 		}
 	case array.StringLike:
 		for i := 0; i < n; i++ {
@@ -178,7 +208,7 @@ func parquetPeriods(path, name string, col arrow.Array, cal calendar.Calendar, b
 				nullErr(i)
 				continue
 			}
-			p, err := cal.Parse(strings.TrimSpace(c.ValueStr(i)))
+			p, err := cal.ParseSpan(strings.TrimSpace(c.ValueStr(i)))
 			if err != nil {
 				errs = append(errs, fmt.Sprintf("%s: row %d: column %q: %v", path, base+int64(i)+1, name, err))
 				continue
@@ -194,7 +224,7 @@ func parquetPeriods(path, name string, col arrow.Array, cal calendar.Calendar, b
 	return out, errs
 }
 
-func parquetValues(path, name string, col arrow.Array) ([]float64, error) {
+func parquetValues(path, name string, col arrow.Array, base int64) ([]float64, error) {
 	n := col.Len()
 	out := make([]float64, n)
 	var get func(i int) float64
@@ -230,7 +260,11 @@ func parquetValues(path, name string, col arrow.Array) ([]float64, error) {
 			out[i] = math.NaN()
 			continue
 		}
-		out[i] = get(i)
+		v := get(i)
+		if math.IsInf(v, 0) {
+			return nil, fmt.Errorf("%s: row %d: column %q: %v: infinite values are not accepted; write NULL for a missing value", path, base+int64(i)+1, name, v)
+		}
+		out[i] = v
 	}
 	return out, nil
 }
@@ -271,4 +305,29 @@ func parquetKeys(path, name string, col arrow.Array) (func(int) (string, error),
 		}, nil
 	}
 	return nil, fmt.Errorf("%s: key column %q has type %s; key columns must be text or integers", path, name, col.DataType())
+}
+
+// hashFile is the hex SHA-256 of a file, read in pieces that each look at
+// ctx first, so that a signal stops the hashing of a large file too.
+func hashFile(ctx context.Context, path string) (string, error) {
+	fh, err := os.Open(path)
+	if err != nil {
+		return "", err
+	}
+	defer fh.Close()
+	h := sha256.New()
+	buf := make([]byte, 1<<20)
+	for {
+		if err := ctx.Err(); err != nil {
+			return "", err
+		}
+		n, err := fh.Read(buf)
+		h.Write(buf[:n])
+		if err == io.EOF {
+			return hex.EncodeToString(h.Sum(nil)), nil
+		}
+		if err != nil {
+			return "", err
+		}
+	}
 }

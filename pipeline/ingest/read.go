@@ -1,7 +1,6 @@
 package ingest
 
 import (
-	"almanac/pipeline/calendar"
 	"context"
 	"crypto/sha256"
 	"encoding/csv"
@@ -17,6 +16,8 @@ import (
 	"strings"
 	"unicode/utf8"
 
+	"almanac/pipeline/calendar"
+	"almanac/pipeline/runfolder"
 	"almanac/spec"
 )
 
@@ -44,9 +45,9 @@ type Rows struct {
 	keyIndex  map[string]int32
 	keyBuf    []byte
 	files_    []InputFile
-	Missing   int64    // rows whose value was empty or NaN
-	KeyBlanks int64    // rows whose key had an empty component
-	Notes     []string // read warnings that become run-level problems rows
+	Missing   int64               // rows whose value was empty or NaN
+	KeyBlanks int64               // rows whose key had an empty component
+	Notes     []runfolder.Problem // run-level problems rows: read warnings, the guards' notes
 
 	// Past batchRows rows, rows go to spill instead of the slices above;
 	// keyRows counts rows per key either way, rowCount all rows, and
@@ -61,6 +62,12 @@ type Rows struct {
 
 	// With sharding, only keys of this shard are kept (see ShardOf).
 	shardIndex, shardCount int
+
+	// Times is what the rows' times say, for the time guards (see Guard);
+	// the batches of one run share it.
+	Times *TimeStats
+	// keyRule is shaping.key_variants, applied to key values as read.
+	keyRule spec.KeyVariants
 }
 
 func newRows() *Rows {
@@ -183,7 +190,16 @@ func ResolveSources(s *spec.Spec) ([]InputFile, error) {
 				continue
 			}
 			seen[m] = true
-			out = append(out, InputFile{Path: relTo(s.Dir, m), Format: string(src.Format), Size: st.Size(), Abs: m, Source: i})
+			// A source written relative to the spec is recorded relative
+			// to it (even above it, ../data/x.csv), so a copied project
+			// verifies against its own inputs and keeps its run id.
+			rel := relTo(s.Dir, m)
+			if !filepath.IsAbs(src.Path) {
+				if r, err := filepath.Rel(s.Dir, m); err == nil {
+					rel = filepath.ToSlash(r)
+				}
+			}
+			out = append(out, InputFile{Path: rel, Format: string(src.Format), Size: st.Size(), Abs: m, Source: i})
 		}
 	}
 	return out, nil
@@ -204,6 +220,8 @@ func Read(ctx context.Context, s *spec.Spec, files []InputFile, cal calendar.Cal
 	rs := newRows()
 	rs.files_ = files
 	rs.batchRows = batchRows
+	rs.Times = newTimeStats(s.Shaping.Until)
+	rs.keyRule = s.Shaping.KeyVariants
 	if len(shard) > 0 {
 		rs.shardIndex, rs.shardCount = shard[0].Index, shard[0].Count
 	}
@@ -215,9 +233,9 @@ func Read(ctx context.Context, s *spec.Spec, files []InputFile, cal calendar.Cal
 		var err error
 		switch f.Format {
 		case string(spec.FormatCSV):
-			err = readCSV(s, f, int32(i), s.Sources[f.Source], cal, rs)
+			err = readCSV(ctx, s, f, int32(i), s.Sources[f.Source], cal, rs)
 		case string(spec.FormatParquet):
-			err = readParquet(s, f, int32(i), cal, rs)
+			err = readParquet(ctx, s, f, int32(i), cal, rs)
 		default:
 			err = fmt.Errorf("%s: unknown format %q", f.Path, f.Format)
 		}
@@ -229,7 +247,13 @@ func Read(ctx context.Context, s *spec.Spec, files []InputFile, cal calendar.Cal
 			return nil, err
 		}
 	}
-	if rs.RowCount == 0 {
+	// A shard whose series are all on other shards still writes its
+	// (empty) parts, so that the dataset can be combined.
+	if rs.RowCount == 0 && !(rs.shardCount > 1 && len(rs.Times.periods) > 0) {
+		rs.spill.close()
+		if rs.Times.afterUntil > 0 {
+			return nil, fmt.Errorf("every row is dated after %s (shaping.until or --as-of); nothing to forecast", calendar.LabelDay(rs.Times.until))
+		}
 		return nil, fmt.Errorf("no data rows in any input (%d file(s) read); nothing to forecast", len(files))
 	}
 	return rs, nil
@@ -250,7 +274,11 @@ func (h *hashingReader) Read(p []byte) (int, error) {
 	return n, err
 }
 
-func readCSV(s *spec.Spec, f *InputFile, fileIdx int32, src spec.Source, cal calendar.Calendar, rs *Rows) error {
+// ctxEvery is how many rows a reader reads between looks at its context,
+// so that a signal stops a long read within a fraction of a second.
+const ctxEvery = 4096
+
+func readCSV(ctx context.Context, s *spec.Spec, f *InputFile, fileIdx int32, src spec.Source, cal calendar.Calendar, rs *Rows) error {
 	fh, err := os.Open(f.Abs)
 	if err != nil {
 		return fmt.Errorf("%s: %v", f.Path, err)
@@ -285,6 +313,11 @@ func readCSV(s *spec.Spec, f *InputFile, fileIdx int32, src spec.Source, cal cal
 			break
 		}
 		rows++
+		if rows%ctxEvery == 0 {
+			if err := ctx.Err(); err != nil {
+				return err
+			}
+		}
 		line, _ := cr.FieldPos(timeIdx)
 		if sameFields(rec, header) {
 			errs = append(errs, fmt.Sprintf("%s:%d: this line repeats the header; two exports were probably joined — remove the extra header line", f.Path, line))
@@ -294,7 +327,8 @@ func readCSV(s *spec.Spec, f *InputFile, fileIdx int32, src spec.Source, cal cal
 			continue
 		}
 		tv := strings.TrimSpace(rec[timeIdx])
-		p, terr := cal.Parse(tv)
+		rt, terr := cal.ParseSpan(tv)
+		p := rt.Period
 		if terr != nil {
 			errs = append(errs, fmt.Sprintf("%s:%d: column %q: %v", f.Path, line, s.Columns.Time, terr))
 		}
@@ -312,12 +346,16 @@ func readCSV(s *spec.Spec, f *InputFile, fileIdx int32, src spec.Source, cal cal
 		}
 		badKey := false
 		for j, k := range keyIdx {
-			keyParts[j] = rec[k]
+			keyParts[j] = normaliseKey(rs.keyRule, rec[k])
 			if rec[k] == "" {
 				rs.KeyBlanks++
 			} else if !utf8.ValidString(rec[k]) {
 				kl, _ := cr.FieldPos(k)
 				errs = append(errs, fmt.Sprintf("%s:%d: column %q: %q is not valid UTF-8; almanac reads text as UTF-8 (re-export the file as UTF-8)", f.Path, kl, s.Columns.Keys[j], rec[k]))
+				badKey = true
+			} else if msg := keyCharError(rec[k]); msg != "" {
+				kl, _ := cr.FieldPos(k)
+				errs = append(errs, fmt.Sprintf("%s:%d: column %q: %s", f.Path, kl, s.Columns.Keys[j], msg))
 				badKey = true
 			}
 		}
@@ -325,6 +363,9 @@ func readCSV(s *spec.Spec, f *InputFile, fileIdx int32, src spec.Source, cal cal
 			if len(errs) >= MaxDataErrors {
 				break
 			}
+			continue
+		}
+		if !rs.Times.observe(cal, rt, fileIdx, int64(line)) {
 			continue
 		}
 		rs.add(rs.internKey(keyParts), p, v, fileIdx, int64(line))
@@ -339,7 +380,8 @@ func readCSV(s *spec.Spec, f *InputFile, fileIdx int32, src spec.Source, cal cal
 	f.Rows = rows
 	f.SHA256 = hex.EncodeToString(hr.h.Sum(nil))
 	if rows == 0 {
-		rs.Notes = append(rs.Notes, fmt.Sprintf("%s has a header line but no rows", f.Path))
+		rs.Notes = append(rs.Notes, runfolder.Problem{Stage: "read", Severity: "warning", Code: runfolder.CodeNoRows,
+			Message: fmt.Sprintf("%s has a header line but no rows", f.Path)})
 	}
 	return nil
 }

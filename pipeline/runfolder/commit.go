@@ -30,6 +30,12 @@ func CheckTarget(target string, inputs []Input) error {
 			return fmt.Errorf("output folder %s holds the input %s; write the run somewhere else (replacing the folder would delete the input)", target, in.Path)
 		}
 	}
+	return checkReplaceable(target)
+}
+
+// checkReplaceable refuses a target that exists and is neither an almanac
+// run folder nor an empty folder.
+func checkReplaceable(target string) error {
 	st, err := os.Stat(target)
 	if errors.Is(err, os.ErrNotExist) {
 		return nil
@@ -60,10 +66,17 @@ func MakeStaging(target string) (string, error) {
 	if err := os.MkdirAll(parent, 0o755); err != nil {
 		return "", err
 	}
-	// Glob fails only on a malformed pattern; a target name with pattern
-	// characters then finds nothing to clean, which costs only disk space.
-	stale, _ := filepath.Glob(filepath.Join(parent, tmpPrefix+filepath.Base(target)+"-*"))
-	for _, s := range stale {
+	// The caller holds the target's lock (LockTarget), so a staging folder
+	// of this target is a dead run's; a sibling's (weekly-eu beside weekly)
+	// never matches. A parent that cannot be listed only leaves a dead
+	// run's folder behind (disk space); the Mkdir below reports a folder
+	// this run cannot use.
+	entries, _ := os.ReadDir(parent)
+	for _, e := range entries {
+		if !isStagingOf(e.Name(), filepath.Base(target)) {
+			continue
+		}
+		s := filepath.Join(parent, e.Name())
 		if _, err := os.Stat(filepath.Join(s, StagingMarker)); err == nil {
 			// Best effort: a killed run's leftover is hidden and holds no
 			// result anyone reads; what cannot be removed now is tried
@@ -107,6 +120,12 @@ func CommitStaging(staging, target string) error {
 		return err
 	}
 	parent := filepath.Dir(target)
+	// What is at the target now, not what was there when the run began:
+	// a folder someone made there meanwhile is refused, not swapped in and
+	// deleted.
+	if err := checkReplaceable(target); err != nil {
+		return err
+	}
 	if _, err := os.Stat(target); errors.Is(err, os.ErrNotExist) {
 		if err := os.Rename(staging, target); err != nil {
 			return err

@@ -40,23 +40,30 @@ type Manifest struct {
 	Series        int              `json:"series"`
 	Methods       []ManifestMethod `json:"methods"`
 	Tables        []TableInfo      `json:"tables"`
-	Problems      ProblemCounts    `json:"problems"`
-	Leaderboard   *Leaderboard     `json:"leaderboard,omitempty"`
-	Shard         *ShardInfo       `json:"shard,omitempty"`
-	Workers       int              `json:"workers"`
-	Stages        []StageTiming    `json:"stages"`
-	StartedAt     string           `json:"started_at"`
-	FinishedAt    string           `json:"finished_at"`
-	Seconds       float64          `json:"seconds"`
+	// Report is report.html's size and SHA-256 when the spec asks for it
+	// (it depends on the previous run, so verify checks it against this,
+	// not against a rerun).
+	Report      *TableInfo    `json:"report,omitempty"`
+	Problems    ProblemCounts `json:"problems"`
+	Leaderboard *Leaderboard  `json:"leaderboard,omitempty"`
+	Shard       *ShardInfo    `json:"shard,omitempty"`
+	Workers     int           `json:"workers"`
+	Stages      []StageTiming `json:"stages"`
+	StartedAt   string        `json:"started_at"`
+	FinishedAt  string        `json:"finished_at"`
+	Seconds     float64       `json:"seconds"`
 }
 
 // ManifestSpec identifies the spec of a run.
 type ManifestSpec struct {
-	Name      string          `json:"name"`
-	File      string          `json:"file"`
-	Dir       string          `json:"dir"` // absolute folder of the spec: input paths are relative to it
-	SHA256    string          `json:"sha256"`
-	Canonical json.RawMessage `json:"canonical"`
+	Name string `json:"name"`
+	File string `json:"file"`
+	Dir  string `json:"dir"` // absolute folder of the spec: input paths are relative to it
+	// DirFromRun is the spec's folder relative to the run folder, so that
+	// a project copied or moved elsewhere verifies against its own inputs.
+	DirFromRun string          `json:"dir_from_run,omitempty"`
+	SHA256     string          `json:"sha256"`
+	Canonical  json.RawMessage `json:"canonical"`
 }
 
 // ManifestMethod is one method of the run and how many series it forecast.
@@ -148,4 +155,21 @@ func (f *JSONFloat) UnmarshalJSON(b []byte) error {
 	}
 	*f = JSONFloat(v)
 	return nil
+}
+
+// ReportFile is the HTML report's name in a run folder.
+const ReportFile = "report.html"
+
+// DirFromRun is the spec's folder relative to the run folder target ("" when
+// there is no relative path).
+func DirFromRun(target, specDir string) string {
+	abs, err := filepath.Abs(target)
+	if err != nil {
+		return ""
+	}
+	r, err := filepath.Rel(abs, specDir)
+	if err != nil {
+		return ""
+	}
+	return filepath.ToSlash(r)
 }

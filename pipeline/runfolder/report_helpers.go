@@ -122,6 +122,9 @@ func (r *Run) Scan(name string, f ScanFilter, fn func(batch *Table) error) error
 		return fmt.Errorf("%s: %v", path, err)
 	}
 	defer rr.Release()
+	if err := uniqueColumns(path, rr.Schema()); err != nil {
+		return err
+	}
 	for rr.Next() {
 		rec := rr.RecordBatch()
 		t := &Table{Path: path, Schema: rec.Schema(), Rows: int(rec.NumRows()), Meta: meta, cols: map[string]arrow.Array{}}

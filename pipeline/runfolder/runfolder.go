@@ -126,6 +126,9 @@ func ReadTable(path string) (*Table, error) {
 		return nil, fmt.Errorf("%s: %v", path, err)
 	}
 	defer tbl.Release()
+	if err := uniqueColumns(path, tbl.Schema()); err != nil {
+		return nil, err
+	}
 	t := &Table{Path: path, Schema: tbl.Schema(), Rows: int(tbl.NumRows()), Meta: map[string]string{}, cols: map[string]arrow.Array{}}
 	if kv := pf.MetaData().KeyValueMetadata(); kv != nil {
 		for i, k := range kv.Keys() {
@@ -143,6 +146,20 @@ func ReadTable(path string) (*Table, error) {
 		t.cols[f.Name] = arr
 	}
 	return t, nil
+}
+
+// uniqueColumns refuses a table with two columns of one name (a key column
+// named like an output column, or a table not written by almanac): a reader
+// would see one of them and show wrong numbers.
+func uniqueColumns(path string, sch *arrow.Schema) error {
+	seen := map[string]bool{}
+	for _, f := range sch.Fields() {
+		if seen[f.Name] {
+			return fmt.Errorf("%s: the column %q appears twice; the table is not one almanac wrote", filepath.Base(path), f.Name)
+		}
+		seen[f.Name] = true
+	}
+	return nil
 }
 
 // Has reports whether the table has the column.

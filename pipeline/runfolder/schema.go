@@ -27,6 +27,7 @@ const (
 	ColAdjusted       = "adjusted"
 	ColBias           = "bias"
 	ColChosen         = "chosen"
+	ColCode           = "code"
 	ColCount          = "count"
 	ColCV2            = "cv2"
 	ColDecomposition  = "decomposition"
@@ -193,6 +194,7 @@ func ProblemColumns() []Column {
 	return []Column{
 		{ColStage, colString, false},
 		{ColSeverity, colString, false},
+		{ColCode, colString, false},
 		{ColMethod, colString, true},
 		{ColMessage, colString, false},
 	}

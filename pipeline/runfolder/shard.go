@@ -14,6 +14,21 @@ import (
 // shardName is the Hive-style partition folder of a shard: shard=0003.
 func shardName(i int) string { return fmt.Sprintf("shard=%04d", i) }
 
+// MaxShards bounds a sharded run's shard count, on the command line and in
+// manifests read back (a corrupt count must not allocate without end).
+const MaxShards = 10000
+
+// ValidateShard checks a shard's index and count.
+func ValidateShard(index, count int) error {
+	if count < 1 || count > MaxShards {
+		return fmt.Errorf("shard count %d is outside 1…%d", count, MaxShards)
+	}
+	if index < 0 || index >= count {
+		return fmt.Errorf("shard index %d is outside 0…%d", index, count-1)
+	}
+	return nil
+}
+
 // ShardsDir holds each finished shard's manifest in a sharded dataset.
 const ShardsDir = "_shards"
 
@@ -23,10 +38,32 @@ type ShardInfo struct {
 	Count int `json:"count"`
 }
 
-// PrepareDataset makes (or accepts) the dataset folder shards write into.
-func PrepareDataset(target string, inputs []Input) error {
+// PrepareDataset makes (or accepts) the dataset folder the shards of a
+// count-shard run write into. It refuses a plain run folder, and a dataset
+// holding shards of a run with another shard count (their parts would be
+// read with the new ones) unless clean is set: then that run's leftovers
+// are removed.
+func PrepareDataset(target string, inputs []Input, count int, clean bool) error {
 	if err := CheckTarget(target, inputs); err != nil {
 		return err
+	}
+	if _, err := os.Stat(filepath.Join(target, MarkerFile)); err == nil {
+		if _, err := os.Stat(filepath.Join(target, ShardsDir)); errors.Is(err, os.ErrNotExist) {
+			return fmt.Errorf("%s is the folder of a run that was not sharded; shard parts go into a dataset folder of their own (choose another --out, or remove the folder)", target)
+		}
+	}
+	if stale := staleShards(target, count); len(stale) > 0 {
+		if !clean {
+			return fmt.Errorf("%s holds %s of a run with another shard count (this run has %d shards); rerun with --clean-shards to remove them, or write to another folder", target, strings.Join(stale, ", "), count)
+		}
+		for _, p := range stale {
+			if err := os.RemoveAll(filepath.Join(target, p)); err != nil {
+				return err
+			}
+		}
+		if err := os.Remove(filepath.Join(target, ManifestFile)); err != nil && !errors.Is(err, os.ErrNotExist) {
+			return err
+		}
 	}
 	if err := os.MkdirAll(filepath.Join(target, ShardsDir), 0o755); err != nil {
 		return err
@@ -46,6 +83,33 @@ func PrepareDataset(target string, inputs []Input) error {
 	return fsyncPath(target)
 }
 
+// staleShards lists what a run with another shard count left: manifests of
+// another count, and part folders of shard indexes at or past count.
+func staleShards(target string, count int) []string {
+	var out []string
+	manifests, _ := filepath.Glob(filepath.Join(target, ShardsDir, "shard=*.json"))
+	sort.Strings(manifests)
+	for _, p := range manifests {
+		var m struct{ Shard *ShardInfo }
+		b, err := os.ReadFile(p)
+		if err == nil {
+			err = json.Unmarshal(b, &m)
+		}
+		if err != nil || m.Shard == nil || m.Shard.Count != count {
+			out = append(out, filepath.ToSlash(filepath.Join(ShardsDir, filepath.Base(p))))
+		}
+	}
+	parts, _ := filepath.Glob(filepath.Join(target, "*", "shard=*"))
+	sort.Strings(parts)
+	for _, p := range parts {
+		var i int
+		if _, err := fmt.Sscanf(filepath.Base(p), "shard=%d", &i); err != nil || i >= count {
+			out = append(out, filepath.ToSlash(filepath.Join(filepath.Base(filepath.Dir(p)), filepath.Base(p))))
+		}
+	}
+	return out
+}
+
 // CommitShard moves a shard's staged tables into the dataset's partition
 // folders, <table>/shard=NNNN/part.parquet, then its manifest into
 // _shards/shard=NNNN.json. The manifest goes last and is removed first, so
@@ -53,6 +117,11 @@ func PrepareDataset(target string, inputs []Input) error {
 func CommitShard(staging, target string, index int, tables []string) error {
 	name := shardName(index)
 	manifest := filepath.Join(target, ShardsDir, name+".json")
+	// The combined manifest no longer describes the dataset once a shard
+	// changes: it goes first, and combine writes it again.
+	if err := os.Remove(filepath.Join(target, ManifestFile)); err != nil && !errors.Is(err, os.ErrNotExist) {
+		return err
+	}
 	if err := os.Remove(manifest); err != nil && !errors.Is(err, os.ErrNotExist) {
 		return err
 	}
@@ -131,6 +200,11 @@ func Combine(dir string, w io.Writer) (*CombinedManifest, error) {
 	paths, ms, err := readShardManifests(dir)
 	if err != nil {
 		return nil, err
+	}
+	for i, m := range ms {
+		if err := ValidateShard(m.Shard.Index, m.Shard.Count); err != nil {
+			return nil, fmt.Errorf("%s: %v", paths[i], err)
+		}
 	}
 	count := ms[0].Shard.Count
 	seen := map[int]*Manifest{}

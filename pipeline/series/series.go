@@ -10,6 +10,7 @@ import (
 
 	"almanac/pipeline/calendar"
 	"almanac/pipeline/ingest"
+	"almanac/pipeline/runfolder"
 	"almanac/spec"
 )
 
@@ -22,8 +23,17 @@ type Series struct {
 	// Combined counts periods that held more than one row.
 	Filled, Combined int
 	// Skip, when set, says why the series was not built (Values is nil);
-	// it becomes a problems row and the run goes on.
-	Skip string
+	// it becomes a problems row (with the code SkipCode) and the run goes on.
+	Skip     string
+	SkipCode string
+	// Notes become problems rows of the series: stray rows left out, a
+	// period whose rows add up beyond the range of a float.
+	Notes []Note
+}
+
+// Note is a problems row found while shaping a series.
+type Note struct {
+	Severity, Code, Message string
 }
 
 // Shape groups rows by key, sorts series by key, buckets each series'
@@ -55,10 +65,36 @@ func Shape(rs *ingest.Rows, sh spec.Shaping, lim spec.Limits, cal calendar.Calen
 	slices.SortFunc(ids, func(a, b int32) int { return ingest.CompareKeys(rs.Keys[a], rs.Keys[b]) })
 
 	panelLast := rs.PanelLast
+	t := rs.Times
 	out := make([]*Series, 0, nk)
 	var errs []string
 	for _, id := range ids {
 		rows := order[counts[id]:counts[id+1]]
+		// Rows outside the periods the run uses (see ingest.Guard): stray
+		// periods left out (a problems row each), an incomplete last period.
+		var notes []Note
+		if t != nil && outsideWindow(rs.Periods, rows, t.WinLo, t.WinHi) {
+			kept := make([]int32, 0, len(rows))
+			for _, r := range rows {
+				p := rs.Periods[r]
+				if p >= t.WinLo && p <= t.WinHi {
+					kept = append(kept, r)
+					continue
+				}
+				if t.StrayDropped[p] {
+					notes = append(notes, Note{"warning", runfolder.CodeStrayPeriod, fmt.Sprintf("%s: the row dated in %s lies far from the rest of the data; left out (shaping.stray_dates: drop)", rs.Where(int(r)), cal.Label(p))})
+				}
+			}
+			if len(kept) == 0 {
+				code, why := runfolder.CodePartialPeriod, fmt.Sprintf("all %d row(s) of the series lie in the incomplete last period %s, which was left out", len(rows), cal.Label(rs.Periods[rows[0]]))
+				if len(notes) > 0 {
+					code, why = runfolder.CodeStrayPeriod, fmt.Sprintf("all %d row(s) of the series lie in stray periods, which were left out", len(rows))
+				}
+				out = append(out, &Series{Key: rs.Keys[id], Start: rs.Periods[rows[0]], Skip: why, SkipCode: code, Notes: notes})
+				continue
+			}
+			rows = kept
+		}
 		// Stable sort by period keeps input order within a period, which
 		// "last" relies on.
 		slices.SortStableFunc(rows, func(a, b int32) int {
@@ -76,12 +112,12 @@ func Shape(rs *ingest.Rows, sh spec.Shaping, lim spec.Limits, cal calendar.Calen
 			last = panelLast
 		}
 		if last-first+1 > int64(lim.MaxPeriods) {
-			out = append(out, &Series{Key: rs.Keys[id], Start: first, Skip: fmt.Sprintf("the series spans %d periods (%s … %s, first row at %s), more than limits.max_periods %d; skipped — a stray date is the usual cause",
+			out = append(out, &Series{Key: rs.Keys[id], Start: first, SkipCode: runfolder.CodeTooLong, Notes: notes, Skip: fmt.Sprintf("the series spans %d periods (%s … %s, first row at %s), more than limits.max_periods %d; skipped — a stray date is the usual cause",
 				last-first+1, cal.Label(first), cal.Label(last), rs.Where(int(rows[0])), lim.MaxPeriods)})
 			continue
 		}
 		n := int(last - first + 1)
-		s := &Series{Key: rs.Keys[id], Start: first, Values: make([]float64, n)}
+		s := &Series{Key: rs.Keys[id], Start: first, Values: make([]float64, n), Notes: notes}
 		present := make([]bool, n)
 		for i := 0; i < len(rows); {
 			j := i + 1
@@ -99,7 +135,13 @@ func Shape(rs *ingest.Rows, sh spec.Shaping, lim spec.Limits, cal calendar.Calen
 					}
 				}
 			}
-			s.Values[slot] = combine(sh.Combine, rs.Values, rows[i:j])
+			v := combine(sh.Combine, rs.Values, rows[i:j])
+			if math.IsInf(v, 0) {
+				s.Notes = append(s.Notes, Note{"warning", runfolder.CodeAggregateOverflow, fmt.Sprintf("the %d rows of period %s add up beyond the range of a 64-bit float (%v); the period counts as missing (first row at %s)",
+					j-i, cal.Label(rs.Periods[rows[i]]), v, rs.Where(int(rows[i])))})
+				v = math.NaN()
+			}
+			s.Values[slot] = v
 			i = j
 		}
 		for slot, ok := range present {
@@ -162,4 +204,13 @@ func keyLabel(names, key []string) string {
 		parts[i] = names[i] + "=" + key[i]
 	}
 	return strings.Join(parts, ", ")
+}
+
+func outsideWindow(periods []int64, rows []int32, lo, hi int64) bool {
+	for _, r := range rows {
+		if p := periods[r]; p < lo || p > hi {
+			return true
+		}
+	}
+	return false
 }

@@ -1125,3 +1125,18 @@ func TestPerLine(t *testing.T) {
 		}
 	}
 }
+
+// Values near ±1e308 (hi − lo overflows) and infinities draw a sparkline;
+// they used to index the marks with a NaN.
+func TestSparklineExtremes(t *testing.T) {
+	for _, hist := range [][]float64{
+		{-1e308, 0, 1e308, 5},
+		{math.MaxFloat64, -math.MaxFloat64},
+		{math.Inf(1), 1, math.NaN(), math.Inf(-1)},
+	} {
+		s, _ := sparkline(hist, []float64{1e308, -1e308}, 60)
+		if s == "" {
+			t.Errorf("%v: empty sparkline", hist)
+		}
+	}
+}

@@ -208,7 +208,14 @@ func sparkline(hist, fc []float64, width int) (string, int) {
 		if !(hi > lo) {
 			return sparkMarks[3]
 		}
-		return sparkMarks[int(math.Round((v-lo)/(hi-lo)*float64(len(sparkMarks)-1)))]
+		// Halved so that hi − lo cannot overflow (values near ±1e308), and
+		// clamped: a mark index is always in range.
+		f := (v/2 - lo/2) / (hi/2 - lo/2)
+		if math.IsNaN(f) {
+			f = 0.5
+		}
+		f = math.Min(1, math.Max(0, f))
+		return sparkMarks[int(math.Round(f*float64(len(sparkMarks)-1)))]
 	}
 	var s []rune
 	for end := n; end > 0; end -= b {

@@ -94,15 +94,30 @@ func floorDiv(a, b int64) int64 {
 	return q
 }
 
+// maxSeason is the longest season a spec may have (calendar.season_length).
+const maxSeason = 1000
+
 // factorChart draws a series' seasonal factors as bars from the neutral
 // value (1 for multiplicative, 0 for additive factors).
 func factorChart(id string, d *seriesData, freq string, season int) string {
-	fs := append([]factor(nil), d.factors...)
-	sort.Slice(fs, func(i, j int) bool { return fs[i].position < fs[j].position })
-	m := season
-	for _, f := range fs {
-		m = max(m, f.position)
+	// Positions run 1…season (at most maxSeason, the spec's limit); a
+	// table holding others (a damaged run folder) must not size the chart.
+	if season < 1 || season > maxSeason {
+		season = 0
+		for _, f := range d.factors {
+			if f.position >= 1 && f.position <= maxSeason {
+				season = max(season, f.position)
+			}
+		}
 	}
+	var fs []factor
+	for _, f := range d.factors {
+		if f.position >= 1 && f.position <= season {
+			fs = append(fs, f)
+		}
+	}
+	sort.Slice(fs, func(i, j int) bool { return fs[i].position < fs[j].position })
+	m := max(season, 1)
 	neutral := 0.0
 	if d.form == "multiplicative" {
 		neutral = 1
