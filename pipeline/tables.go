@@ -2,10 +2,10 @@ package pipeline
 
 import (
 	"errors"
-	"sync"
 	"fmt"
 	"slices"
 	"strings"
+	"sync"
 
 	"github.com/apache/arrow-go/v18/arrow/memory"
 
