@@ -168,22 +168,35 @@ func arimaDecompose(y []float64, m int) (trend, seasonal, remainder []float64) {
 // the remainder R of the classical additive decomposition is known (Wang,
 // Smith & Hyndman 2006). ok is false when it cannot be computed.
 func arimaSeasonalStrength(y []float64, m int) (float64, bool) {
+	s, _, _, ok := seasonalStrength(y, m)
+	return s, ok
+}
+
+// seasonalStrength computes the strength of arimaSeasonalStrength and also
+// returns the number of points it used (used) and the number of season
+// positions among them (groups).
+func seasonalStrength(y []float64, m int) (strength float64, used, groups int, ok bool) {
 	_, s, r := arimaDecompose(y, m)
 	var rs, ss []float64
+	seen := make([]bool, m)
 	for t := range r {
 		if !math.IsNaN(r[t]) && !math.IsNaN(s[t]) {
 			rs = append(rs, r[t])
 			ss = append(ss, s[t]+r[t])
+			if !seen[t%m] {
+				seen[t%m] = true
+				groups++
+			}
 		}
 	}
 	if len(rs) < 3 {
-		return 0, false
+		return 0, 0, 0, false
 	}
 	vr, vs := arimaSampleVar(rs), arimaSampleVar(ss)
 	if !(vs > 0) {
-		return 0, false
+		return 0, 0, 0, false
 	}
-	return math.Max(0, 1-vr/vs), true
+	return math.Max(0, 1-vr/vs), len(rs), groups, true
 }
 
 func arimaSampleVar(x []float64) float64 {

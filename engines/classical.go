@@ -52,8 +52,9 @@ import (
 //	         Describe.
 //	trend    adjusted_line (default), trend_line, trend_step or trend_flat
 //	average  mean (default) or median
-//	seasonal auto (default): when SeasonalityTest (the lag-m autocorrelation
-//	         test at 90%) finds no season, the forecast uses the
+//	seasonal auto (default): when AutoSeasonal (the lag-m autocorrelation
+//	         test at 90%, or the seasonal strength backed by an F test)
+//	         finds no season, the forecast uses the
 //	         non-seasonal form — factors 1 (multiplicative) or 0
 //	         (additive), so the projected trend alone, through the series
 //	         itself for adjusted_line — and Describe says so, e.g.

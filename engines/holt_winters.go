@@ -18,8 +18,9 @@ import (
 //     from zero, and Hyndman et al. (2008; from memory, §2.5) leave it out as
 //     numerically unstable; the multiplicative error keeps forecasts and
 //     states of a positive series positive;
-//   - seasonal=auto (the default): SeasonalityTest at the 90% level on the
-//     series; when it finds no season (or the season length is below 2, or
+//   - seasonal=auto (the default): AutoSeasonal on the series (the lag-m
+//     autocorrelation test at 90%, or the seasonal strength backed by an F
+//     test); when it finds no season (or the season length is below 2, or
 //     the series is shorter than two seasons), the non-seasonal form with
 //     the same trend (additive error) is fitted and Describe adds "no
 //     season found" (or "too short to test for a season"); when it finds
@@ -156,7 +157,7 @@ func (h *HoltWinters) Fit(y []float64, season int) (Fitted, error) {
 		case len(y) < 2*season || nobs < 2*season:
 			note = "too short to test for a season"
 		default:
-			if _, seasonal := SeasonalityTest(y, season); !seasonal {
+			if !AutoSeasonal(y, season) {
 				note = "no season found"
 			}
 		}

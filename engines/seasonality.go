@@ -29,7 +29,8 @@ const seasonalityZ90 = 1.6448536269514722
 //
 // This is the test of the Theta method as Assimakopoulos and Nikolopoulos
 // (2000) apply it and as the M3 competition used it; every method with a
-// seasonal: auto option (theta, holt_winters, …) calls this one function.
+// seasonal: auto option calls this one function: theta and naive2 use it
+// alone, holt_winters, classical and stl through AutoSeasonal.
 //
 // References:
 //   - M. S. Bartlett (1946), On the theoretical specification and sampling

@@ -122,8 +122,9 @@ import (
 //	outer            int; 0 when not robust, 1…100 when robust (default
 //	                 0, or 15 when robust): the number of robustness passes
 //	adjusted_method  drift or ses (default ses)
-//	seasonal         auto (default): when SeasonalityTest (the lag-m
-//	                 autocorrelation test at 90%) finds no season, the
+//	seasonal         auto (default): when AutoSeasonal (the lag-m
+//	                 autocorrelation test at 90%, or the seasonal strength
+//	                 backed by an F test) finds no season, the
 //	                 forecast drops the seasonal component (S ≡ 0, the
 //	                 adjusted series is y itself, forecast by drift or
 //	                 SES) and Describe says "stl(no season; seasonality

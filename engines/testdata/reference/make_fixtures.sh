@@ -26,6 +26,7 @@ Rscript arima/make_arima.R        # arima/fits.json, arima/strength.json (stats:
 $PY arima/make_kpss.py            # arima/kpss.json (statsmodels kpss)
 Rscript regarima/make_regarima.R  # regarima/fits.json (stats::arima(xreg =), predict(newxreg =))
 Rscript mstl/make_mstl.R          # mstl/fits.json (the MSTL loop around stats::stl)
+Rscript seasonal_auto/make_auto.R # seasonal_auto/ftest.json (stats::decompose, lm, anova, qf)
 
 # every fixture must be valid JSON
 n=0

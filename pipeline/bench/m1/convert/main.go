@@ -96,7 +96,8 @@ sources:
 columns: {time: period, value: value, keys: [series]}
 calendar: {frequency: %s, season_length: %d}
 # Each series ends at its own last value; a missing period would be an error.
-shaping: {combine: reject, gaps: reject, end: series}
+# Some series count their years from 1: those years are real, not stray.
+shaping: {combine: reject, gaps: reject, end: series, stray_dates: keep}
 horizon: %d
 `, sub, sub, kind, sub, freqOf[sub], m1data.Period[sub], m1data.Horizon[sub])
 }
