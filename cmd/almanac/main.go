@@ -170,51 +170,9 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 				Flags:     []cli.Flag{outFlag(), asOfFlag()},
 				Action:    planCmd,
 			},
-			{
-				Name:      "diff",
-				Usage:     "compare two run folders for review: forecast totals, method switches, score changes (exit 1 when a threshold is passed)",
-				ArgsUsage: "BASE_RUN HEAD_RUN",
-				Flags: []cli.Flag{
-					&cli.StringFlag{Name: "format", Value: "text", Usage: "text (terminal table) or markdown (for a pull-request comment)"},
-					&cli.StringFlag{Name: "parquet", Usage: "also write the per-series diff as a Parquet file"},
-					&cli.IntFlag{Name: "top", Value: 10, Usage: "how many of the largest movers to list"},
-					&cli.Float64Flag{Name: "max-rel-change", Value: -1, Usage: "fail when any series' forecast total moves by more than this fraction (0.2 = 20%)"},
-					&cli.Float64Flag{Name: "max-switch-share", Value: -1, Usage: "fail when more than this share of series switch chosen method"},
-					&cli.Float64Flag{Name: "max-score-worsening", Value: -1, Usage: "fail when the mean backtest score worsens by more than this"},
-					&cli.IntFlag{Name: "max-added", Value: -1, Usage: "fail when more series than this are only in HEAD"},
-					&cli.IntFlag{Name: "max-removed", Value: -1, Usage: "fail when more series than this are only in BASE"},
-				},
-				Action: diffCmd,
-			},
-			{
-				Name:      "explain",
-				Usage:     "show one series of a run: history, decomposition, backtest scores, the choice and why, the forecast with intervals",
-				ArgsUsage: "RUN_DIR [KEY_VALUE...]",
-				Flags: []cli.Flag{
-					&cli.StringFlag{Name: "methods", Usage: "comma-separated method labels to show (default all)"},
-					&cli.BoolFlag{Name: "all-forecasts", Usage: "every method's forecast, not only the chosen entry's"},
-					&cli.IntFlag{Name: "seasons", Value: 2, Usage: "seasons of history to tabulate"},
-					&cli.StringFlag{Name: "png", Usage: "also draw the series as a PNG chart at this path"},
-				},
-				Action: explainCmd,
-			},
-			{
-				Name:      "panel",
-				Usage:     "write a synthetic panel (invented data) to size runs: series with trend, seasonality, noise and intermittent demand",
-				ArgsUsage: "FILE.parquet|FILE.csv",
-				Flags: []cli.Flag{
-					&cli.IntFlag{Name: "series", Value: 1000, Usage: "number of series"},
-					&cli.IntFlag{Name: "length", Value: 156, Usage: "periods per series"},
-					&cli.StringFlag{Name: "frequency", Value: "week", Usage: "day, week, month, quarter or year"},
-					&cli.IntFlag{Name: "season", Usage: "season length (default by frequency)"},
-					&cli.StringFlag{Name: "form", Value: "multiplicative", Usage: "seasonality: multiplicative, additive or none"},
-					&cli.Float64Flag{Name: "noise", Value: 0.1, Usage: "noise as a share of the level"},
-					&cli.Float64Flag{Name: "intermittent", Value: 0.1, Usage: "share of intermittent series"},
-					&cli.StringFlag{Name: "start", Value: "2023-01-02", Usage: "first period (ISO date)"},
-					&cli.Uint64Flag{Name: "rng", Value: 1, Usage: "random stream: the same options and stream give the same bytes"},
-				},
-				Action: panelCmd,
-			},
+			diffCommand(),
+			explainCommand(),
+			panelCommand(),
 			{
 				Name:      "combine",
 				Usage:     "check that every shard of a sharded run is present and complete, and write the dataset's combined manifest",
@@ -494,4 +452,25 @@ func num(v float64) string {
 		return "—"
 	}
 	return fmt.Sprintf("%.3f", v)
+}
+
+// panelCommand writes an invented panel.
+func panelCommand() *cli.Command {
+	return &cli.Command{
+		Name:      "panel",
+		Usage:     "write a synthetic panel (invented data) to size runs: series with trend, seasonality, noise and intermittent demand",
+		ArgsUsage: "FILE.parquet|FILE.csv",
+		Flags: []cli.Flag{
+			&cli.IntFlag{Name: "series", Value: 1000, Usage: "number of series"},
+			&cli.IntFlag{Name: "length", Value: 156, Usage: "periods per series"},
+			&cli.StringFlag{Name: "frequency", Value: "week", Usage: "day, week, month, quarter or year"},
+			&cli.IntFlag{Name: "season", Usage: "season length (default by frequency)"},
+			&cli.StringFlag{Name: "form", Value: "multiplicative", Usage: "seasonality: multiplicative, additive or none"},
+			&cli.Float64Flag{Name: "noise", Value: 0.1, Usage: "noise as a share of the level"},
+			&cli.Float64Flag{Name: "intermittent", Value: 0.1, Usage: "share of intermittent series"},
+			&cli.StringFlag{Name: "start", Value: "2023-01-02", Usage: "first period (ISO date)"},
+			&cli.Uint64Flag{Name: "rng", Value: 1, Usage: "random stream: the same options and stream give the same bytes"},
+		},
+		Action: panelCmd,
+	}
 }

@@ -140,3 +140,39 @@ func notInRunFolder(flag, path string) error {
 		}
 	}
 }
+
+// diffCommand compares two run folders.
+func diffCommand() *cli.Command {
+	return &cli.Command{
+		Name:      "diff",
+		Usage:     "compare two run folders for review: forecast totals, method switches, score changes (exit 1 when a threshold is passed)",
+		ArgsUsage: "BASE_RUN HEAD_RUN",
+		Flags: []cli.Flag{
+			&cli.StringFlag{Name: "format", Value: "text", Usage: "text (terminal table) or markdown (for a pull-request comment)"},
+			&cli.StringFlag{Name: "parquet", Usage: "also write the per-series diff as a Parquet file"},
+			&cli.IntFlag{Name: "top", Value: 10, Usage: "how many of the largest movers to list"},
+			&cli.Float64Flag{Name: "max-rel-change", Value: -1, Usage: "fail when any series' forecast total moves by more than this fraction (0.2 = 20%)"},
+			&cli.Float64Flag{Name: "max-switch-share", Value: -1, Usage: "fail when more than this share of series switch chosen method"},
+			&cli.Float64Flag{Name: "max-score-worsening", Value: -1, Usage: "fail when the mean backtest score worsens by more than this"},
+			&cli.IntFlag{Name: "max-added", Value: -1, Usage: "fail when more series than this are only in HEAD"},
+			&cli.IntFlag{Name: "max-removed", Value: -1, Usage: "fail when more series than this are only in BASE"},
+		},
+		Action: diffCmd,
+	}
+}
+
+// explainCommand shows one series of a run.
+func explainCommand() *cli.Command {
+	return &cli.Command{
+		Name:      "explain",
+		Usage:     "show one series of a run: history, decomposition, backtest scores, the choice and why, the forecast with intervals",
+		ArgsUsage: "RUN_DIR [KEY_VALUE...]",
+		Flags: []cli.Flag{
+			&cli.StringFlag{Name: "methods", Usage: "comma-separated method labels to show (default all)"},
+			&cli.BoolFlag{Name: "all-forecasts", Usage: "every method's forecast, not only the chosen entry's"},
+			&cli.IntFlag{Name: "seasons", Value: 2, Usage: "seasons of history to tabulate"},
+			&cli.StringFlag{Name: "png", Usage: "also draw the series as a PNG chart at this path"},
+		},
+		Action: explainCmd,
+	}
+}
