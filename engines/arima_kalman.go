@@ -117,7 +117,17 @@ func (s *armaSS) set(a, b []float64) error {
 	s.theta[0] = 1
 	copy(s.theta[1:], b)
 
-	// ψ-weights of the ARMA part: ψ_0 = 1, ψ_j = θ_j + Σ_i φ_i ψ_{j−i}.
+	s.setPsi(a)
+	if err := s.setAutocovariances(a, b); err != nil {
+		return err
+	}
+	return s.setStateCovariance()
+}
+
+// setPsi sets the ψ-weights of the ARMA part: ψ_0 = 1,
+// ψ_j = θ_j + Σ_i φ_i ψ_{j−i}.
+func (s *armaSS) setPsi(a []float64) {
+	r, pp := s.r, len(a)
 	s.psi = arimaResize(s.psi, r+1)
 	for j := 0; j <= r; j++ {
 		v := 0.0
@@ -129,11 +139,16 @@ func (s *armaSS) set(a, b []float64) error {
 		}
 		s.psi[j] = v
 	}
+}
 
-	// Autocovariances γ(0…r) (unit innovation variance): for k = 0…p',
-	//   γ(k) − Σ_i φ_i γ(|k−i|) = Σ_{j=k}^{q'} θ_j ψ_{j−k},
-	// a (p'+1)-square linear system; beyond p' the same relation gives
-	// γ(k) directly (Brockwell & Davis 1991, §3.3, method 3).
+// setAutocovariances sets γ(0…r) (unit innovation variance): for k = 0…p',
+//
+//	γ(k) − Σ_i φ_i γ(|k−i|) = Σ_{j=k}^{q'} θ_j ψ_{j−k},
+//
+// a (p'+1)-square linear system; beyond p' the same relation gives
+// γ(k) directly (Brockwell & Davis 1991, §3.3, method 3).
+func (s *armaSS) setAutocovariances(a, b []float64) error {
+	r, pp, qq := s.r, len(a), len(b)
 	s.gamma = arimaResize(s.gamma, r+1)
 	rhs := func(k int) float64 {
 		v := 0.0
@@ -177,14 +192,23 @@ func (s *armaSS) set(a, b []float64) error {
 	if !(s.gamma[0] > 0) || math.IsInf(s.gamma[0], 0) || s.gamma[0] > 1e12 {
 		return errArimaNonStationary
 	}
+	return nil
+}
 
-	// Stationary covariance P of the state. The first row follows from
-	// α_t[j] = Σ_{k=j}^{r−1} (φ_{k+1} y_{t+j−k−1} + θ_k ε_{t+j−k}):
-	//   P_{0j} = Σ_{k=j}^{r−1} (φ_{k+1} γ(k−j+1) + θ_k ψ_{k−j});
-	// the rest from P = T P T' + R R' written element-wise,
-	//   P_ij = φ_{i+1}φ_{j+1}P_00 + φ_{i+1}P_{0,j+1} + φ_{j+1}P_{0,i+1}
-	//          + P_{i+1,j+1} + θ_iθ_j,
-	// filled from the bottom-right corner (indices ≥ r are zero).
+// setStateCovariance sets the stationary covariance P of the state. The
+// first row follows from
+// α_t[j] = Σ_{k=j}^{r−1} (φ_{k+1} y_{t+j−k−1} + θ_k ε_{t+j−k}):
+//
+//	P_{0j} = Σ_{k=j}^{r−1} (φ_{k+1} γ(k−j+1) + θ_k ψ_{k−j});
+//
+// the rest from P = T P T' + R R' written element-wise,
+//
+//	P_ij = φ_{i+1}φ_{j+1}P_00 + φ_{i+1}P_{0,j+1} + φ_{j+1}P_{0,i+1}
+//	       + P_{i+1,j+1} + θ_iθ_j,
+//
+// filled from the bottom-right corner (indices ≥ r are zero).
+func (s *armaSS) setStateCovariance() error {
+	r := s.r
 	s.p0 = arimaResize(s.p0, r*r)
 	P := s.p0
 	for j := 0; j < r; j++ {
