@@ -258,7 +258,6 @@ func esFilter(y []float64, start int, form esForm, p esParams, st *esState, fitt
 	}
 	multErr := form.err == esErrorMultiplicative
 	pos := form.positive()
-	var out esStats
 	// The loops carry base_t = ℓ_{t−1} + φb_{t−1} and pb_t = φb_{t−1}. With
 	// q_t = e_t (additive season) or e_t/s_{t−m} (multiplicative):
 	//
@@ -268,102 +267,24 @@ func esFilter(y []float64, start int, form esForm, p esParams, st *esState, fitt
 	ka, kb := a+phi*be, phi*be
 	pb := phi * st.slope
 	base := st.level + pb
-	prod, lexp := 1.0, 0 // Π|μ_t| = prod·2^lexp, for Σ log|μ_t|
+	var (
+		prod float64 // Π|μ_t| = prod·2^lexp, for Σ log|μ_t|
+		lexp int
+		out  esStats
+		ok   bool
+	)
 	switch form.season {
 	case esSeasonNone:
-		for i := start; i < n; i++ {
-			fitted[i] = base
-			v := y[i]
-			if pos && !(base > 0) {
-				return out
-			}
-			if v != v {
-				base, pb = base+phi*pb, phi*pb
-				continue
-			}
-			e := v - base
-			out.sse += e * e
-			out.nobs++
-			if multErr {
-				r := e / base
-				out.sre += r * r
-				prod *= base
-				if prod > 0x1p200 || prod < 0x1p-200 {
-					f, x := math.Frexp(prod)
-					prod, lexp = f, lexp+x
-				}
-			}
-			base, pb = base+phi*pb+ka*e, phi*pb+kb*e
-		}
+		base, pb, prod, lexp, out, ok = esLoopNone(y, start, fitted, base, pb, phi, ka, kb, multErr, pos)
 	case esSeasonAdditive:
-		s, j := st.season, st.pos
-		m := len(s)
-		for i := start; i < n; i++ {
-			sj := s[j]
-			mu := base + sj
-			fitted[i] = mu
-			if pos && !(mu > 0 && base > 0) {
-				return out
-			}
-			if v := y[i]; v != v {
-				base, pb = base+phi*pb, phi*pb
-			} else {
-				e := v - mu
-				out.sse += e * e
-				out.nobs++
-				if multErr {
-					r := e / mu
-					out.sre += r * r
-					prod *= mu
-					if prod > 0x1p200 || prod < 0x1p-200 {
-						f, x := math.Frexp(prod)
-						prod, lexp = f, lexp+x
-					}
-				}
-				s[j] = sj + ge*e
-				base, pb = base+phi*pb+ka*e, phi*pb+kb*e
-			}
-			if j++; j == m {
-				j = 0
-			}
-		}
-		st.pos = j
+		base, pb, prod, lexp, out, ok = esLoopAdditive(y, start, fitted, base, pb, phi, ka, kb, ge, st, multErr, pos)
 	case esSeasonMultiplicative:
-		s, j := st.season, st.pos
-		m := len(s)
-		for i := start; i < n; i++ {
-			sj := s[j]
-			mu := base * sj
-			fitted[i] = mu
-			if !(base > 0 && sj > 0) {
-				return out
-			}
-			if v := y[i]; v != v {
-				base, pb = base+phi*pb, phi*pb
-			} else {
-				e := v - mu
-				out.sse += e * e
-				out.nobs++
-				if multErr {
-					r := e / mu
-					out.sre += r * r
-					prod *= mu
-					if prod > 0x1p200 || prod < 0x1p-200 {
-						f, x := math.Frexp(prod)
-						prod, lexp = f, lexp+x
-					}
-				}
-				q := e / sj
-				s[j] = sj + ge*e/base
-				base, pb = base+phi*pb+ka*q, phi*pb+kb*q
-			}
-			if j++; j == m {
-				j = 0
-			}
-		}
-		st.pos = j
+		base, pb, prod, lexp, out, ok = esLoopMultiplicative(y, start, fitted, base, pb, phi, ka, kb, ge, st, multErr, pos)
 	default:
 		panic(fmt.Sprintf("engines: esFilter: unknown season kind %d", form.season))
+	}
+	if !ok {
+		return out
 	}
 	l, b := base-pb, 0.0
 	if form.trend != esTrendNone {
@@ -376,6 +297,124 @@ func esFilter(y []float64, start int, form esForm, p esParams, st *esState, fitt
 	out.ok = !math.IsNaN(out.sse) && !math.IsInf(out.sse, 0) && !math.IsNaN(l) && !math.IsInf(l, 0) &&
 		!math.IsNaN(b) && !math.IsInf(b, 0) && (!pos || l > 0)
 	return out
+}
+
+// esLoopNone is esFilter's loop without a season. It returns base and pb
+// after the last step, prod and lexp (Π|μ_t| = prod·2^lexp over the
+// observed steps, with a multiplicative error), the sums, and false when
+// a state left the positive range and the run stopped early.
+func esLoopNone(y []float64, start int, fitted []float64, base, pb, phi, ka, kb float64, multErr, pos bool) (float64, float64, float64, int, esStats, bool) {
+	n := len(y)
+	prod, lexp := 1.0, 0 // Π|μ_t| = prod·2^lexp, for Σ log|μ_t|
+	var out esStats
+	for i := start; i < n; i++ {
+		fitted[i] = base
+		v := y[i]
+		if pos && !(base > 0) {
+			return base, pb, prod, lexp, out, false
+		}
+		if v != v {
+			base, pb = base+phi*pb, phi*pb
+			continue
+		}
+		e := v - base
+		out.sse += e * e
+		out.nobs++
+		if multErr {
+			r := e / base
+			out.sre += r * r
+			prod *= base
+			if prod > 0x1p200 || prod < 0x1p-200 {
+				f, x := math.Frexp(prod)
+				prod, lexp = f, lexp+x
+			}
+		}
+		base, pb = base+phi*pb+ka*e, phi*pb+kb*e
+	}
+	return base, pb, prod, lexp, out, true
+}
+
+// esLoopAdditive is esFilter's loop with an additive season, from and
+// back into st.season and st.pos (st.pos is left alone on an early stop).
+func esLoopAdditive(y []float64, start int, fitted []float64, base, pb, phi, ka, kb float64, ge float64, st *esState, multErr, pos bool) (float64, float64, float64, int, esStats, bool) {
+	n := len(y)
+	prod, lexp := 1.0, 0 // Π|μ_t| = prod·2^lexp, for Σ log|μ_t|
+	var out esStats
+	s, j := st.season, st.pos
+	m := len(s)
+	for i := start; i < n; i++ {
+		sj := s[j]
+		mu := base + sj
+		fitted[i] = mu
+		if pos && !(mu > 0 && base > 0) {
+			return base, pb, prod, lexp, out, false
+		}
+		if v := y[i]; v != v {
+			base, pb = base+phi*pb, phi*pb
+		} else {
+			e := v - mu
+			out.sse += e * e
+			out.nobs++
+			if multErr {
+				r := e / mu
+				out.sre += r * r
+				prod *= mu
+				if prod > 0x1p200 || prod < 0x1p-200 {
+					f, x := math.Frexp(prod)
+					prod, lexp = f, lexp+x
+				}
+			}
+			s[j] = sj + ge*e
+			base, pb = base+phi*pb+ka*e, phi*pb+kb*e
+		}
+		if j++; j == m {
+			j = 0
+		}
+	}
+	st.pos = j
+	return base, pb, prod, lexp, out, true
+}
+
+// esLoopMultiplicative is esFilter's loop with a multiplicative season,
+// as esLoopAdditive.
+func esLoopMultiplicative(y []float64, start int, fitted []float64, base, pb, phi, ka, kb float64, ge float64, st *esState, multErr, pos bool) (float64, float64, float64, int, esStats, bool) {
+	n := len(y)
+	prod, lexp := 1.0, 0 // Π|μ_t| = prod·2^lexp, for Σ log|μ_t|
+	var out esStats
+	s, j := st.season, st.pos
+	m := len(s)
+	for i := start; i < n; i++ {
+		sj := s[j]
+		mu := base * sj
+		fitted[i] = mu
+		if !(base > 0 && sj > 0) {
+			return base, pb, prod, lexp, out, false
+		}
+		if v := y[i]; v != v {
+			base, pb = base+phi*pb, phi*pb
+		} else {
+			e := v - mu
+			out.sse += e * e
+			out.nobs++
+			if multErr {
+				r := e / mu
+				out.sre += r * r
+				prod *= mu
+				if prod > 0x1p200 || prod < 0x1p-200 {
+					f, x := math.Frexp(prod)
+					prod, lexp = f, lexp+x
+				}
+			}
+			q := e / sj
+			s[j] = sj + ge*e/base
+			base, pb = base+phi*pb+ka*q, phi*pb+kb*q
+		}
+		if j++; j == m {
+			j = 0
+		}
+	}
+	st.pos = j
+	return base, pb, prod, lexp, out, true
 }
 
 // esLevelFilter is the level-only recursion (simple exponential smoothing)

@@ -133,7 +133,7 @@ func (f *esFitter) seedDerivatives() {
 // f.p (for the geometric-mean factor of the multiplicative error).
 func (f *esFitter) stateColumns(st esStats) {
 	form, m, k, d := f.form, f.m, f.k, f.d
-	n, nobs := len(f.y), f.nres
+	n := len(f.y)
 	f.seedDerivatives()
 	a, be, ge, phi := f.p.ec(form)
 	dl, db, g := f.dl, f.db, f.g
@@ -219,16 +219,24 @@ func (f *esFitter) stateColumns(st esStats) {
 		}
 	}
 	if multErr {
-		// r_t = G·ε_t with log G = Σ log μ_u / n: ∂r_t = G·∂ε_t + r_t·∂log G.
-		G := math.Exp(st.logmu / float64(nobs))
-		for x := range k {
-			g[x] /= float64(nobs)
-		}
-		for x := range k {
-			col := f.jac[(d+x)*n : (d+x)*n+nobs]
-			for t := range col {
-				col[t] = G*col[t] + f.res[t]*g[x]
-			}
+		f.geometricColumns(st)
+	}
+}
+
+// geometricColumns applies the geometric-mean factor of the multiplicative
+// error to the state columns of f.jac: r_t = G·ε_t with
+// log G = Σ log μ_u / n, so ∂r_t = G·∂ε_t + r_t·∂log G.
+func (f *esFitter) geometricColumns(st esStats) {
+	k, d, g := f.k, f.d, f.g
+	n, nobs := len(f.y), f.nres
+	G := math.Exp(st.logmu / float64(nobs))
+	for x := range k {
+		g[x] /= float64(nobs)
+	}
+	for x := range k {
+		col := f.jac[(d+x)*n : (d+x)*n+nobs]
+		for t := range col {
+			col[t] = G*col[t] + f.res[t]*g[x]
 		}
 	}
 }

@@ -86,72 +86,21 @@ func FitUplifts(y []float64, x [][]float64, season int, names []string) (*Uplift
 		return nil, ErrAllMissing
 	}
 	n := len(y)
-	anyOn := make([]bool, n)
-	for _, c := range x {
-		for t, v := range c {
-			if v != 0 {
-				anyOn[t] = true
-			}
-		}
-	}
-	base := make([]float64, n)
-	for t := range base {
-		base[t] = math.NaN()
-		if anyOn[t] && !math.IsNaN(y[t]) {
-			base[t] = upliftBaseline(y, anyOn, t, season)
-		}
-	}
+	base := upliftBaselines(y, x, season)
 	f := &UpliftFit{uplift: make([]float64, len(x)), periods: make([]int, len(x)), names: names}
 	for j := range x {
 		f.uplift[j] = 1
 	}
 	// Pass 1: periods where driver j is on alone. Pass 2: drivers never on
 	// alone, over shared periods with the earlier estimates divided out.
-	alone := func(t, j int) bool {
-		for k, c := range x {
-			if k != j && c[t] != 0 {
-				return false
-			}
-		}
-		return true
-	}
-	est := func(j int, shared bool) bool {
-		num, den, cnt := 0.0, 0.0, 0
-		for t := 0; t < n; t++ {
-			v := x[j][t]
-			if v == 0 || math.IsNaN(base[t]) {
-				continue
-			}
-			if !shared && !alone(t, j) {
-				continue
-			}
-			b := base[t]
-			if shared {
-				for k, c := range x {
-					if k != j && c[t] != 0 {
-						b *= math.Max(0, 1+(f.uplift[k]-1)*c[t])
-					}
-				}
-			}
-			num += v * b * (y[t] - b)
-			den += v * v * b * b
-			cnt++
-		}
-		if cnt == 0 || !(den > 0) {
-			return false
-		}
-		f.uplift[j] = math.Max(0, 1+num/den)
-		f.periods[j] = cnt
-		return true
-	}
 	var needShared []int
 	for j := range x {
-		if !est(j, false) {
+		if !f.estimate(y, x, base, j, false) {
 			needShared = append(needShared, j)
 		}
 	}
 	for _, j := range needShared {
-		if est(j, true) {
+		if f.estimate(y, x, base, j, true) {
 			f.warn = append(f.warn, fmt.Sprintf("uplift: driver %s is never on alone; estimated over periods shared with other drivers", names[j]))
 		} else {
 			f.warn = append(f.warn, fmt.Sprintf("uplift: driver %s has no period with a baseline to estimate from; uplift 1", names[j]))
@@ -323,3 +272,69 @@ func (m *UpliftModel) Forecast(xFuture [][]float64) ([]float64, error) {
 
 // Warnings lists the uplift warnings and the fill, if any.
 func (m *UpliftModel) Warnings() []string { return m.warn }
+
+// upliftBaselines gives the baseline of each observed period where some
+// driver is on (NaN elsewhere).
+func upliftBaselines(y []float64, x [][]float64, season int) []float64 {
+	n := len(y)
+	anyOn := make([]bool, n)
+	for _, c := range x {
+		for t, v := range c {
+			if v != 0 {
+				anyOn[t] = true
+			}
+		}
+	}
+	base := make([]float64, n)
+	for t := range base {
+		base[t] = math.NaN()
+		if anyOn[t] && !math.IsNaN(y[t]) {
+			base[t] = upliftBaseline(y, anyOn, t, season)
+		}
+	}
+	return base
+}
+
+// upliftAlone reports whether driver j is the only one on at t.
+func upliftAlone(x [][]float64, t, j int) bool {
+	for k, c := range x {
+		if k != j && c[t] != 0 {
+			return false
+		}
+	}
+	return true
+}
+
+// estimate fits the uplift of driver j by least squares of y on the
+// baseline base: over the periods where j is on alone, or when shared
+// over every period j is on, with the other drivers' uplifts so far
+// divided out. It reports whether any period had a baseline.
+func (f *UpliftFit) estimate(y []float64, x [][]float64, base []float64, j int, shared bool) bool {
+	num, den, cnt := 0.0, 0.0, 0
+	for t := 0; t < len(y); t++ {
+		v := x[j][t]
+		if v == 0 || math.IsNaN(base[t]) {
+			continue
+		}
+		if !shared && !upliftAlone(x, t, j) {
+			continue
+		}
+		b := base[t]
+		if shared {
+			for k, c := range x {
+				if k != j && c[t] != 0 {
+					b *= math.Max(0, 1+(f.uplift[k]-1)*c[t])
+				}
+			}
+		}
+		num += v * b * (y[t] - b)
+		den += v * v * b * b
+		cnt++
+	}
+	if cnt == 0 || !(den > 0) {
+		return false
+	}
+	f.uplift[j] = math.Max(0, 1+num/den)
+	f.periods[j] = cnt
+	return true
+}

@@ -82,13 +82,9 @@ func readParquet(ctx context.Context, s *spec.Spec, f *InputFile, fileIdx int32,
 		if len(errs) > 0 {
 			break
 		}
-		keyCols := make([]func(int) (string, error), len(s.Columns.Keys))
-		for j := range keyCols {
-			kc, kerr := parquetKeys(f.Path, s.Columns.Keys[j], rec.Column(2+j))
-			if kerr != nil {
-				return kerr
-			}
-			keyCols[j] = kc
+		keyCols, kerr := parquetKeyColumns(f.Path, s.Columns.Keys, rec)
+		if kerr != nil {
+			return kerr
 		}
 		for i := 0; i < n; i++ {
 			for j, kc := range keyCols {
@@ -330,4 +326,18 @@ func hashFile(ctx context.Context, path string) (string, error) {
 			return "", err
 		}
 	}
+}
+
+// parquetKeyColumns gives a reader for each key column of rec, which holds
+// the time and value columns first, then the keys.
+func parquetKeyColumns(path string, keys []string, rec arrow.RecordBatch) ([]func(int) (string, error), error) {
+	keyCols := make([]func(int) (string, error), len(keys))
+	for j := range keyCols {
+		kc, kerr := parquetKeys(path, keys[j], rec.Column(2+j))
+		if kerr != nil {
+			return nil, kerr
+		}
+		keyCols[j] = kc
+	}
+	return keyCols, nil
 }

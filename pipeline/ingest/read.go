@@ -344,22 +344,8 @@ func readCSV(ctx context.Context, s *spec.Spec, f *InputFile, fileIdx int32, src
 		if terr != nil || verr != nil {
 			continue
 		}
-		badKey := false
-		for j, k := range keyIdx {
-			keyParts[j] = normaliseKey(rs.keyRule, rec[k])
-			if rec[k] == "" {
-				rs.KeyBlanks++
-			} else if !utf8.ValidString(rec[k]) {
-				kl, _ := cr.FieldPos(k)
-				errs = append(errs, fmt.Sprintf("%s:%d: column %q: %q is not valid UTF-8; almanac reads text as UTF-8 (re-export the file as UTF-8)", f.Path, kl, s.Columns.Keys[j], rec[k]))
-				badKey = true
-			} else if msg := keyCharError(rec[k]); msg != "" {
-				kl, _ := cr.FieldPos(k)
-				errs = append(errs, fmt.Sprintf("%s:%d: column %q: %s", f.Path, kl, s.Columns.Keys[j], msg))
-				badKey = true
-			}
-		}
-		if badKey {
+		if kerrs := csvKey(cr, rec, keyIdx, keyParts, rs, s, f.Path); len(kerrs) > 0 {
+			errs = append(errs, kerrs...)
 			if len(errs) >= MaxDataErrors {
 				break
 			}
@@ -520,4 +506,23 @@ func CompareKeys(a, b []string) int {
 		}
 	}
 	return 0
+}
+
+// csvKey fills keyParts from the key fields of rec, counting blank keys,
+// and returns an error for each key field that is not valid text.
+func csvKey(cr *csv.Reader, rec []string, keyIdx []int, keyParts []string, rs *Rows, s *spec.Spec, path string) []string {
+	var errs []string
+	for j, k := range keyIdx {
+		keyParts[j] = normaliseKey(rs.keyRule, rec[k])
+		if rec[k] == "" {
+			rs.KeyBlanks++
+		} else if !utf8.ValidString(rec[k]) {
+			kl, _ := cr.FieldPos(k)
+			errs = append(errs, fmt.Sprintf("%s:%d: column %q: %q is not valid UTF-8; almanac reads text as UTF-8 (re-export the file as UTF-8)", path, kl, s.Columns.Keys[j], rec[k]))
+		} else if msg := keyCharError(rec[k]); msg != "" {
+			kl, _ := cr.FieldPos(k)
+			errs = append(errs, fmt.Sprintf("%s:%d: column %q: %s", path, kl, s.Columns.Keys[j], msg))
+		}
+	}
+	return errs
 }

@@ -43,20 +43,7 @@ func Shape(rs *ingest.Rows, sh spec.Shaping, lim spec.Limits, cal calendar.Calen
 	if nk > lim.MaxSeries {
 		return nil, fmt.Errorf("the input holds %d series; limits.max_series is %d (raise it in the spec if this is right)", nk, lim.MaxSeries)
 	}
-	// Counting sort of row indexes by key id, stable in input order.
-	counts := make([]int, nk+1)
-	for _, k := range rs.KeyIDs {
-		counts[k+1]++
-	}
-	for i := 1; i <= nk; i++ {
-		counts[i] += counts[i-1]
-	}
-	order := make([]int32, len(rs.KeyIDs))
-	next := append([]int(nil), counts[:nk]...)
-	for i, k := range rs.KeyIDs {
-		order[next[k]] = int32(i)
-		next[k]++
-	}
+	counts, order := rowsByKey(rs.KeyIDs, nk)
 	// Keys in sorted order.
 	ids := make([]int32, nk)
 	for i := range ids {
@@ -74,17 +61,8 @@ func Shape(rs *ingest.Rows, sh spec.Shaping, lim spec.Limits, cal calendar.Calen
 		// periods left out (a problems row each), an incomplete last period.
 		var notes []Note
 		if t != nil && outsideWindow(rs.Periods, rows, t.WinLo, t.WinHi) {
-			kept := make([]int32, 0, len(rows))
-			for _, r := range rows {
-				p := rs.Periods[r]
-				if p >= t.WinLo && p <= t.WinHi {
-					kept = append(kept, r)
-					continue
-				}
-				if t.StrayDropped[p] {
-					notes = append(notes, Note{"warning", runfolder.CodeStrayPeriod, fmt.Sprintf("%s: the row dated in %s lies far from the rest of the data; left out (shaping.stray_dates: drop)", rs.Where(int(r)), cal.Label(p))})
-				}
-			}
+			var kept []int32
+			kept, notes = keepWindow(rs, rows, cal)
 			if len(kept) == 0 {
 				code, why := runfolder.CodePartialPeriod, fmt.Sprintf("all %d row(s) of the series lie in the incomplete last period %s, which was left out", len(rows), cal.Label(rs.Periods[rows[0]]))
 				if len(notes) > 0 {
@@ -118,48 +96,7 @@ func Shape(rs *ingest.Rows, sh spec.Shaping, lim spec.Limits, cal calendar.Calen
 		}
 		n := int(last - first + 1)
 		s := &Series{Key: rs.Keys[id], Start: first, Values: make([]float64, n), Notes: notes}
-		present := make([]bool, n)
-		for i := 0; i < len(rows); {
-			j := i + 1
-			for j < len(rows) && rs.Periods[rows[j]] == rs.Periods[rows[i]] {
-				j++
-			}
-			slot := int(rs.Periods[rows[i]] - first)
-			present[slot] = true
-			if j-i > 1 {
-				s.Combined++
-				if sh.Combine == spec.CombineReject {
-					if len(errs) < ingest.MaxDataErrors {
-						errs = append(errs, fmt.Sprintf("%s: %d rows for series %s in period %s (also %s); shaping.combine is reject",
-							rs.Where(int(rows[i+1])), j-i, keyLabel(keyNames, s.Key), cal.Label(rs.Periods[rows[i]]), rs.Where(int(rows[i]))))
-					}
-				}
-			}
-			v := combine(sh.Combine, rs.Values, rows[i:j])
-			if math.IsInf(v, 0) {
-				s.Notes = append(s.Notes, Note{"warning", runfolder.CodeAggregateOverflow, fmt.Sprintf("the %d rows of period %s add up beyond the range of a 64-bit float (%v); the period counts as missing (first row at %s)",
-					j-i, cal.Label(rs.Periods[rows[i]]), v, rs.Where(int(rows[i])))})
-				v = math.NaN()
-			}
-			s.Values[slot] = v
-			i = j
-		}
-		for slot, ok := range present {
-			if ok {
-				continue
-			}
-			s.Filled++
-			switch sh.Gaps {
-			case spec.GapsZero:
-				s.Values[slot] = 0
-			default:
-				s.Values[slot] = math.NaN()
-			}
-		}
-		if sh.Gaps == spec.GapsReject && s.Filled > 0 && len(errs) < ingest.MaxDataErrors {
-			errs = append(errs, fmt.Sprintf("series %s has no rows for %d of its periods (first gap: %s); shaping.gaps is reject (shaping.end: series stops a series at its own last row)",
-				keyLabel(keyNames, s.Key), s.Filled, cal.Label(first+int64(slices.Index(present, false)))))
-		}
+		errs = fillValues(s, rs, rows, sh, cal, keyNames, errs)
 		out = append(out, s)
 	}
 	if len(errs) > 0 {
@@ -213,4 +150,91 @@ func outsideWindow(periods []int64, rows []int32, lo, hi int64) bool {
 		}
 	}
 	return false
+}
+
+// rowsByKey is a counting sort of row indexes by key id, stable in input
+// order: the rows of key k are order[counts[k]:counts[k+1]].
+func rowsByKey(keyIDs []int32, nk int) (counts []int, order []int32) {
+	counts = make([]int, nk+1)
+	for _, k := range keyIDs {
+		counts[k+1]++
+	}
+	for i := 1; i <= nk; i++ {
+		counts[i] += counts[i-1]
+	}
+	order = make([]int32, len(keyIDs))
+	next := append([]int(nil), counts[:nk]...)
+	for i, k := range keyIDs {
+		order[next[k]] = int32(i)
+		next[k]++
+	}
+	return counts, order
+}
+
+// keepWindow keeps the rows inside the periods the run uses, with a note
+// for each stray row left out.
+func keepWindow(rs *ingest.Rows, rows []int32, cal calendar.Calendar) (kept []int32, notes []Note) {
+	t := rs.Times
+	kept = make([]int32, 0, len(rows))
+	for _, r := range rows {
+		p := rs.Periods[r]
+		if p >= t.WinLo && p <= t.WinHi {
+			kept = append(kept, r)
+			continue
+		}
+		if t.StrayDropped[p] {
+			notes = append(notes, Note{"warning", runfolder.CodeStrayPeriod, fmt.Sprintf("%s: the row dated in %s lies far from the rest of the data; left out (shaping.stray_dates: drop)", rs.Where(int(r)), cal.Label(p))})
+		}
+	}
+	return kept, notes
+}
+
+// fillValues combines the rows of each period of s (rows sorted by period,
+// starting at s.Start) and fills the gaps; it returns errs with the data
+// errors the shaping rules ask for appended.
+func fillValues(s *Series, rs *ingest.Rows, rows []int32, sh spec.Shaping, cal calendar.Calendar, keyNames []string, errs []string) []string {
+	first, n := s.Start, len(s.Values)
+	present := make([]bool, n)
+	for i := 0; i < len(rows); {
+		j := i + 1
+		for j < len(rows) && rs.Periods[rows[j]] == rs.Periods[rows[i]] {
+			j++
+		}
+		slot := int(rs.Periods[rows[i]] - first)
+		present[slot] = true
+		if j-i > 1 {
+			s.Combined++
+			if sh.Combine == spec.CombineReject {
+				if len(errs) < ingest.MaxDataErrors {
+					errs = append(errs, fmt.Sprintf("%s: %d rows for series %s in period %s (also %s); shaping.combine is reject",
+						rs.Where(int(rows[i+1])), j-i, keyLabel(keyNames, s.Key), cal.Label(rs.Periods[rows[i]]), rs.Where(int(rows[i]))))
+				}
+			}
+		}
+		v := combine(sh.Combine, rs.Values, rows[i:j])
+		if math.IsInf(v, 0) {
+			s.Notes = append(s.Notes, Note{"warning", runfolder.CodeAggregateOverflow, fmt.Sprintf("the %d rows of period %s add up beyond the range of a 64-bit float (%v); the period counts as missing (first row at %s)",
+				j-i, cal.Label(rs.Periods[rows[i]]), v, rs.Where(int(rows[i])))})
+			v = math.NaN()
+		}
+		s.Values[slot] = v
+		i = j
+	}
+	for slot, ok := range present {
+		if ok {
+			continue
+		}
+		s.Filled++
+		switch sh.Gaps {
+		case spec.GapsZero:
+			s.Values[slot] = 0
+		default:
+			s.Values[slot] = math.NaN()
+		}
+	}
+	if sh.Gaps == spec.GapsReject && s.Filled > 0 && len(errs) < ingest.MaxDataErrors {
+		errs = append(errs, fmt.Sprintf("series %s has no rows for %d of its periods (first gap: %s); shaping.gaps is reject (shaping.end: series stops a series at its own last row)",
+			keyLabel(keyNames, s.Key), s.Filled, cal.Label(first+int64(slices.Index(present, false)))))
+	}
+	return errs
 }

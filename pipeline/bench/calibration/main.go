@@ -286,35 +286,8 @@ func demandClasses(run string) map[string]string {
 // score prints the subset's rows of the table, for the series keep
 // accepts (all when nil).
 func score(s *subset, name, run string, keep func(id string) bool) {
-	fc, err := runfolder.ReadTable(filepath.Join(run, "forecasts.parquet"))
-	check(err)
-	steps := map[string][]stepRow{}
-	for i := 0; i < fc.Rows; i++ {
-		if !fc.Bool("chosen", i) {
-			continue
-		}
-		id, _ := fc.Str("series", i)
-		steps[id] = append(steps[id], stepRow{fc.Float("value", i), fc.Float("lower_80", i), fc.Float("upper_80", i), fc.Float("lower_95", i), fc.Float("upper_95", i)})
-	}
-	tt, err := runfolder.ReadTable(filepath.Join(run, "totals.parquet"))
-	check(err)
-	type totRow struct {
-		total float64
-		q     []float64
-	}
-	totals := map[string]map[int]totRow{}
-	for i := 0; i < tt.Rows; i++ {
-		id, _ := tt.Str("series", i)
-		l, _ := tt.Int("lead_time", i)
-		row := totRow{total: tt.Float("total", i)}
-		for _, lv := range totalLevels {
-			row.q = append(row.q, tt.Float(fmt.Sprintf("quantile_%d", lv), i))
-		}
-		if totals[id] == nil {
-			totals[id] = map[int]totRow{}
-		}
-		totals[id][l] = row
-	}
+	steps := readSteps(run)
+	totals := readTotals(run)
 	var n, in80, in95 int
 	var is80, is95 float64
 	var wrong, negative, nested int
@@ -424,4 +397,45 @@ func pinball(y, q, tau float64) float64 {
 		return tau * (y - q)
 	}
 	return (1 - tau) * (q - y)
+}
+
+// readSteps reads the chosen forecast steps of a run, by series.
+func readSteps(run string) map[string][]stepRow {
+	fc, err := runfolder.ReadTable(filepath.Join(run, "forecasts.parquet"))
+	check(err)
+	steps := map[string][]stepRow{}
+	for i := 0; i < fc.Rows; i++ {
+		if !fc.Bool("chosen", i) {
+			continue
+		}
+		id, _ := fc.Str("series", i)
+		steps[id] = append(steps[id], stepRow{fc.Float("value", i), fc.Float("lower_80", i), fc.Float("upper_80", i), fc.Float("lower_95", i), fc.Float("upper_95", i)})
+	}
+	return steps
+}
+
+// totRow is a forecast total over one lead time and its quantiles.
+type totRow struct {
+	total float64
+	q     []float64
+}
+
+// readTotals reads the totals of a run, by series and lead time.
+func readTotals(run string) map[string]map[int]totRow {
+	tt, err := runfolder.ReadTable(filepath.Join(run, "totals.parquet"))
+	check(err)
+	totals := map[string]map[int]totRow{}
+	for i := 0; i < tt.Rows; i++ {
+		id, _ := tt.Str("series", i)
+		l, _ := tt.Int("lead_time", i)
+		row := totRow{total: tt.Float("total", i)}
+		for _, lv := range totalLevels {
+			row.q = append(row.q, tt.Float(fmt.Sprintf("quantile_%d", lv), i))
+		}
+		if totals[id] == nil {
+			totals[id] = map[int]totRow{}
+		}
+		totals[id][l] = row
+	}
+	return totals
 }

@@ -92,61 +92,8 @@ func buildChart(sd *seriesData, opt Options) (*plot.Plot, error) {
 	p.Add(plotter.NewGrid())
 
 	fcs := sd.forecastsShown(opt)
-	// Interval bands first, under the lines, in almanac's look (package
-	// look, shared with the report): the narrowest level filled, each
-	// wider one its two edges, dotted.
-	asc := make([]int, len(sd.levels))
-	for i := range asc {
-		asc[i] = i
-	}
-	sort.SliceStable(asc, func(a, b int) bool { return sd.levels[asc[a]] < sd.levels[asc[b]] })
-	for k, f := range fcs {
-		ink := look.Inks[k%len(look.Inks)]
-		for rank, li := range asc {
-			var upper, lower plotter.XYs
-			for _, r := range f.rows {
-				if math.IsNaN(r.lower[li]) || math.IsNaN(r.upper[li]) {
-					continue
-				}
-				x := xOf(r.period)
-				upper = append(upper, plotter.XY{X: x, Y: r.upper[li]})
-				lower = append(lower, plotter.XY{X: x, Y: r.lower[li]})
-			}
-			if len(upper) < 2 {
-				continue
-			}
-			name := fmt.Sprintf("%s %d%%", f.label, sd.levels[li])
-			if rank == 0 {
-				ring := append(plotter.XYs{}, upper...)
-				for i := len(lower) - 1; i >= 0; i-- {
-					ring = append(ring, lower[i])
-				}
-				poly, err := plotter.NewPolygon(ring)
-				if err != nil {
-					return nil, err
-				}
-				poly.Color = look.BandFill(ink).RGBA()
-				poly.LineStyle.Width = 0
-				p.Add(poly)
-				p.Legend.Add(name, poly)
-				continue
-			}
-			for e, edge := range []plotter.XYs{upper, lower} {
-				l, err := plotter.NewLine(edge)
-				if err != nil {
-					return nil, err
-				}
-				l.LineStyle.Color = ink.RGBA()
-				l.LineStyle.Width = px(look.FenceWidth)
-				for _, d := range look.FenceDash(rank) {
-					l.LineStyle.Dashes = append(l.LineStyle.Dashes, px(d))
-				}
-				p.Add(l)
-				if e == 0 {
-					p.Legend.Add(name, l)
-				}
-			}
-		}
+	if err := addBands(p, sd, fcs); err != nil {
+		return nil, err
 	}
 
 	xs := make([]float64, len(sd.hist))
@@ -165,41 +112,8 @@ func buildChart(sd *seriesData, opt Options) (*plot.Plot, error) {
 	if err := addLine(p, "trend", xs, trend, look.Trend.RGBA(), px(2), trendDash); err != nil {
 		return nil, err
 	}
-	for k, f := range fcs {
-		fx := make([]float64, 0, len(f.rows)+1)
-		fy := make([]float64, 0, len(f.rows)+1)
-		// Join the forecast to the last observed value so the eye follows on.
-		if n := len(sd.hist); n > 0 && !math.IsNaN(sd.hist[n-1].observed) {
-			fx = append(fx, xs[n-1])
-			fy = append(fy, sd.hist[n-1].observed)
-		}
-		for _, r := range f.rows {
-			fx = append(fx, xOf(r.period))
-			fy = append(fy, r.value)
-		}
-		name := "forecast: " + f.label
-		if f.chosen {
-			name += " (chosen)"
-		}
-		ink := look.Inks[k%len(look.Inks)].RGBA()
-		if err := addLine(p, name, fx, fy, ink, px(look.ForecastWidth), nil); err != nil {
-			return nil, err
-		}
-		// Square markers on the forecast steps, as in the report.
-		var pts plotter.XYs
-		for _, r := range f.rows {
-			if !math.IsNaN(r.value) {
-				pts = append(pts, plotter.XY{X: xOf(r.period), Y: r.value})
-			}
-		}
-		if len(pts) > 0 && len(pts) <= 60 {
-			sc, err := plotter.NewScatter(pts)
-			if err != nil {
-				return nil, err
-			}
-			sc.GlyphStyle = draw.GlyphStyle{Color: ink, Radius: px(look.MarkerSize / 2), Shape: draw.BoxGlyph{}}
-			p.Add(sc)
-		}
+	if err := addForecasts(p, sd, xs, fcs); err != nil {
+		return nil, err
 	}
 	// Head room above the data, so the legend (top left) covers none of it.
 	// (Plot.Add has widened the axes to the data already.)
@@ -245,4 +159,106 @@ func writeChart(path string, sd *seriesData, opt Options) error {
 		return err
 	}
 	return os.Rename(tmp.Name(), path)
+}
+
+// addBands draws the interval bands, before the lines so they lie under
+// them, in almanac's look (package look, shared with the report): the
+// narrowest level filled, each wider one its two edges, dotted.
+func addBands(p *plot.Plot, sd *seriesData, fcs []*methodFC) error {
+	asc := make([]int, len(sd.levels))
+	for i := range asc {
+		asc[i] = i
+	}
+	sort.SliceStable(asc, func(a, b int) bool { return sd.levels[asc[a]] < sd.levels[asc[b]] })
+	for k, f := range fcs {
+		ink := look.Inks[k%len(look.Inks)]
+		for rank, li := range asc {
+			var upper, lower plotter.XYs
+			for _, r := range f.rows {
+				if math.IsNaN(r.lower[li]) || math.IsNaN(r.upper[li]) {
+					continue
+				}
+				x := xOf(r.period)
+				upper = append(upper, plotter.XY{X: x, Y: r.upper[li]})
+				lower = append(lower, plotter.XY{X: x, Y: r.lower[li]})
+			}
+			if len(upper) < 2 {
+				continue
+			}
+			name := fmt.Sprintf("%s %d%%", f.label, sd.levels[li])
+			if rank == 0 {
+				ring := append(plotter.XYs{}, upper...)
+				for i := len(lower) - 1; i >= 0; i-- {
+					ring = append(ring, lower[i])
+				}
+				poly, err := plotter.NewPolygon(ring)
+				if err != nil {
+					return err
+				}
+				poly.Color = look.BandFill(ink).RGBA()
+				poly.LineStyle.Width = 0
+				p.Add(poly)
+				p.Legend.Add(name, poly)
+				continue
+			}
+			for e, edge := range []plotter.XYs{upper, lower} {
+				l, err := plotter.NewLine(edge)
+				if err != nil {
+					return err
+				}
+				l.LineStyle.Color = ink.RGBA()
+				l.LineStyle.Width = px(look.FenceWidth)
+				for _, d := range look.FenceDash(rank) {
+					l.LineStyle.Dashes = append(l.LineStyle.Dashes, px(d))
+				}
+				p.Add(l)
+				if e == 0 {
+					p.Legend.Add(name, l)
+				}
+			}
+		}
+	}
+	return nil
+}
+
+// addForecasts draws each forecast shown, joined to the last observed
+// value, with square markers on its steps.
+func addForecasts(p *plot.Plot, sd *seriesData, xs []float64, fcs []*methodFC) error {
+	for k, f := range fcs {
+		fx := make([]float64, 0, len(f.rows)+1)
+		fy := make([]float64, 0, len(f.rows)+1)
+		// Join the forecast to the last observed value so the eye follows on.
+		if n := len(sd.hist); n > 0 && !math.IsNaN(sd.hist[n-1].observed) {
+			fx = append(fx, xs[n-1])
+			fy = append(fy, sd.hist[n-1].observed)
+		}
+		for _, r := range f.rows {
+			fx = append(fx, xOf(r.period))
+			fy = append(fy, r.value)
+		}
+		name := "forecast: " + f.label
+		if f.chosen {
+			name += " (chosen)"
+		}
+		ink := look.Inks[k%len(look.Inks)].RGBA()
+		if err := addLine(p, name, fx, fy, ink, px(look.ForecastWidth), nil); err != nil {
+			return err
+		}
+		// Square markers on the forecast steps, as in the report.
+		var pts plotter.XYs
+		for _, r := range f.rows {
+			if !math.IsNaN(r.value) {
+				pts = append(pts, plotter.XY{X: xOf(r.period), Y: r.value})
+			}
+		}
+		if len(pts) > 0 && len(pts) <= 60 {
+			sc, err := plotter.NewScatter(pts)
+			if err != nil {
+				return err
+			}
+			sc.GlyphStyle = draw.GlyphStyle{Color: ink, Radius: px(look.MarkerSize / 2), Shape: draw.BoxGlyph{}}
+			p.Add(sc)
+		}
+	}
+	return nil
 }

@@ -100,23 +100,7 @@ const maxSeason = 1000
 // factorChart draws a series' seasonal factors as bars from the neutral
 // value (1 for multiplicative, 0 for additive factors).
 func factorChart(id string, d *seriesData, freq string, season int) string {
-	// Positions run 1…season (at most maxSeason, the spec's limit); a
-	// table holding others (a damaged run folder) must not size the chart.
-	if season < 1 || season > maxSeason {
-		season = 0
-		for _, f := range d.factors {
-			if f.position >= 1 && f.position <= maxSeason {
-				season = max(season, f.position)
-			}
-		}
-	}
-	var fs []factor
-	for _, f := range d.factors {
-		if f.position >= 1 && f.position <= season {
-			fs = append(fs, f)
-		}
-	}
-	sort.Slice(fs, func(i, j int) bool { return fs[i].position < fs[j].position })
+	fs, season := shownFactors(d.factors, season)
 	m := max(season, 1)
 	neutral := 0.0
 	if d.form == "multiplicative" {
@@ -233,4 +217,27 @@ func factorRange(fs []factor, neutral float64) (lo, hi float64) {
 		}
 	}
 	return lo, hi
+}
+
+// shownFactors gives the factors the chart shows, by position, and the
+// season length it spans.
+func shownFactors(factors []factor, season int) ([]factor, int) {
+	// Positions run 1…season (at most maxSeason, the spec's limit); a
+	// table holding others (a damaged run folder) must not size the chart.
+	if season < 1 || season > maxSeason {
+		season = 0
+		for _, f := range factors {
+			if f.position >= 1 && f.position <= maxSeason {
+				season = max(season, f.position)
+			}
+		}
+	}
+	var fs []factor
+	for _, f := range factors {
+		if f.position >= 1 && f.position <= season {
+			fs = append(fs, f)
+		}
+	}
+	sort.Slice(fs, func(i, j int) bool { return fs[i].position < fs[j].position })
+	return fs, season
 }

@@ -207,31 +207,8 @@ func (m *model) fillSeries(prev map[string]*drawn) error {
 		return f
 	}
 	r := m.run
-	if r.HasTable(runfolder.TableComponents) {
-		err := r.Scan(runfolder.TableComponents, filter(runfolder.ColDecomposition, runfolder.ColForm, runfolder.ColPeriod, runfolder.ColObserved, runfolder.ColTrend), func(t *runfolder.Table) error {
-			for i := 0; i < t.Rows; i++ {
-				s := by[t.Key(m.keys, i)]
-				if s == nil {
-					continue
-				}
-				p, ok := t.Date(runfolder.ColPeriod, i)
-				if !ok {
-					continue
-				}
-				s.found = true
-				if s.decomp == "" {
-					s.decomp = strClone(t, "decomposition", i)
-					s.form = strClone(t, "form", i)
-				}
-				s.periods = append(s.periods, p)
-				s.observed = append(s.observed, t.Float(runfolder.ColObserved, i))
-				s.trend = append(s.trend, t.Float(runfolder.ColTrend, i))
-			}
-			return nil
-		})
-		if err != nil {
-			return err
-		}
+	if err := m.loadComponents(r, by, filter); err != nil {
+		return err
 	}
 	if r.HasTable(runfolder.TableForecasts) {
 		fc, err := chosenForecasts(r, m.keys, m.opt, m.levels, want)
@@ -248,30 +225,8 @@ func (m *model) fillSeries(prev map[string]*drawn) error {
 	if err := m.loadTotals(r, by, filter); err != nil {
 		return err
 	}
-	if r.HasTable(runfolder.TableSeasonalFactors) {
-		err := r.Scan(runfolder.TableSeasonalFactors, filter(runfolder.ColDecomposition, runfolder.ColForm, runfolder.ColPosition, runfolder.ColFactor, runfolder.ColCount), func(t *runfolder.Table) error {
-			for i := 0; i < t.Rows; i++ {
-				s := by[t.Key(m.keys, i)]
-				if s == nil {
-					continue
-				}
-				pos, ok := t.Int(runfolder.ColPosition, i)
-				if !ok {
-					continue
-				}
-				s.found = true
-				if s.decomp == "" {
-					s.decomp = strClone(t, "decomposition", i)
-					s.form = strClone(t, "form", i)
-				}
-				c, _ := t.Int(runfolder.ColCount, i)
-				s.factors = append(s.factors, factor{position: pos, value: t.Float(runfolder.ColFactor, i), count: c})
-			}
-			return nil
-		})
-		if err != nil {
-			return err
-		}
+	if err := m.loadFactors(r, by, filter); err != nil {
+		return err
 	}
 	for i := range m.choices {
 		if s := by[m.choices[i].key]; s != nil {
@@ -291,4 +246,59 @@ func (m *model) fillSeries(prev map[string]*drawn) error {
 		}
 	}
 	return nil
+}
+
+// loadComponents reads the observed values and trend of the listed series.
+func (m *model) loadComponents(r *runfolder.Run, by map[string]*seriesData, filter func(cols ...string) runfolder.ScanFilter) error {
+	if !r.HasTable(runfolder.TableComponents) {
+		return nil
+	}
+	return r.Scan(runfolder.TableComponents, filter(runfolder.ColDecomposition, runfolder.ColForm, runfolder.ColPeriod, runfolder.ColObserved, runfolder.ColTrend), func(t *runfolder.Table) error {
+		for i := 0; i < t.Rows; i++ {
+			s := by[t.Key(m.keys, i)]
+			if s == nil {
+				continue
+			}
+			p, ok := t.Date(runfolder.ColPeriod, i)
+			if !ok {
+				continue
+			}
+			s.found = true
+			if s.decomp == "" {
+				s.decomp = strClone(t, "decomposition", i)
+				s.form = strClone(t, "form", i)
+			}
+			s.periods = append(s.periods, p)
+			s.observed = append(s.observed, t.Float(runfolder.ColObserved, i))
+			s.trend = append(s.trend, t.Float(runfolder.ColTrend, i))
+		}
+		return nil
+	})
+}
+
+// loadFactors reads the seasonal factors of the listed series.
+func (m *model) loadFactors(r *runfolder.Run, by map[string]*seriesData, filter func(cols ...string) runfolder.ScanFilter) error {
+	if !r.HasTable(runfolder.TableSeasonalFactors) {
+		return nil
+	}
+	return r.Scan(runfolder.TableSeasonalFactors, filter(runfolder.ColDecomposition, runfolder.ColForm, runfolder.ColPosition, runfolder.ColFactor, runfolder.ColCount), func(t *runfolder.Table) error {
+		for i := 0; i < t.Rows; i++ {
+			s := by[t.Key(m.keys, i)]
+			if s == nil {
+				continue
+			}
+			pos, ok := t.Int(runfolder.ColPosition, i)
+			if !ok {
+				continue
+			}
+			s.found = true
+			if s.decomp == "" {
+				s.decomp = strClone(t, "decomposition", i)
+				s.form = strClone(t, "form", i)
+			}
+			c, _ := t.Int(runfolder.ColCount, i)
+			s.factors = append(s.factors, factor{position: pos, value: t.Float(runfolder.ColFactor, i), count: c})
+		}
+		return nil
+	})
 }

@@ -68,10 +68,6 @@ func Read(path string) ([]*Series, error) {
 	if strings.Join(head, ",") != strings.Join(want, ",") {
 		return nil, fmt.Errorf("%s: header %q, want %q", path, head, want)
 	}
-	type point struct {
-		t     int
-		value float64
-	}
 	bySeries := map[string]*Series{}
 	parts := map[string]map[string][]point{}
 	line := 1
@@ -122,34 +118,7 @@ func Read(path string) ([]*Series, error) {
 		}
 		parts[id][rec[2]] = append(parts[id][rec[2]], point{t, v})
 	}
-	out := make([]*Series, 0, len(bySeries))
-	for id, s := range bySeries {
-		for _, part := range []string{"train", "test"} {
-			ps := parts[id][part]
-			sort.Slice(ps, func(i, j int) bool { return ps[i].t < ps[j].t })
-			vals := make([]float64, len(ps))
-			for i, p := range ps {
-				vals[i] = p.value
-			}
-			if part == "train" {
-				s.Train = vals
-			} else {
-				s.Test = vals
-			}
-		}
-		if len(s.Test) != Horizon[s.Subset] {
-			return nil, fmt.Errorf("%s: series %s has %d test values, want %d", path, id, len(s.Test), Horizon[s.Subset])
-		}
-		out = append(out, s)
-	}
-	rank := map[string]int{"yearly": 0, "quarterly": 1, "monthly": 2}
-	sort.Slice(out, func(i, j int) bool {
-		if out[i].Subset != out[j].Subset {
-			return rank[out[i].Subset] < rank[out[j].Subset]
-		}
-		return out[i].ID < out[j].ID
-	})
-	return out, nil
+	return assemble(path, bySeries, parts)
 }
 
 // SMAPE is the M-competition symmetric MAPE of forecasts f against actuals
@@ -302,4 +271,43 @@ func Naive2(x []float64, m, h int) []float64 {
 		out[i] = last * f[(n+i)%m]
 	}
 	return out
+}
+
+// point is one value of a series at its time index t.
+type point struct {
+	t     int
+	value float64
+}
+
+// assemble orders each series' train and test points by time, checks the
+// test length, and sorts the series by subset then id.
+func assemble(path string, bySeries map[string]*Series, parts map[string]map[string][]point) ([]*Series, error) {
+	out := make([]*Series, 0, len(bySeries))
+	for id, s := range bySeries {
+		for _, part := range []string{"train", "test"} {
+			ps := parts[id][part]
+			sort.Slice(ps, func(i, j int) bool { return ps[i].t < ps[j].t })
+			vals := make([]float64, len(ps))
+			for i, p := range ps {
+				vals[i] = p.value
+			}
+			if part == "train" {
+				s.Train = vals
+			} else {
+				s.Test = vals
+			}
+		}
+		if len(s.Test) != Horizon[s.Subset] {
+			return nil, fmt.Errorf("%s: series %s has %d test values, want %d", path, id, len(s.Test), Horizon[s.Subset])
+		}
+		out = append(out, s)
+	}
+	rank := map[string]int{"yearly": 0, "quarterly": 1, "monthly": 2}
+	sort.Slice(out, func(i, j int) bool {
+		if out[i].Subset != out[j].Subset {
+			return rank[out[i].Subset] < rank[out[j].Subset]
+		}
+		return out[i].ID < out[j].ID
+	})
+	return out, nil
 }
