@@ -20,25 +20,6 @@ import (
 // (the largest relative difference seen was 4e-16).
 const metricsTol = 1e-14
 
-// metricsNums reads a JSON array of numbers in which null stands for NaN.
-type metricsNums []float64
-
-func (v *metricsNums) UnmarshalJSON(b []byte) error {
-	var raw []*float64
-	if err := json.Unmarshal(b, &raw); err != nil {
-		return err
-	}
-	out := make([]float64, len(raw))
-	for i, p := range raw {
-		out[i] = math.NaN()
-		if p != nil {
-			out[i] = *p
-		}
-	}
-	*v = out
-	return nil
-}
-
 // metricsNum reads a JSON number, or null as NaN.
 type metricsNum float64
 
@@ -124,9 +105,9 @@ func TestMetricsFixedVectorR(t *testing.T) {
 	}
 	var fx struct {
 		Source   string           `json:"source"`
-		Actual   metricsNums      `json:"actual"`
-		Forecast metricsNums      `json:"forecast"`
-		Train    metricsNums      `json:"train"`
+		Actual   decompFloats     `json:"actual"`
+		Forecast decompFloats     `json:"forecast"`
+		Train    decompFloats     `json:"train"`
 		Metrics  map[string]entry `json:"metrics"`
 	}
 	metricsLoad(t, "holdout/metrics.json", &fx)
@@ -214,17 +195,17 @@ func TestMetricsFixedVectorR(t *testing.T) {
 
 // holdoutFixture is holdout/<dataset>.json.
 type metricsHoldoutFixture struct {
-	Source    string      `json:"source"`
-	Frequency int         `json:"frequency"`
-	X         metricsNums `json:"x"`
-	NTrain    int         `json:"n_train"`
-	Test      metricsNums `json:"test"`
-	MASEScale float64     `json:"mase_scale"`
+	Source    string       `json:"source"`
+	Frequency int          `json:"frequency"`
+	X         decompFloats `json:"x"`
+	NTrain    int          `json:"n_train"`
+	Test      decompFloats `json:"test"`
+	MASEScale float64      `json:"mase_scale"`
 	Methods   []struct {
-		Name     string      `json:"name"`
-		Forecast metricsNums `json:"forecast"`
-		MAE      float64     `json:"mae"`
-		MASE     float64     `json:"mase"`
+		Name     string       `json:"name"`
+		Forecast decompFloats `json:"forecast"`
+		MAE      float64      `json:"mae"`
+		MASE     float64      `json:"mase"`
 	} `json:"methods"`
 }
 
@@ -441,17 +422,17 @@ func TestMetricsHoldoutScoresR(t *testing.T) {
 	var fx struct {
 		Source string `json:"source"`
 		Cases  []struct {
-			Dataset string      `json:"dataset"`
-			M       int         `json:"m"`
-			Train   metricsNums `json:"train"`
-			Test    metricsNums `json:"test"`
+			Dataset string       `json:"dataset"`
+			M       int          `json:"m"`
+			Train   decompFloats `json:"train"`
+			Test    decompFloats `json:"test"`
 			Methods []struct {
 				Name          string           `json:"name"`
-				Forecast      metricsNums      `json:"forecast"`
-				Lwr80         metricsNums      `json:"lwr80"`
-				Upr80         metricsNums      `json:"upr80"`
-				Lwr95         metricsNums      `json:"lwr95"`
-				Upr95         metricsNums      `json:"upr95"`
+				Forecast      decompFloats     `json:"forecast"`
+				Lwr80         decompFloats     `json:"lwr80"`
+				Upr80         decompFloats     `json:"upr80"`
+				Lwr95         decompFloats     `json:"lwr95"`
+				Upr95         decompFloats     `json:"upr95"`
 				Point         metricsPoint     `json:"point"`
 				PinballMedian metricsPinball   `json:"pinball_median"`
 				Interval80    *metricsInterval `json:"interval80"`
@@ -508,11 +489,11 @@ func TestMetricsEdgeCasesR(t *testing.T) {
 	var fx struct {
 		Cases []struct {
 			Name     string          `json:"name"`
-			Actual   metricsNums     `json:"actual"`
-			Forecast metricsNums     `json:"forecast"`
-			Lower    metricsNums     `json:"lower"`
-			Upper    metricsNums     `json:"upper"`
-			Train    metricsNums     `json:"train"`
+			Actual   decompFloats    `json:"actual"`
+			Forecast decompFloats    `json:"forecast"`
+			Lower    decompFloats    `json:"lower"`
+			Upper    decompFloats    `json:"upper"`
+			Train    decompFloats    `json:"train"`
 			M        int             `json:"m"`
 			Point    metricsPoint    `json:"point"`
 			Interval metricsInterval `json:"interval"`
@@ -852,8 +833,8 @@ func TestMetricsPanics(t *testing.T) {
 // by a 156-point weekly training series (bench/weekly156.json, season 52).
 func BenchmarkPointScores(b *testing.B) {
 	var fx struct {
-		Frequency int         `json:"frequency"`
-		X         metricsNums `json:"x"`
+		Frequency int          `json:"frequency"`
+		X         decompFloats `json:"x"`
 	}
 	metricsLoad(b, "bench/weekly156.json", &fx)
 	if len(fx.X) != 156 || fx.Frequency != 52 {

@@ -42,8 +42,8 @@ func esBenchSeries(b *testing.B, name string) ([]float64, int) {
 		return y[:120], m
 	}
 	var fx struct {
-		Frequency int      `json:"frequency"`
-		X         esFloats `json:"x"`
+		Frequency int          `json:"frequency"`
+		X         decompFloats `json:"x"`
 	}
 	esReadJSON(b, filepath.Join("testdata", "reference", "bench", name+".json"), &fx)
 	if len(fx.X) == 0 {

@@ -9,26 +9,6 @@ import (
 	"testing"
 )
 
-// esFloats reads a JSON array of numbers in which null stands for NaN.
-type esFloats []float64
-
-func (f *esFloats) UnmarshalJSON(b []byte) error {
-	var raw []*float64
-	if err := json.Unmarshal(b, &raw); err != nil {
-		return err
-	}
-	out := make([]float64, len(raw))
-	for i, p := range raw {
-		if p == nil {
-			out[i] = math.NaN()
-		} else {
-			out[i] = *p
-		}
-	}
-	*f = out
-	return nil
-}
-
 // esOptional reads a number that R may write as false (parameter not used).
 type esOptional struct {
 	V  float64
@@ -99,8 +79,8 @@ func esClose(t *testing.T, what string, got, want []float64, tol float64) float6
 func esDataset(t testing.TB, name string) ([]float64, int) {
 	t.Helper()
 	var fx struct {
-		Frequency int      `json:"frequency"`
-		X         esFloats `json:"x"`
+		Frequency int          `json:"frequency"`
+		X         decompFloats `json:"x"`
 	}
 	esReadJSON(t, filepath.Join("testdata", "reference", "data", name+".json"), &fx)
 	if len(fx.X) == 0 {

@@ -12,33 +12,33 @@ import (
 // esRFixed is one file of testdata/reference/hw/fixed_*.json: R's
 // stats::HoltWinters with fixed alpha, beta, gamma.
 type esRFixed struct {
-	Source    string     `json:"source"`
-	Frequency int        `json:"frequency"`
-	Seasonal  string     `json:"seasonal"`
-	Alpha     float64    `json:"alpha"`
-	Beta      esOptional `json:"beta"`
-	Gamma     esOptional `json:"gamma"`
-	X         esFloats   `json:"x"`
-	StartTime int        `json:"start_time"`
+	Source    string       `json:"source"`
+	Frequency int          `json:"frequency"`
+	Seasonal  string       `json:"seasonal"`
+	Alpha     float64      `json:"alpha"`
+	Beta      esOptional   `json:"beta"`
+	Gamma     esOptional   `json:"gamma"`
+	X         decompFloats `json:"x"`
+	StartTime int          `json:"start_time"`
 	Initial   struct {
-		Level    float64    `json:"level"`
-		Trend    esOptional `json:"trend"`
-		Seasonal esFloats   `json:"seasonal"`
+		Level    float64      `json:"level"`
+		Trend    esOptional   `json:"trend"`
+		Seasonal decompFloats `json:"seasonal"`
 	} `json:"initial"`
 	Fitted struct {
-		FirstIndex int      `json:"first_index"`
-		N          int      `json:"n"`
-		Xhat       esFloats `json:"xhat"`
+		FirstIndex int          `json:"first_index"`
+		N          int          `json:"n"`
+		Xhat       decompFloats `json:"xhat"`
 	} `json:"fitted"`
 	SSE          float64 `json:"sse"`
 	Coefficients struct {
-		A float64    `json:"a"`
-		B esOptional `json:"b"`
-		S esFloats   `json:"s"`
+		A float64      `json:"a"`
+		B esOptional   `json:"b"`
+		S decompFloats `json:"s"`
 	} `json:"coefficients"`
 	Predict struct {
-		NAhead int      `json:"n_ahead"`
-		Values esFloats `json:"values"`
+		NAhead int          `json:"n_ahead"`
+		Values decompFloats `json:"values"`
 	} `json:"predict"`
 }
 
@@ -149,10 +149,10 @@ func TestHoltWintersRecursionsMatchR(t *testing.T) {
 // esROptim is one file of testdata/reference/hw/optim_*.json: R's
 // HoltWinters with its default L-BFGS-B optimisation, both seasonal forms.
 type esROptim struct {
-	Source    string   `json:"source"`
-	Dataset   string   `json:"dataset"`
-	Frequency int      `json:"frequency"`
-	X         esFloats `json:"x"`
+	Source    string       `json:"source"`
+	Dataset   string       `json:"dataset"`
+	Frequency int          `json:"frequency"`
+	X         decompFloats `json:"x"`
 	Fits      []struct {
 		Seasonal  string  `json:"seasonal"`
 		Alpha     float64 `json:"alpha"`
@@ -160,9 +160,9 @@ type esROptim struct {
 		Gamma     float64 `json:"gamma"`
 		StartTime int     `json:"start_time"`
 		Initial   struct {
-			Level    float64  `json:"level"`
-			Trend    float64  `json:"trend"`
-			Seasonal esFloats `json:"seasonal"`
+			Level    float64      `json:"level"`
+			Trend    float64      `json:"trend"`
+			Seasonal decompFloats `json:"seasonal"`
 		} `json:"initial"`
 		SSE float64 `json:"sse"`
 	} `json:"fits"`
@@ -238,8 +238,8 @@ func TestHoltWintersOptimisedSSEvsR(t *testing.T) {
 // 0.13.5 SimpleExpSmoothing / Holt / ExponentialSmoothing with known
 // initial states and fixed parameters (written by ets/make_ets.py).
 type esSMFixture struct {
-	Source string   `json:"source"`
-	X      esFloats `json:"x"`
+	Source string       `json:"source"`
+	X      decompFloats `json:"x"`
 	Model  struct {
 		Trend           *string `json:"trend"`
 		DampedTrend     bool    `json:"damped_trend"`
@@ -253,14 +253,14 @@ type esSMFixture struct {
 		Phi   esOptional `json:"phi"`
 	} `json:"parameters"`
 	Initial struct {
-		Level    float64    `json:"level"`
-		Trend    esOptional `json:"trend"`
-		Seasonal esFloats   `json:"seasonal"`
+		Level    float64      `json:"level"`
+		Trend    esOptional   `json:"trend"`
+		Seasonal decompFloats `json:"seasonal"`
 	} `json:"initial"`
-	Fitted   esFloats `json:"fittedvalues"`
-	SSE      float64  `json:"sse"`
+	Fitted   decompFloats `json:"fittedvalues"`
+	SSE      float64      `json:"sse"`
 	Forecast struct {
-		Standard esFloats `json:"values_standard_formula"`
+		Standard decompFloats `json:"values_standard_formula"`
 	} `json:"forecast"`
 }
 
@@ -365,12 +365,12 @@ func TestSmoothingMatchesETSModel(t *testing.T) {
 			Params   map[string]float64 `json:"params"`
 			Level    float64            `json:"initial_level"`
 			Slope    esOptional         `json:"initial_trend"`
-			Season   esFloats           `json:"initial_seasonal"`
-			X        esFloats           `json:"x"`
+			Season   decompFloats       `json:"initial_seasonal"`
+			X        decompFloats       `json:"x"`
 			LLF      float64            `json:"llf"`
 			SSE      float64            `json:"sse"`
-			Fitted   esFloats           `json:"fittedvalues"`
-			Forecast esFloats           `json:"forecast"`
+			Fitted   decompFloats       `json:"fittedvalues"`
+			Forecast decompFloats       `json:"forecast"`
 		} `json:"cases"`
 	}
 	esReadJSON(t, filepath.Join("testdata", "reference", "ets", "etsmodel_fixed.json"), &fx)
@@ -498,7 +498,7 @@ func TestSmoothingForecastVarianceMatchesStatsmodels(t *testing.T) {
 			Params   map[string]float64 `json:"params"`
 			MSE      float64            `json:"mse"`
 			H        int                `json:"h"`
-			Var      esFloats           `json:"forecast_variance"`
+			Var      decompFloats       `json:"forecast_variance"`
 		} `json:"cases"`
 	}
 	esReadJSON(t, filepath.Join("testdata", "reference", "smoothing", "forecast_variance.json"), &fx)
