@@ -320,10 +320,10 @@ func readProblems(r *runfolder.Run, keys []string) ([]problemRow, error) {
 			if len(keys) > 0 {
 				_, p.hasKey = t.Str(keys[0], i)
 			}
-			p.stage = strClone(t, "stage", i)
-			p.severity = strClone(t, "severity", i)
-			p.method = strClone(t, "method", i)
-			p.message = strClone(t, "message", i)
+			p.stage = strClone(t, runfolder.ColStage, i)
+			p.severity = strClone(t, runfolder.ColSeverity, i)
+			p.method = strClone(t, runfolder.ColMethod, i)
+			p.message = strClone(t, runfolder.ColMessage, i)
 			out = append(out, p)
 		}
 		return nil
@@ -344,14 +344,14 @@ func readChoices(r *runfolder.Run, keys []string) ([]choice, error) {
 	err := r.Scan(runfolder.TableChoices, runfolder.ScanFilter{}, func(t *runfolder.Table) error {
 		for i := 0; i < t.Rows; i++ {
 			c := choice{key: strings.Clone(t.Key(keys, i))}
-			c.chosen = strClone(t, "chosen", i)
-			c.metric = strClone(t, "metric", i)
+			c.chosen = strClone(t, runfolder.ColChosen, i)
+			c.metric = strClone(t, runfolder.ColMetric, i)
 			c.score = t.Float(runfolder.ColScore, i)
-			c.runnerUp = strClone(t, "runner_up", i)
+			c.runnerUp = strClone(t, runfolder.ColRunnerUp, i)
 			c.runnerUpScore = t.Float(runfolder.ColRunnerUpScore, i)
 			c.folds, _ = t.Int(runfolder.ColFolds, i)
-			c.demandClass = strClone(t, "demand_class", i)
-			c.reason = strClone(t, "reason", i)
+			c.demandClass = strClone(t, runfolder.ColDemandClass, i)
+			c.reason = strClone(t, runfolder.ColReason, i)
 			out = append(out, c)
 		}
 		return nil

@@ -88,9 +88,9 @@ func chosenForecasts(r *runfolder.Run, keys []string, opt Options, levels []int,
 			}
 			d := out[k]
 			if d == nil {
-				d = &drawn{method: strClone(t, "method", i), model: strClone(t, "model", i)}
+				d = &drawn{method: strClone(t, runfolder.ColMethod, i), model: strClone(t, runfolder.ColModel, i)}
 				if len(levels) > 0 {
-					d.source = strClone(t, "interval_source", i)
+					d.source = strClone(t, runfolder.ColIntervalSource, i)
 				}
 				out[strings.Clone(k)] = d
 			}
@@ -263,11 +263,7 @@ func (m *model) loadComponents(r *runfolder.Run, by map[string]*seriesData, filt
 			if !ok {
 				continue
 			}
-			s.found = true
-			if s.decomp == "" {
-				s.decomp = strClone(t, "decomposition", i)
-				s.form = strClone(t, "form", i)
-			}
+			s.foundIn(t, i)
 			s.periods = append(s.periods, p)
 			s.observed = append(s.observed, t.Float(runfolder.ColObserved, i))
 			s.trend = append(s.trend, t.Float(runfolder.ColTrend, i))
@@ -291,14 +287,21 @@ func (m *model) loadFactors(r *runfolder.Run, by map[string]*seriesData, filter 
 			if !ok {
 				continue
 			}
-			s.found = true
-			if s.decomp == "" {
-				s.decomp = strClone(t, "decomposition", i)
-				s.form = strClone(t, "form", i)
-			}
+			s.foundIn(t, i)
 			c, _ := t.Int(runfolder.ColCount, i)
 			s.factors = append(s.factors, factor{position: pos, value: t.Float(runfolder.ColFactor, i), count: c})
 		}
 		return nil
 	})
+}
+
+// foundIn marks the series as found in a decomposition table (components
+// or seasonal factors) and takes its decomposition and form from row i
+// the first time.
+func (s *seriesData) foundIn(t *runfolder.Table, i int) {
+	s.found = true
+	if s.decomp == "" {
+		s.decomp = strClone(t, runfolder.ColDecomposition, i)
+		s.form = strClone(t, runfolder.ColForm, i)
+	}
 }
