@@ -2,6 +2,7 @@ package engines
 
 import (
 	"encoding/json"
+	"fmt"
 	"math"
 	"os"
 	"strings"
@@ -31,20 +32,29 @@ type arimaRefCase struct {
 
 func arimaLoadRef(t *testing.T) []arimaRefCase {
 	t.Helper()
-	b, err := os.ReadFile("testdata/reference/arima/fits.json")
+	cases, err := loadRefCases[arimaRefCase]("testdata/reference/arima/fits.json")
 	if err != nil {
 		t.Fatal(err)
 	}
+	if len(cases) < 6 {
+		t.Fatalf("only %d reference cases", len(cases))
+	}
+	return cases
+}
+
+// loadRefCases reads the "cases" array of a reference fixture.
+func loadRefCases[C any](path string) ([]C, error) {
+	b, err := os.ReadFile(path)
+	if err != nil {
+		return nil, err
+	}
 	var f struct {
-		Cases []arimaRefCase `json:"cases"`
+		Cases []C `json:"cases"`
 	}
 	if err := json.Unmarshal(b, &f); err != nil {
-		t.Fatal(err)
+		return nil, fmt.Errorf("%s: %v", path, err)
 	}
-	if len(f.Cases) < 6 {
-		t.Fatalf("only %d reference cases", len(f.Cases))
-	}
-	return f.Cases
+	return f.Cases, nil
 }
 
 func arimaNullable(v []*float64) []float64 {

@@ -1,9 +1,7 @@
 package engines
 
 import (
-	"encoding/json"
 	"math"
-	"os"
 	"strings"
 	"testing"
 )
@@ -31,18 +29,12 @@ type mstlRefCase struct {
 
 func mstlLoadRef(t *testing.T) map[string]mstlRefCase {
 	t.Helper()
-	b, err := os.ReadFile("testdata/reference/mstl/fits.json")
+	cases, err := loadRefCases[mstlRefCase]("testdata/reference/mstl/fits.json")
 	if err != nil {
 		t.Fatal(err)
 	}
-	var f struct {
-		Cases []mstlRefCase `json:"cases"`
-	}
-	if err := json.Unmarshal(b, &f); err != nil {
-		t.Fatal(err)
-	}
 	out := map[string]mstlRefCase{}
-	for _, c := range f.Cases {
+	for _, c := range cases {
 		out[c.Name] = c
 	}
 	if len(out) != 4 {
@@ -202,17 +194,11 @@ func TestMSTLInputs(t *testing.T) {
 }
 
 func BenchmarkMSTLDaily3Years(b *testing.B) {
-	raw, err := os.ReadFile("testdata/reference/mstl/fits.json")
+	cases, err := loadRefCases[mstlRefCase]("testdata/reference/mstl/fits.json")
 	if err != nil {
 		b.Fatal(err)
 	}
-	var f struct {
-		Cases []mstlRefCase `json:"cases"`
-	}
-	if err := json.Unmarshal(raw, &f); err != nil {
-		b.Fatal(err)
-	}
-	y := f.Cases[0].Y
+	y := cases[0].Y
 	b.ReportAllocs()
 	for i := 0; i < b.N; i++ {
 		if _, err := MSTL(y, []int{7, 365}, MSTLOptions{}); err != nil {

@@ -1,9 +1,7 @@
 package engines
 
 import (
-	"encoding/json"
 	"math"
-	"os"
 	"strings"
 	"testing"
 )
@@ -34,20 +32,14 @@ type regRefCase struct {
 
 func regLoadRef(t *testing.T) []regRefCase {
 	t.Helper()
-	b, err := os.ReadFile("testdata/reference/regarima/fits.json")
+	cases, err := loadRefCases[regRefCase]("testdata/reference/regarima/fits.json")
 	if err != nil {
 		t.Fatal(err)
 	}
-	var f struct {
-		Cases []regRefCase `json:"cases"`
+	if len(cases) < 9 {
+		t.Fatalf("only %d reference cases", len(cases))
 	}
-	if err := json.Unmarshal(b, &f); err != nil {
-		t.Fatal(err)
-	}
-	if len(f.Cases) < 9 {
-		t.Fatalf("only %d reference cases", len(f.Cases))
-	}
-	return f.Cases
+	return cases
 }
 
 func (c regRefCase) options() RegressionARIMAOptions {
