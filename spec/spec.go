@@ -92,6 +92,20 @@ var DefaultSeasonLength = map[Frequency]int{Day: 7, Week: 52, Month: 12, Quarter
 type Calendar struct {
 	Frequency    Frequency
 	SeasonLength int // periods per season; default from the frequency
+
+	// Seasons lists every season length in ascending order when the spec
+	// gives more than one (season_length: [7, 365]); SeasonLength is then
+	// Seasons[0], the cycle single-season methods use. Nil with one.
+	Seasons []int
+}
+
+// AllSeasons returns every season length of the calendar in ascending
+// order: Seasons, or SeasonLength alone.
+func (c Calendar) AllSeasons() []int {
+	if len(c.Seasons) > 0 {
+		return c.Seasons
+	}
+	return []int{c.SeasonLength}
 }
 
 // Combine says how rows that fall into the same period of one series combine.

@@ -29,6 +29,24 @@ type Series struct {
 	// Notes become problems rows of the series: stray rows left out, a
 	// period whose rows add up beyond the range of a float.
 	Notes []Note
+
+	// Events, when the spec has event sources (see the events section of
+	// the README). Closed[i] marks a period of Values the series could not
+	// sell (Values[i] is NaN there and no backtest scores it);
+	// FutureClosed[k] marks step k+1 of the forecast horizon. Drivers holds
+	// one column per driver of the run, in the same order for every series,
+	// each of len(Values)+Horizon values (0 where the driver is absent).
+	// All three are nil without event sources.
+	Closed       []bool
+	FutureClosed []bool
+	Drivers      []Driver
+}
+
+// Driver is one known-in-advance regressor of a series over its history
+// and the forecast horizon.
+type Driver struct {
+	Name   string
+	Values []float64
 }
 
 // Note is a problems row found while shaping a series.
