@@ -12,7 +12,7 @@
 // Flags:
 //
 //	-dir      the examples folder (default "examples", i.e. run from the module root)
-//	-example  all | garden-supply | quarterly-ferries (default all)
+//	-example  all | garden-supply | quarterly-ferries | daily-grocer (default all)
 //	-stats    print aggregate statistics (default true)
 //
 // Determinism rules kept here: no global random generator, no map iteration
@@ -42,6 +42,7 @@ type example struct {
 var examples = []example{
 	{name: "garden-supply", generate: writeGarden},
 	{name: "quarterly-ferries", generate: writeFerries},
+	{name: "daily-grocer", generate: writeGrocer},
 }
 
 func main() {

@@ -7,6 +7,7 @@ import (
 	"os"
 	"path/filepath"
 	"regexp"
+	"slices"
 	"strings"
 	"testing"
 	"time"
@@ -19,9 +20,10 @@ import (
 
 // dataFiles are the files each example's generator writes, relative to the
 // example's folder.
-var dataFiles = map[string]string{
-	"garden-supply":     "data/order_lines.csv",
-	"quarterly-ferries": "data/passengers.parquet",
+var dataFiles = map[string][]string{
+	"garden-supply":     {"data/order_lines.csv"},
+	"quarterly-ferries": {"data/passengers.parquet"},
+	"daily-grocer":      {"data/sales.csv", "events/closures.csv", "events/drivers.csv"},
 }
 
 // The committed data must be exactly what the generator writes today, so
@@ -30,7 +32,7 @@ var dataFiles = map[string]string{
 func TestCommittedDataIsCurrent(t *testing.T) {
 	for _, e := range examples {
 		t.Run(e.name, func(t *testing.T) {
-			rel, ok := dataFiles[e.name]
+			rels, ok := dataFiles[e.name]
 			if !ok {
 				t.Fatalf("no data file listed for example %s", e.name)
 			}
@@ -38,16 +40,18 @@ func TestCommittedDataIsCurrent(t *testing.T) {
 			if err := e.generate(tmp, io.Discard); err != nil {
 				t.Fatal(err)
 			}
-			got, err := os.ReadFile(filepath.Join(tmp, rel))
-			if err != nil {
-				t.Fatal(err)
-			}
-			want, err := os.ReadFile(filepath.Join("..", "..", e.name, rel))
-			if err != nil {
-				t.Fatal(err)
-			}
-			if !bytes.Equal(got, want) {
-				t.Errorf("examples/%s/%s differs from the generator's output (%d vs %d bytes): run go run ./examples/internal/generate", e.name, rel, len(want), len(got))
+			for _, rel := range rels {
+				got, err := os.ReadFile(filepath.Join(tmp, rel))
+				if err != nil {
+					t.Fatal(err)
+				}
+				want, err := os.ReadFile(filepath.Join("..", "..", e.name, rel))
+				if err != nil {
+					t.Fatal(err)
+				}
+				if !bytes.Equal(got, want) {
+					t.Errorf("examples/%s/%s differs from the generator's output (%d vs %d bytes): run go run ./examples/internal/generate", e.name, rel, len(want), len(got))
+				}
 			}
 		})
 	}
@@ -151,5 +155,76 @@ func TestFerryParquetReadsBack(t *testing.T) {
 		if !quarter.MatchString(row.quarter) || row.passengers <= 0 {
 			t.Fatalf("bad row %+v", row)
 		}
+	}
+}
+
+// The daily-grocer README and the evidence test in pipeline rely on these
+// properties of the data.
+func TestGrocerShape(t *testing.T) {
+	sales, closures, drivers := generateGrocer()
+	sales2, closures2, drivers2 := generateGrocer()
+	if !bytes.Equal(grocerSalesCSV(sales), grocerSalesCSV(sales2)) ||
+		!bytes.Equal(grocerEventsCSV(closures, false), grocerEventsCSV(closures2, false)) ||
+		!bytes.Equal(grocerEventsCSV(drivers, true), grocerEventsCSV(drivers2, true)) {
+		t.Fatal("daily-grocer: two runs differ")
+	}
+	days := int(grocerLast.Sub(grocerFirst).Hours()/24) + 1
+	np := len(grocerProducts)
+	has := make([][]bool, len(grocerStores)*np)
+	for i := range has {
+		has[i] = make([]bool, days)
+	}
+	for _, s := range sales {
+		if s.units <= 0 {
+			t.Fatalf("a row with %d units", s.units)
+		}
+		has[s.store*np+s.product][s.day] = true
+	}
+	btFirst := time.Date(2025, 9, 8, 0, 0, 0, 0, time.UTC) // the first backtest day of the example's spec
+	horizonEnd := grocerLast.AddDate(0, 0, 28)
+	for si := range grocerStores {
+		for pi := range grocerProducts {
+			promoBT, promoAhead := 0, 0
+			for d := range days + 28 {
+				day := grocerFirst.AddDate(0, 0, d)
+				shut := slices.ContainsFunc(closures, func(e grocerEvent) bool { return e.applies(day, si, pi) })
+				var on []string
+				for _, e := range drivers {
+					if e.applies(day, si, pi) {
+						on = append(on, e.name)
+					}
+				}
+				if len(on) > 1 || (shut && len(on) > 0) {
+					t.Errorf("%s %s %s: events overlap (closed %v, drivers %v)", grocerStores[si].name, grocerProducts[pi].name, day.Format(time.DateOnly), shut, on)
+				}
+				if d < days && has[si*np+pi][d] == shut {
+					// A closed day has no row and an open day always has one,
+					// so the export alone tells them apart.
+					t.Errorf("%s %s %s: closed %v but a row %v", grocerStores[si].name, grocerProducts[pi].name, day.Format(time.DateOnly), shut, has[si*np+pi][d])
+				}
+				if slices.Contains(on, "promotion") {
+					switch {
+					case d >= days:
+						promoAhead++
+					case !day.Before(btFirst):
+						promoBT++
+					}
+				}
+			}
+			if promoBT == 0 {
+				t.Errorf("%s %s: no promoted day in the backtest windows", grocerStores[si].name, grocerProducts[pi].name)
+			}
+			if pi == 0 && promoAhead != 7 {
+				t.Errorf("%s bread: %d promoted days in the horizon, want the bread week", grocerStores[si].name, promoAhead)
+			}
+		}
+	}
+	for _, e := range append(closures, drivers...) {
+		if e.last.Before(e.first) || e.first.Before(grocerFirst) || e.last.After(grocerKnownUntil) {
+			t.Errorf("event %+v outside %s … %s", e, grocerFirst.Format(time.DateOnly), grocerKnownUntil.Format(time.DateOnly))
+		}
+	}
+	if !horizonEnd.Before(grocerKnownUntil) {
+		t.Errorf("the horizon ends %s, after the drivers are known", horizonEnd.Format(time.DateOnly))
 	}
 }
