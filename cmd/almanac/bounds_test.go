@@ -31,7 +31,8 @@ func exampleWithBounds(t *testing.T, specPath, dir string, allowNegative bool) s
 		t.Fatal(err)
 	}
 	base, _ := filepath.Abs(filepath.Dir(specPath))
-	for _, s := range m["sources"].([]any) {
+	events, _ := m["events"].([]any)
+	for _, s := range append(m["sources"].([]any), events...) {
 		if src, ok := s.(map[string]any); ok {
 			src["path"] = filepath.Join(base, src["path"].(string))
 		}
