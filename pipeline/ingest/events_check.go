@@ -61,6 +61,11 @@ func (ev *Events) Check(rs *Rows, s *spec.Spec, cal calendar.Calendar) error {
 			}
 		}
 	}
+	if len(msgs) == 0 && rs.shardCount <= 1 {
+		// Each value exists; with several key columns, the combination
+		// must be a series too (a shard knows only its own series).
+		msgs = unmatchedEvents(ev, rs.Keys, s.Columns.Keys)
+	}
 	if len(msgs) > 0 {
 		return &DataError{Msgs: msgs}
 	}
@@ -110,4 +115,55 @@ func (ev *Events) Check(rs *Rows, s *spec.Spec, cal calendar.Calendar) error {
 		}
 	}
 	return nil
+}
+
+// unmatchedEvents names the events that set more than one key column and
+// whose combination of values is no series' key.
+func unmatchedEvents(ev *Events, keys [][]string, names []string) []string {
+	seen := map[string]map[string]bool{} // mask → masked keys of the series
+	var msgs []string
+	for _, list := range [][]Event{ev.Closures, ev.Drivers} {
+		for i := range list {
+			e := &list[i]
+			if countSet(e.Set) < 2 {
+				continue
+			}
+			mask := fmt.Sprint(e.Set)
+			have := seen[mask]
+			if have == nil {
+				have = map[string]bool{}
+				for _, k := range keys {
+					have[MaskedKey(e.Set, k)] = true
+				}
+				seen[mask] = have
+			}
+			if !have[MaskedKey(e.Set, e.Keys)] && len(msgs) < MaxDataErrors {
+				msgs = append(msgs, fmt.Sprintf("%s: no series has %s (each value exists, but not together); an event's key cells must name series that exist", e.Where, e.Pattern(names)))
+			}
+		}
+	}
+	return msgs
+}
+
+func countSet(set []bool) int {
+	n := 0
+	for _, s := range set {
+		if s {
+			n++
+		}
+	}
+	return n
+}
+
+// MaskedKey joins the values of key at the columns set marks (an
+// event's key pattern, or a series' key read at those columns).
+func MaskedKey(set []bool, key []string) string {
+	var b strings.Builder
+	for i, s := range set {
+		if s {
+			b.WriteString(key[i])
+			b.WriteByte(0)
+		}
+	}
+	return b.String()
 }

@@ -168,3 +168,18 @@ func TestEventsWeekly(t *testing.T) {
 		t.Errorf("no partial_closure note: %+v", rs.Notes)
 	}
 }
+
+// With two key columns, an event naming values that exist but never
+// together matches no series: an error naming the row.
+func TestUnmatchedEventCombination(t *testing.T) {
+	keys := [][]string{{"North", "bread"}, {"South", "cake"}}
+	ev := &Events{Closures: []Event{
+		{Where: "c.csv:2", Keys: []string{"North", "cake"}, Set: []bool{true, true}},
+		{Where: "c.csv:3", Keys: []string{"South", "cake"}, Set: []bool{true, true}},
+		{Where: "c.csv:4", Keys: []string{"North", ""}, Set: []bool{true, false}},
+	}}
+	msgs := unmatchedEvents(ev, keys, []string{"store", "product"})
+	if len(msgs) != 1 || msgs[0] != `c.csv:2: no series has store="North", product="cake" (each value exists, but not together); an event's key cells must name series that exist` {
+		t.Errorf("msgs = %q", msgs)
+	}
+}

@@ -3,7 +3,6 @@ package series
 import (
 	"fmt"
 	"math"
-	"strings"
 
 	"almanac/pipeline/calendar"
 	"almanac/pipeline/ingest"
@@ -58,7 +57,7 @@ func group(events []ingest.Event) []eventGroup {
 			out = append(out, eventGroup{set: e.Set, events: map[string][]*ingest.Event{}})
 			g = len(out) - 1
 		}
-		k := maskedKey(e.Set, e.Keys)
+		k := ingest.MaskedKey(e.Set, e.Keys)
 		out[g].events[k] = append(out[g].events[k], e)
 	}
 	return out
@@ -73,23 +72,12 @@ func equalMask(a, b []bool) bool {
 	return true
 }
 
-func maskedKey(set []bool, key []string) string {
-	var b strings.Builder
-	for i, s := range set {
-		if s {
-			b.WriteString(key[i])
-			b.WriteByte(0)
-		}
-	}
-	return b.String()
-}
-
 // matching returns the events of groups that apply to key, in input order
 // within each group.
 func matching(groups []eventGroup, key []string) []*ingest.Event {
 	var out []*ingest.Event
 	for _, g := range groups {
-		out = append(out, g.events[maskedKey(g.set, key)]...)
+		out = append(out, g.events[ingest.MaskedKey(g.set, key)]...)
 	}
 	return out
 }
