@@ -99,3 +99,28 @@ func TestAttachWeekly(t *testing.T) {
 		t.Errorf("promo = %s, want [2 1 0 0 0]", got)
 	}
 }
+
+// BenchmarkAttach: one daily series of three years plus a 28-day horizon
+// against 1,000 closures and 1,000 driver rows of 5 names spread over 100
+// stores (the series matches a tenth of them, plus the global ones).
+func BenchmarkAttach(b *testing.B) {
+	cal := calendar.Calendar{Freq: spec.Day, Season: 7}
+	start := calendar.DayOf("2022-01-01")
+	evs := &ingest.Events{Names: []string{"d0", "d1", "d2", "d3", "d4"}}
+	for i := 0; i < 1000; i++ {
+		store := fmt.Sprintf("S%02d", i%100)
+		if i%50 == 0 {
+			store = ""
+		}
+		day := start + int64(i)
+		evs.Closures = append(evs.Closures, ingest.Event{First: day, Last: day, Keys: []string{store}, Set: []bool{store != ""}})
+		evs.Drivers = append(evs.Drivers, ingest.Event{First: day, Last: day + 6, Keys: []string{store}, Set: []bool{store != ""}, Name: evs.Names[i%5], Value: 1.5})
+	}
+	a := NewAttacher(evs, cal, 28)
+	values := make([]float64, 1095)
+	b.ReportAllocs()
+	for b.Loop() {
+		s := &Series{Key: []string{"S07"}, Start: start, Values: append([]float64(nil), values...)}
+		a.Attach(s)
+	}
+}
