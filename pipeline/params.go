@@ -51,6 +51,19 @@ func SeriesParams(ctx context.Context, runDir string, key []string) (map[string]
 	if i < 0 || all[i].Skip != "" {
 		return nil, fmt.Errorf("series %v not found in the run's inputs", key)
 	}
+	if len(s.Events) > 0 {
+		// The run checked the events; the refit sees the same closed
+		// periods the run's fits did.
+		evFiles, err := ingest.ResolveEvents(s)
+		if err != nil {
+			return nil, err
+		}
+		ev, err := ingest.ReadEvents(ctx, s, evFiles)
+		if err != nil {
+			return nil, err
+		}
+		series.NewAttacher(ev, cal, s.Horizon).Attach(all[i])
+	}
 	out := map[string]map[string]float64{}
 	for _, mr := range methods {
 		fitted, err := forecast.SafeFit(mr.Engine, all[i].Values, s.Calendar.SeasonLength)

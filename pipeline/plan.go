@@ -27,6 +27,10 @@ type Plan struct {
 	Methods    []forecast.Method
 	Decomposer engines.Decomposer // nil with a season length below 2
 	Shard      Shard
+	// EventFiles are the files of the spec's event sources; Events is
+	// what they hold, once read (by Count or Run).
+	EventFiles []ingest.InputFile
+	Events     *ingest.Events
 
 	// Filled by Count, which reads and shapes the input (the plan command).
 	Counted bool
@@ -56,7 +60,11 @@ func Compile(s *spec.Spec, opts Options) (*Plan, error) {
 	if err != nil {
 		return nil, err
 	}
-	p := &Plan{Spec: s, Out: target, Inputs: files, Methods: methods, Decomposer: decomposer, Shard: opts.Shard,
+	events, err := ingest.ResolveEvents(s)
+	if err != nil {
+		return nil, err
+	}
+	p := &Plan{Spec: s, Out: target, Inputs: files, EventFiles: events, Methods: methods, Decomposer: decomposer, Shard: opts.Shard,
 		Cal: calendar.Calendar{Freq: s.Calendar.Frequency, Season: s.Calendar.SeasonLength}}
 	if opts.Shard.Count > 1 {
 		if err := runfolder.ValidateShard(opts.Shard.Index, opts.Shard.Count); err != nil {
@@ -68,11 +76,12 @@ func Compile(s *spec.Spec, opts Options) (*Plan, error) {
 	return p, nil
 }
 
-// inputs is the plan's inputs as the manifest records them.
+// inputs is the plan's inputs as the manifest records them: the data
+// files, then the event files.
 func (p *Plan) inputs() []runfolder.Input {
-	out := make([]runfolder.Input, len(p.Inputs))
-	for i, f := range p.Inputs {
-		out[i] = runfolder.Input{Path: f.Path, Format: f.Format, Size: f.Size, SHA256: f.SHA256, Rows: f.Rows, Abs: f.Abs}
+	out := make([]runfolder.Input, 0, len(p.Inputs)+len(p.EventFiles))
+	for _, f := range append(p.Inputs[:len(p.Inputs):len(p.Inputs)], p.EventFiles...) {
+		out = append(out, runfolder.Input{Path: f.Path, Format: f.Format, Size: f.Size, SHA256: f.SHA256, Rows: f.Rows, Abs: f.Abs})
 	}
 	return out
 }
@@ -89,7 +98,7 @@ func MakePlan(ctx context.Context, s *spec.Spec, opts Options) (*Plan, error) {
 // Count reads and shapes the input to count rows, series and periods. It
 // fits no method and writes nothing.
 func (p *Plan) Count(ctx context.Context, opts Options) error {
-	rs, src, err := openBatches(ctx, p.Spec, p.Inputs, p.Cal, opts)
+	rs, src, err := p.openBatches(ctx, opts)
 	if err != nil {
 		return err
 	}
@@ -146,8 +155,12 @@ func (p *Plan) Stages() []Stage {
 	}
 	read.More = append(read.More, fmt.Sprintf("columns: time %q, value %q, keys %s", s.Columns.Time, s.Columns.Value, listOrNone(s.Columns.Keys)))
 	out = append(out, read)
-	out = append(out, Stage{Name: "shape", Detail: fmt.Sprintf("%s periods, season length %d; rows in one period: %s; missing periods: %s; series end at the %s end",
-		s.Calendar.Frequency, s.Calendar.SeasonLength, s.Shaping.Combine, s.Shaping.Gaps, s.Shaping.End), More: p.Guards})
+	season := fmt.Sprintf("season length %d", s.Calendar.SeasonLength)
+	if len(s.Calendar.Seasons) > 1 {
+		season = "season lengths " + joinInts(s.Calendar.Seasons)
+	}
+	out = append(out, Stage{Name: "shape", Detail: fmt.Sprintf("%s periods, %s; rows in one period: %s; missing periods: %s; series end at the %s end",
+		s.Calendar.Frequency, season, s.Shaping.Combine, s.Shaping.Gaps, s.Shaping.End), More: p.Guards})
 	split := Stage{Name: "split", Detail: "series by key"}
 	if p.Counted {
 		split.Detail = fmt.Sprintf("%d series", p.Series)
@@ -159,6 +172,9 @@ func (p *Plan) Stages() []Stage {
 		}
 	}
 	out = append(out, split)
+	if len(s.Events) > 0 {
+		out = append(out, p.eventStage())
+	}
 	if p.Decomposer != nil {
 		out = append(out, Stage{Name: "decompose", Detail: strings.TrimSpace(s.Decomposition.Method + " " + optionList(s.Decomposition.Options)),
 			Tables: []string{runfolder.TableComponents, runfolder.TableSeasonalFactors}})
@@ -215,6 +231,43 @@ func (p *Plan) Stages() []Stage {
 		out = append(out, Stage{Name: "report", Detail: fmt.Sprintf("report.html: %d named series and up to %d picked", len(r.Series), r.Picks)})
 	}
 	return out
+}
+
+// eventStage describes the event sources: what each holds once read.
+func (p *Plan) eventStage() Stage {
+	s := p.Spec
+	st := Stage{Name: "events", Detail: fmt.Sprintf("%d source(s), %d file(s): closures → missing periods (forecast 0), drivers → regressors", len(s.Events), len(p.EventFiles))}
+	ev := p.Events
+	if ev != nil {
+		st.Detail = fmt.Sprintf("%d source(s): %d closure row(s), %d driver row(s); drivers: %s", len(s.Events), len(ev.Closures), len(ev.Drivers), listOrEmpty(ev.Names))
+	}
+	for i, src := range s.Events {
+		line := fmt.Sprintf("%s  (%s", src.Path, src.Kind)
+		if ev != nil {
+			info := ev.Sources[i]
+			line += fmt.Sprintf(", %d row(s)", info.Rows)
+			if src.Kind == spec.EventDriver {
+				line += ", drivers " + listOrEmpty(info.Drivers)
+				if info.KnownUntil != math.MinInt64 {
+					line += ", known until " + calendar.LabelDay(info.KnownUntil)
+				}
+			}
+			if info.Ignored > 0 {
+				line += fmt.Sprintf(", %d outside the data and horizon, ignored", info.Ignored)
+			}
+		} else if src.KnownUntil != "" {
+			line += ", known until " + src.KnownUntil
+		}
+		st.More = append(st.More, line+")")
+	}
+	return st
+}
+
+func listOrEmpty(xs []string) string {
+	if len(xs) == 0 {
+		return "(none)"
+	}
+	return strings.Join(xs, ", ")
 }
 
 // Print writes the plan for people.

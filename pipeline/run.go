@@ -17,7 +17,6 @@ import (
 
 	"github.com/apache/arrow-go/v18/arrow/memory"
 
-	"almanac/pipeline/calendar"
 	"almanac/pipeline/evaluate"
 	"almanac/pipeline/forecast"
 	"almanac/pipeline/ingest"
@@ -47,6 +46,20 @@ const MaxShards = runfolder.MaxShards
 // CheckSources checks that a spec's sources exist and name its columns,
 // reading headers and schemas only (see ingest.CheckSources).
 func CheckSources(s *spec.Spec) error { return ingest.CheckSources(s) }
+
+// CheckEvents reads and validates a spec's event sources row by row (see
+// ingest.ReadEvents); the checks against the data (key values, the
+// horizon) need a plan or a run. It returns nil, nil without events.
+func CheckEvents(ctx context.Context, s *spec.Spec) (*ingest.Events, error) {
+	if len(s.Events) == 0 {
+		return nil, nil
+	}
+	files, err := ingest.ResolveEvents(s)
+	if err != nil {
+		return nil, err
+	}
+	return ingest.ReadEvents(ctx, s, files)
+}
 
 // Progress receives the count of series written. Implementations must be
 // safe to call from the goroutine that runs the pipeline.
@@ -211,7 +224,7 @@ func (x *execution) logf(format string, args ...any) {
 // read reads the inputs and lays out the key-range batches.
 func (x *execution) read(ctx context.Context) error {
 	p := x.p
-	rs, src, err := openBatches(ctx, p.Spec, p.Inputs, p.Cal, x.opts)
+	rs, src, err := p.openBatches(ctx, x.opts)
 	if err != nil {
 		return err
 	}
@@ -428,13 +441,16 @@ func (x *execution) commit(man *Manifest) error {
 }
 
 // openBatches reads the inputs (spilling past the batch size), checks the
-// series limit and lays out the key-range batches that plan and run walk.
-func openBatches(ctx context.Context, s *spec.Spec, files []ingest.InputFile, cal calendar.Calendar, opts Options) (*ingest.Rows, *ingest.Batches[*series.Series], error) {
+// series limit, reads and checks the event sources (p.Events) and lays out
+// the key-range batches that plan and run walk; each batch's series get
+// their events as they are shaped.
+func (p *Plan) openBatches(ctx context.Context, opts Options) (*ingest.Rows, *ingest.Batches[*series.Series], error) {
+	s, cal := p.Spec, p.Cal
 	batchRows := opts.BatchRows
 	if batchRows <= 0 {
 		batchRows = DefaultBatchRows
 	}
-	rs, err := ingest.Read(ctx, s, files, cal, batchRows, opts.Shard)
+	rs, err := ingest.Read(ctx, s, p.Inputs, cal, batchRows, opts.Shard)
 	if err != nil {
 		return nil, nil, err
 	}
@@ -446,8 +462,27 @@ func openBatches(ctx context.Context, s *spec.Spec, files []ingest.InputFile, ca
 		rs.Close()
 		return nil, nil, fmt.Errorf("the input holds %d series; limits.max_series is %d (raise it in the spec if this is right)", n, s.Limits.MaxSeries)
 	}
+	var attach *series.Attacher
+	if len(s.Events) > 0 {
+		ev, err := ingest.ReadEvents(ctx, s, p.EventFiles)
+		if err == nil {
+			err = ev.Check(rs, s, cal)
+		}
+		if err != nil {
+			rs.Close()
+			return nil, nil, err
+		}
+		p.Events = ev
+		attach = series.NewAttacher(ev, cal, s.Horizon)
+	}
 	src, err := ingest.NewBatches(rs, batchRows, func(b *ingest.Rows) ([]*series.Series, error) {
-		return series.Shape(b, s.Shaping, s.Limits, cal, s.Columns.Keys)
+		out, err := series.Shape(b, s.Shaping, s.Limits, cal, s.Columns.Keys)
+		if err == nil && attach != nil {
+			for _, se := range out {
+				attach.Attach(se)
+			}
+		}
+		return out, err
 	})
 	if err != nil {
 		rs.Close()

@@ -197,6 +197,12 @@ func checkInputs(w io.Writer, m *runfolder.Manifest, specDir string) (int, error
 // sources match now and the files the run read.
 func checkSources(w io.Writer, s *spec.Spec, m *runfolder.Manifest) int {
 	files, err := ingest.ResolveSources(s)
+	if err == nil {
+		// The manifest lists the data files, then the event files.
+		var events []ingest.InputFile
+		events, err = ingest.ResolveEvents(s)
+		files = append(files, events...)
+	}
 	switch {
 	case err != nil:
 		fmt.Fprintf(w, "inputs   %v\n", err)

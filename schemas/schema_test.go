@@ -785,6 +785,17 @@ func schemaFacts(t *testing.T, s map[string]any, node map[string]any) (facts, er
 			continue
 		}
 		var ints, words []facts
+		var scalar []any
+		for _, b := range branches {
+			// A list branch (season_length: [7, 365]) is probed by
+			// TestSeasonLengthList; the facts are those of the scalars.
+			if bm, _ := b.(map[string]any); resolve(t, s, bm)["type"] != "array" {
+				scalar = append(scalar, b)
+			}
+		}
+		if len(scalar) == 1 && len(branches) == 2 {
+			return schemaFacts(t, s, resolve(t, s, scalar[0].(map[string]any)))
+		}
 		for _, b := range branches {
 			bm, _ := b.(map[string]any)
 			bf, err := schemaFacts(t, s, resolve(t, s, bm))
@@ -1275,6 +1286,27 @@ func TestSections(t *testing.T) {
 			}
 			p.compare(s, sl)
 		})
+	}
+}
+
+// TestSeasonLengthList checks that the decoder and the schema agree on
+// season_length written as a list of cycles.
+func TestSeasonLengthList(t *testing.T) {
+	p := &prober{t: t, sch: compileSchema(t)}
+	tmpl := specWith("calendar: {frequency: day, season_length: %s}")
+	accepted := 0
+	for _, v := range []string{"[7, 365]", "[365, 7]", "[2, 1000]", "[7, 30, 365]", "[7]", "[]", "[7, 7]", "[1, 7]",
+		"[0, 7]", "[7, 1001]", "[7, x]", "[7, 7.5]", "[7, [1]]", "[7, null]", "[7, true]"} {
+		d, sc, derr := p.wholeVerdicts(fmt.Sprintf(tmpl, v))
+		if d != sc {
+			t.Errorf("season_length = %s: decoder accepts %v (%v), schema accepts %v", v, d, derr, sc)
+		}
+		if d {
+			accepted++
+		}
+	}
+	if accepted != 4 {
+		t.Errorf("the decoder accepts %d of the lists; want the 4 valid ones", accepted)
 	}
 }
 

@@ -13,6 +13,7 @@ type canonicalSpec struct {
 	Version       int                 `json:"version"`
 	Name          string              `json:"name"`
 	Sources       []canonicalSource   `json:"sources"`
+	Events        []canonicalEvent    `json:"events,omitempty"`
 	Columns       canonicalColumns    `json:"columns"`
 	Calendar      canonicalCalendar   `json:"calendar"`
 	Shaping       canonicalShaping    `json:"shaping"`
@@ -85,9 +86,30 @@ type canonicalColumns struct {
 	Keys  []string `json:"keys"`
 }
 
+// canonicalCalendar: season_length is an int with one season (as it has
+// always been written) and the ascending list with several.
 type canonicalCalendar struct {
 	Frequency    string `json:"frequency"`
-	SeasonLength int    `json:"season_length"`
+	SeasonLength any    `json:"season_length"`
+}
+
+// canonicalEvent is one event source; specs without events have no events
+// key, so their canonical form and hash are what they always were.
+type canonicalEvent struct {
+	Path       string                `json:"path"`
+	Format     string                `json:"format"`
+	Delimiter  string                `json:"delimiter,omitempty"`
+	Kind       string                `json:"kind"`
+	Columns    canonicalEventColumns `json:"columns"`
+	KnownUntil string                `json:"known_until,omitempty"`
+}
+
+type canonicalEventColumns struct {
+	Date  string   `json:"date"`
+	Until string   `json:"until,omitempty"`
+	Name  string   `json:"name,omitempty"`
+	Value string   `json:"value,omitempty"`
+	Keys  []string `json:"keys"`
 }
 
 // canonicalShaping: the options added after the first release appear only
@@ -141,7 +163,7 @@ func (s *Spec) Canonical() []byte {
 		Columns: canonicalColumns{Time: s.Columns.Time, Value: s.Columns.Value, Keys: s.Columns.Keys},
 		Calendar: canonicalCalendar{
 			Frequency:    string(s.Calendar.Frequency),
-			SeasonLength: s.Calendar.SeasonLength,
+			SeasonLength: canonicalSeasons(s.Calendar),
 		},
 		Shaping: canonicalShaping{Combine: string(s.Shaping.Combine), Gaps: string(s.Shaping.Gaps), End: string(s.Shaping.End),
 			Until:       s.Shaping.Until,
@@ -181,6 +203,12 @@ func (s *Spec) Canonical() []byte {
 	for _, src := range s.Sources {
 		c.Sources = append(c.Sources, canonicalSource{Path: src.Path, Format: string(src.Format), Delimiter: src.Delimiter})
 	}
+	for _, ev := range s.Events {
+		c.Events = append(c.Events, canonicalEvent{Path: ev.Path, Format: string(ev.Format), Delimiter: ev.Delimiter, Kind: string(ev.Kind),
+			Columns: canonicalEventColumns{Date: ev.Columns.Date, Until: ev.Columns.Until, Name: ev.Columns.Name, Value: ev.Columns.Value,
+				Keys: append([]string{}, ev.Columns.Keys...)},
+			KnownUntil: ev.KnownUntil})
+	}
 	for _, m := range s.Methods {
 		opts := m.Options
 		if opts == nil {
@@ -193,6 +221,13 @@ func (s *Spec) Canonical() []byte {
 		panic("spec: canonical form: " + err.Error())
 	}
 	return b
+}
+
+func canonicalSeasons(c Calendar) any {
+	if len(c.Seasons) > 1 {
+		return c.Seasons
+	}
+	return c.SeasonLength
 }
 
 // Hash returns the hex SHA-256 of the canonical form.

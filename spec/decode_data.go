@@ -39,21 +39,7 @@ func (d *decoder) sources(n *yaml.Node, path string) []Source {
 					formatGiven = true
 					d.enum(n, p, "format", Formats, (*string)(&src.Format))
 				}},
-				{"delimiter", false, func(n *yaml.Node, p string) {
-					sn, ok := d.scalar(n, p, "a one-character CSV delimiter")
-					if !ok {
-						return
-					}
-					s := sn.Value // not trimmed: a tab or a space is a delimiter
-					if s == "\\t" || s == "tab" {
-						s = "\t"
-					}
-					if len([]rune(s)) != 1 || s == "\"" || s == "\n" || s == "\r" {
-						d.errAt(sn, p, "delimiter must be one character other than a quote or newline, found %q", s)
-						return
-					}
-					src.Delimiter = s
-				}},
+				{"delimiter", false, func(n *yaml.Node, p string) { d.delimiter(n, p, &src.Delimiter) }},
 			})
 		}
 		if src.Path == "" {
@@ -190,10 +176,7 @@ func (d *decoder) calendar(n *yaml.Node, path string, c *Calendar) (seasonNode *
 		}},
 		{"season_length", false, func(n *yaml.Node, p string) {
 			seasonNode = n
-			if d.integer(n, p, "the season length (periods per season)", &c.SeasonLength) && (c.SeasonLength < 1 || c.SeasonLength > 1000) {
-				d.errAt(n, p, "season_length must be between 1 and 1000, found %d", c.SeasonLength)
-				c.SeasonLength = 0
-			}
+			d.seasonLength(n, p, c)
 		}},
 	})
 	return seasonNode

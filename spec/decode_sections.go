@@ -37,6 +37,7 @@ func (d *decoder) spec(root *yaml.Node) *Spec {
 		{"calendar", true, func(n *yaml.Node, p string) {
 			sn.seasonNode = d.calendar(n, p, &s.Calendar)
 		}},
+		{"events", false, func(n *yaml.Node, p string) { s.Events, sn.eventNodes = d.events(n, p) }},
 		{"shaping", false, func(n *yaml.Node, p string) { d.shaping(n, p, &s.Shaping) }},
 		{"problems", false, func(n *yaml.Node, p string) {
 			d.mapping(n, p, "problems", []field{
@@ -86,6 +87,7 @@ func (d *decoder) spec(root *yaml.Node) *Spec {
 	d.checkLabels(s, sn)
 	d.checkBacktestNeeds(s, sn)
 	d.checkSeasonLength(s, sn)
+	d.checkEvents(s, sn.eventNodes)
 	return s
 }
 
@@ -95,7 +97,7 @@ type specNodes struct {
 	backtestNode, selectionNode, intervalsNode *yaml.Node
 	totalsNode                                 *yaml.Node
 	decompNode, seasonNode                     *yaml.Node
-	methodNodes                                []*yaml.Node
+	methodNodes, eventNodes                    []*yaml.Node
 	haveDecomp, haveMethods                    bool
 }
 

@@ -16,6 +16,7 @@ type Spec struct {
 	Version       int
 	Name          string
 	Sources       []Source
+	Events        []EventSource // known events: closures and drivers (none: nil)
 	Columns       Columns
 	Calendar      Calendar
 	Shaping       Shaping

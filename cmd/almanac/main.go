@@ -290,7 +290,18 @@ func checkCmd(c *cli.Context) error {
 			bad++
 			continue
 		}
+		ev, err := pipeline.CheckEvents(c.Context, s)
+		if err != nil {
+			fmt.Fprintln(c.App.ErrWriter, err)
+			fmt.Fprintf(c.App.ErrWriter, "%s: the event sources are not valid\n", path)
+			bad++
+			continue
+		}
 		fmt.Fprintf(c.App.Writer, "%s: ok (%s, %d method(s), sha256 %s; inputs name its columns)\n", path, s.Name, len(s.Methods), s.Hash()[:16])
+		if ev != nil {
+			fmt.Fprintf(c.App.Writer, "%s: events: %d closure row(s), %d driver row(s), drivers %s (key values and the horizon are checked by plan and run)\n",
+				path, len(ev.Closures), len(ev.Drivers), strings.Join(ev.Names, ", "))
+		}
 	}
 	if bad > 0 {
 		return &exitError{exitSpec, nil}

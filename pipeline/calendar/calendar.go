@@ -393,3 +393,35 @@ func isoWeek(days int64) (int64, int64) {
 	}
 	return y, 1
 }
+
+// Days is the number of days in period p.
+func (c Calendar) Days(p int64) int64 { return c.EndDays(p) - c.StartDays(p) + 1 }
+
+// Covered returns the first and last periods that lie entirely within the
+// days first … last (inclusive); lo > hi when no period does. A closure
+// closes exactly these periods.
+func (c Calendar) Covered(first, last int64) (lo, hi int64) {
+	lo, hi = c.FromDays(first), c.FromDays(last)
+	if c.StartDays(lo) < first {
+		lo++
+	}
+	if c.EndDays(hi) > last {
+		hi--
+	}
+	return lo, hi
+}
+
+// Shares calls f, in period order, for each period the days first … last
+// (inclusive) touch, with the share of that period's days they cover: 1
+// for a period covered entirely, 2/7 for two days of a week. A driver's
+// value in a period is the sum of its day values over the period's days,
+// so a constant value v over the days contributes v × share.
+func (c Calendar) Shares(first, last int64, f func(p int64, share float64)) {
+	if first > last {
+		return
+	}
+	for p := c.FromDays(first); p <= c.FromDays(last); p++ {
+		lo, hi := max(first, c.StartDays(p)), min(last, c.EndDays(p))
+		f(p, float64(hi-lo+1)/float64(c.Days(p)))
+	}
+}

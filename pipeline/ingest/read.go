@@ -68,6 +68,9 @@ type Rows struct {
 	Times *TimeStats
 	// keyRule is shaping.key_variants, applied to key values as read.
 	keyRule spec.KeyVariants
+	// keyValues, when the spec's events name key columns, holds every
+	// value of each key column seen, in any shard (Events.Check).
+	keyValues []map[string]bool
 }
 
 func newRows() *Rows {
@@ -84,6 +87,9 @@ func (r *Rows) internKey(parts []string) int32 {
 	}
 	if id, ok := r.keyIndex[string(r.keyBuf)]; ok {
 		return id
+	}
+	if r.keyValues != nil {
+		r.noteKeyValues(parts)
 	}
 	if r.shardCount > 1 && int(ShardOf(r.keyBuf, r.shardCount)) != r.shardIndex {
 		return -1
@@ -160,31 +166,47 @@ const MaxDataErrors = 20
 // ResolveSources expands every source's path or glob, relative to the spec's
 // folder, into files in sorted order.
 func ResolveSources(s *spec.Spec) ([]InputFile, error) {
+	pats := make([]pattern, len(s.Sources))
+	for i, src := range s.Sources {
+		pats[i] = pattern{src.Path, src.Format}
+	}
+	return resolveFiles(s, "sources", pats)
+}
+
+// pattern is a source's path or glob and its format.
+type pattern struct {
+	path   string
+	format spec.Format
+}
+
+// resolveFiles expands each path or glob of the spec's list what (sources,
+// events), relative to the spec's folder, into files in sorted order.
+func resolveFiles(s *spec.Spec, what string, pats []pattern) ([]InputFile, error) {
 	var out []InputFile
 	seen := map[string]bool{}
-	for i, src := range s.Sources {
-		pattern := src.Path
-		if !filepath.IsAbs(pattern) {
-			pattern = filepath.Join(s.Dir, pattern)
+	for i, src := range pats {
+		glob := src.path
+		if !filepath.IsAbs(glob) {
+			glob = filepath.Join(s.Dir, glob)
 		}
-		matches, err := filepath.Glob(pattern)
+		matches, err := filepath.Glob(glob)
 		if err != nil {
-			return nil, fmt.Errorf("%s: sources[%d]: bad glob %q: %v", s.File, i, src.Path, err)
+			return nil, fmt.Errorf("%s: %s[%d]: bad glob %q: %v", s.File, what, i, src.path, err)
 		}
 		if len(matches) == 0 {
-			if hasMeta(src.Path) {
-				return nil, fmt.Errorf("%s: sources[%d]: the pattern %q matches no files (looked in %s)", s.File, i, src.Path, filepath.Dir(pattern))
+			if hasMeta(src.path) {
+				return nil, fmt.Errorf("%s: %s[%d]: the pattern %q matches no files (looked in %s)", s.File, what, i, src.path, filepath.Dir(glob))
 			}
-			return nil, fmt.Errorf("%s: sources[%d]: source file %q does not exist (looked for %s)", s.File, i, src.Path, pattern)
+			return nil, fmt.Errorf("%s: %s[%d]: source file %q does not exist (looked for %s)", s.File, what, i, src.path, glob)
 		}
 		sort.Strings(matches)
 		for _, m := range matches {
 			st, err := os.Stat(m)
 			if err != nil {
-				return nil, fmt.Errorf("%s: sources[%d]: %v", s.File, i, err)
+				return nil, fmt.Errorf("%s: %s[%d]: %v", s.File, what, i, err)
 			}
 			if st.IsDir() {
-				return nil, fmt.Errorf("%s: sources[%d]: %q matches the folder %s; sources must be files (use a pattern such as %s)", s.File, i, src.Path, relTo(s.Dir, m), filepath.Join(src.Path, "*."+string(src.Format)))
+				return nil, fmt.Errorf("%s: %s[%d]: %q matches the folder %s; sources must be files (use a pattern such as %s)", s.File, what, i, src.path, relTo(s.Dir, m), filepath.Join(src.path, "*."+string(src.format)))
 			}
 			if seen[m] {
 				continue
@@ -194,12 +216,12 @@ func ResolveSources(s *spec.Spec) ([]InputFile, error) {
 			// to it (even above it, ../data/x.csv), so a copied project
 			// verifies against its own inputs and keeps its run id.
 			rel := relTo(s.Dir, m)
-			if !filepath.IsAbs(src.Path) {
+			if !filepath.IsAbs(src.path) {
 				if r, err := filepath.Rel(s.Dir, m); err == nil {
 					rel = filepath.ToSlash(r)
 				}
 			}
-			out = append(out, InputFile{Path: rel, Format: string(src.Format), Size: st.Size(), Abs: m, Source: i})
+			out = append(out, InputFile{Path: rel, Format: string(src.format), Size: st.Size(), Abs: m, Source: i})
 		}
 	}
 	return out, nil
@@ -222,6 +244,12 @@ func Read(ctx context.Context, s *spec.Spec, files []InputFile, cal calendar.Cal
 	rs.batchRows = batchRows
 	rs.Times = newTimeStats(s.Shaping.Until)
 	rs.keyRule = s.Shaping.KeyVariants
+	if eventsUseKeys(s) {
+		rs.keyValues = make([]map[string]bool, len(s.Columns.Keys))
+		for i := range rs.keyValues {
+			rs.keyValues[i] = map[string]bool{}
+		}
+	}
 	if len(shard) > 0 {
 		rs.shardIndex, rs.shardCount = shard[0].Index, shard[0].Count
 	}

@@ -31,6 +31,8 @@ const (
 	CodeMethodWarning     = "method_warning"
 	CodeCombinationFailed = "combination_failed"
 	CodeBacktestShort     = "backtest_short"
+	CodeClosedPeriod      = "closed_period"
+	CodePartialClosure    = "partial_closure"
 )
 
 // WriteProblem appends p to the problems table t.
