@@ -154,7 +154,7 @@ func (e *Evaluation) Backtest(w *forecast.Work, s *series.Series) *Backtest {
 		return r
 	}
 	for _, mr := range w.Methods {
-		r.entries = append(r.entries, e.backtestMethod(w, mr, y, folds))
+		r.entries = append(r.entries, e.backtestMethod(w, mr, s, folds))
 	}
 	for i := range r.entries {
 		e.scoreEntry(&r.entries[i])
@@ -232,16 +232,21 @@ func (e *Evaluation) combinationAlways() bool {
 }
 
 // backtestMethod runs one method on every fold of y.
-func (e *Evaluation) backtestMethod(w *forecast.Work, mr forecast.Method, y []float64, folds []fold) entryBacktest {
+// Closed periods are missing values (NaN) in y, so a test window's closed
+// periods are never scored: engines.PointScores skips NaN actuals.
+func (e *Evaluation) backtestMethod(w *forecast.Work, mr forecast.Method, s *series.Series, folds []fold) entryBacktest {
 	m := w.Spec.Calendar.SeasonLength
+	seasons := w.Spec.Calendar.AllSeasons()
+	y := s.Values
 	method := mr.Engine
 	eb := entryBacktest{label: mr.Spec.Label}
 	for _, f := range folds {
-		// The full slice expression caps the capacity: a method cannot
-		// reach past the origin by reslicing its input.
+		// SafeForecastSeries caps the training slice's capacity: a method
+		// cannot reach past the origin by reslicing its input. Drivers
+		// reach to the end of the fold's horizon (known in advance).
 		train := y[f.TrainStart:f.TrainEnd:f.TrainEnd]
 		test := y[f.TrainEnd:f.TestEnd]
-		res, err := forecast.SafeForecast(method, train, m, e.bt.Horizon, false)
+		res, err := forecast.SafeForecastSeries(method, s, seasons, f.TrainStart, f.TrainEnd, e.bt.Horizon, false)
 		if err != nil {
 			eb.folds = append(eb.folds, foldScore{fold: f, failed: true})
 			if eb.reason == "" {
