@@ -170,6 +170,13 @@ var catalog = map[string]methodDef{
 				Doc: "allow a constant (the mean when no differencing, a drift with one difference; never with two or more)"},
 		},
 	},
+	"regression_arima": {
+		Doc: "regression on the drivers of the event sources and on Fourier terms of cycles longer than 24 periods, with ARIMA errors chosen automatically (dynamic regression); without drivers or long cycles the automatic ARIMA",
+		Options: map[string]optionDef{
+			"harmonics": {Kind: kindInt, Min: 1, Max: 50,
+				Doc: "sine–cosine pairs per long cycle (at most half the cycle length); default chosen per series, 1 to 10, by the AICc of a least-squares fit"},
+		},
+	},
 	"croston": {
 		Doc:     "Croston's method for intermittent demand: smoothed size ÷ smoothed interval",
 		Options: map[string]optionDef{"alpha": smoothingAlpha},

@@ -25,6 +25,7 @@ $PY theta/make_theta.py           # theta/*.json (reads data/*.json)
 Rscript arima/make_arima.R        # arima/fits.json, arima/strength.json (stats::arima, decompose)
 $PY arima/make_kpss.py            # arima/kpss.json (statsmodels kpss)
 Rscript regarima/make_regarima.R  # regarima/fits.json (stats::arima(xreg =), predict(newxreg =))
+Rscript regarima/make_method.R    # regarima/method.json (the regression_arima method's chosen forms in R)
 Rscript mstl/make_mstl.R          # mstl/fits.json (the MSTL loop around stats::stl)
 Rscript seasonal_auto/make_auto.R # seasonal_auto/ftest.json (stats::decompose, lm, anova, qf)
 
