@@ -21,6 +21,21 @@ import (
 // allowed (see there: exact maximum likelihood, missing values — closed
 // periods — skipped by the Kalman filter).
 //
+// Missing values. With gaps (at most a third of the values missing) the
+// orders and first estimates come from the series with its gaps filled by
+// SeasonalInterpolate, where the filter's fast recursions apply (a
+// complete series); the form is then refitted by exact maximum likelihood
+// over the observed values alone when that costs about a second at most
+// (see regressionARIMAExactWork: monthly and weekly series), else the
+// filled series' estimates are kept and the model is built by the exact
+// filter over the observed values — the forecast state, σ², the reported
+// likelihood and the in-sample values never see a filled value — and the
+// model column says "estimated with the missing periods filled". On a
+// three-year daily series with six closed days that costs 0.16 in
+// log-likelihood against the exact optimum and moves the driver
+// coefficients by less than 0.1%, for 0.4 s instead of 6–15 s. With more
+// than a third missing the exact search runs on the series itself.
+//
 // Seasons. The shortest season length m (the calendar's primary season,
 // the season passed to Fit) is the ARIMA model's seasonal period when
 // 2 ≤ m ≤ FourierAbove (24); every longer season length of the context
@@ -189,7 +204,13 @@ func (r RegressionARIMA) FitContext(y []float64, season int, c Context) (Fitted,
 	}
 	opt := AutoRegressionARIMAOptions()
 	opt.Names = names
-	fit, err := FitRegressionARIMA(y, cols, f.arimaM, opt)
+	var fit *RegressionARIMAFit
+	var err error
+	if missing := n - nobs; missing > 0 && 3*missing <= n {
+		fit, err = f.fitWithGaps(y, cols, seasons, f.arimaM, opt)
+	} else {
+		fit, err = FitRegressionARIMA(y, cols, f.arimaM, opt)
+	}
 	if err != nil {
 		return nil, fmt.Errorf("regression_arima: %w", trimRegPrefix(err))
 	}
@@ -400,3 +421,58 @@ func (f *RegressionARIMAFitted) Coefficients() []Param {
 
 // Regression returns the underlying fit.
 func (f *RegressionARIMAFitted) Regression() *RegressionARIMAFit { return f.fit }
+
+// regressionARIMAExactWork bounds the exact refit over gaps, in units of
+// n·(r+L)²·k²: one pass of the Kalman filter over the levels costs about
+// 4 ns per n·(r+L)² (r the ARMA state, L = d + mD the differencing lags it
+// carries) and BFGS with numerical gradients takes about 15·k² passes for
+// k coefficients (measured: 2,234 passes for k = 12). 16 million units
+// keep a refit near 1 s. A monthly series of 15 years with seasonal errors
+// and one driver (n = 180, r + L = 38, k = 5) is 6.5 million; a three-year
+// daily series with weekly seasonal errors, three drivers and a yearly
+// Fourier pair (n = 1095, r + L = 23, k = 12) is 83 million, whose exact
+// refit took 6–15 s.
+const regressionARIMAExactWork = 16_000_000
+
+// fitWithGaps fits y, which has missing values, in two steps: the orders
+// and estimates on y with its gaps filled by SeasonalInterpolate (the
+// complete series takes the fast Chandrasekhar filter), then either the
+// exact maximum-likelihood refit of that form over the observed values
+// alone, when its work n·(r+L)² is at most regressionARIMAExactWork, or
+// the filled series' estimates kept and the model built by the exact
+// filter over the observed values (forecast state, σ², likelihood and
+// in-sample values never see a filled value). The second case is
+// recorded in the notes.
+func (f *RegressionARIMAFitted) fitWithGaps(y []float64, x [][]float64, seasons []int, m int, opt RegressionARIMAOptions) (*RegressionARIMAFit, error) {
+	filled, _, err := SeasonalInterpolate(y, seasons)
+	if err != nil {
+		return nil, err
+	}
+	first, err := FitRegressionARIMA(filled, x, m, opt)
+	if err != nil {
+		return nil, err
+	}
+	o := first.errs.o
+	ns := max(o.p+o.m*o.sp, o.q+o.m*o.sq+1) + o.lost()
+	k := o.nCoef() + len(x)
+	if len(y)*ns*ns*k*k <= regressionARIMAExactWork {
+		exact, err := fitRegressionOrders(y, x, o, nil, arimaTolSearch, opt.Names)
+		if err == nil {
+			exact.auto = true
+			exact.warn = append(append([]string(nil), first.warn...), exact.warn...)
+			return exact, nil
+		}
+	}
+	rp, err := newRegProblem(y, x, o, opt.Names)
+	if err != nil {
+		return nil, err
+	}
+	fit, err := rp.build(first.errs.coef, first.beta, opt.Names)
+	if err != nil {
+		return nil, err
+	}
+	fit.auto = true
+	fit.warn = append([]string(nil), first.warn...)
+	f.notes = append(f.notes, "estimated with the missing periods filled")
+	return fit, nil
+}

@@ -136,17 +136,24 @@ func must[T any](v T, err error) T {
 }
 
 // BenchmarkRegressionARIMADaily: one fit + 14-step forecast of a 3-year
-// daily series (1095 values, seasons 7 and 365, 3 drivers, six closed
-// days).
+// daily series (1095 values, seasons 7 and 365, 3 drivers), with six
+// closed days (the two-step fit over gaps) and without.
 func BenchmarkRegressionARIMADaily(b *testing.B) {
-	n, h := 1095, 14
-	y, x, names := regDaily(n, h, []int{100, 101, 459, 460, 824, 825})
-	c := Context{Seasons: []int{7, 365}, Drivers: x, DriverNames: names, H: h}
-	for b.Loop() {
-		f, err := RegressionARIMA{}.FitContext(y, 7, c)
-		if err != nil {
-			b.Fatal(err)
-		}
-		f.Forecast(h)
+	for _, bc := range []struct {
+		name   string
+		closed []int
+	}{{"closed6", []int{100, 101, 459, 460, 824, 825}}, {"complete", nil}} {
+		b.Run(bc.name, func(b *testing.B) {
+			n, h := 1095, 14
+			y, x, names := regDaily(n, h, bc.closed)
+			c := Context{Seasons: []int{7, 365}, Drivers: x, DriverNames: names, H: h}
+			esLoop(b, func() {
+				f, err := RegressionARIMA{}.FitContext(y, 7, c)
+				if err != nil {
+					b.Fatal(err)
+				}
+				f.Forecast(h)
+			})
+		})
 	}
 }

@@ -45,7 +45,7 @@ cases <- list(
   list(name = "seatbelts_drivers_law_fourier12", y = sbcol("drivers"), drivers = cbind(law = sbcol("law")),
        seasons = c(12), fourier_above = 11, K = 5, order = c(1, 1, 1), seasonal = c(0, 0, 0), period = 1, mean = FALSE, hold = 12),
   list(name = "seatbelts_drivers_law_missing", y = sbcol("drivers"), missing = c(15, 60, 61, 150, 171), drivers = cbind(law = sbcol("law")),
-       seasons = c(12), fourier_above = 24, K = 0, order = c(2, 0, 0), seasonal = c(0, 1, 1), period = 12, mean = FALSE, hold = 12)
+       seasons = c(12), fourier_above = 24, K = 0, order = c(1, 0, 1), seasonal = c(0, 1, 2), period = 12, mean = FALSE, hold = 12)
 )
 
 ctl <- list(reltol = 1e-12, maxit = 5000)
