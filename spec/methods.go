@@ -177,6 +177,17 @@ var catalog = map[string]methodDef{
 				Doc: "sine–cosine pairs per long cycle (at most half the cycle length); default chosen per series, 1 to 10, by the AICc of a least-squares fit"},
 		},
 	},
+	"uplift": {
+		Doc: "a multiplicative uplift per driver of the event sources (sales in its periods ÷ the same season positions without drivers), laid on a simple seasonal baseline fitted to the history with the uplifts divided out; for short series",
+		Options: map[string]optionDef{
+			"base": {Kind: kindEnum, Allowed: []string{"stl", "seasonal_naive", "ses"}, Default: "stl",
+				Doc: "the baseline: stl (periodic STL, the adjusted series by SES), seasonal_naive, or ses; without a season ses"},
+		},
+	},
+	"mstl": {
+		Doc:      "MSTL decomposition over every season length of the calendar; the seasonally adjusted series forecast by a damped trend, each seasonal component's last cycle carried forward",
+		Seasonal: true,
+	},
 	"croston": {
 		Doc:     "Croston's method for intermittent demand: smoothed size ÷ smoothed interval",
 		Options: map[string]optionDef{"alpha": smoothingAlpha},
