@@ -92,7 +92,7 @@ func TestMSTLMethodGapsAndShort(t *testing.T) {
 	fc := f.Forecast(14)
 	for i := 0; i < 7; i++ {
 		// the weekly pattern repeats, on a damped (nearly flat) trend
-		if math.Abs((fc[i+7]-fc[i])) > 1 {
+		if math.Abs((fc[i+7] - fc[i])) > 1 {
 			t.Errorf("steps %d and %d: %v, %v", i+1, i+8, fc[i], fc[i+7])
 		}
 	}
