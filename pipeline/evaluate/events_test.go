@@ -230,3 +230,76 @@ func TestContextSeasons(t *testing.T) {
 		t.Error("a driver shorter than the horizon was accepted")
 	}
 }
+
+// TestBacktestDriverMethods: through the real backtest, on an invented
+// daily series (labelled invented: weekday pattern, a +60% promotion on
+// some days, closed days), the driver-aware methods score better than
+// seasonal_naive, which cannot know the promotions, and no closed day is
+// scored.
+func TestBacktestDriverMethods(t *testing.T) {
+	src := `version: 1
+name: events
+sources: [data/sales.csv]
+columns: {time: day, value: qty, keys: [store]}
+calendar: {frequency: day}
+methods: [seasonal_naive, regression_arima, {method: uplift, base: seasonal_naive}]
+horizon: 14
+backtest: {folds: 3, horizon: 14, step: 14}
+`
+	p := filepath.Join(t.TempDir(), "spec.yaml")
+	if err := os.WriteFile(p, []byte(src), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	s, err := spec.Load(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	methods, _, err := forecast.Compile(s)
+	if err != nil {
+		t.Fatal(err)
+	}
+	n, h := 210, s.Horizon
+	week := []float64{0.8, 0.9, 1, 1, 1.1, 1.5, 0.7}
+	promo := make([]float64, n+h)
+	for i := range promo {
+		if i%11 == 3 || i%17 == 8 {
+			promo[i] = 1
+		}
+	}
+	y := make([]float64, n)
+	closed := make([]bool, n)
+	for i := range y {
+		y[i] = 200 * week[i%7] * (1 + 0.6*promo[i]) * (1 + 0.03*math.Sin(1.7*float64(i)))
+	}
+	for _, i := range []int{170, 171, 190, 203} {
+		y[i], closed[i] = math.NaN(), true
+	}
+	se := &series.Series{Key: []string{"s1"}, Values: y, Closed: closed, FutureClosed: make([]bool, h),
+		Drivers: []series.Driver{{Name: "promo", Values: promo}}}
+	work := &forecast.Work{Spec: s, Methods: methods}
+	r := New(s, 1).Backtest(work, se)
+	mase := map[string]float64{}
+	for _, eb := range r.entries {
+		if eb.reason != "" {
+			t.Fatalf("%s: %s", eb.label, eb.reason)
+		}
+		mase[eb.label] = eb.mase
+		for _, f := range eb.folds {
+			open := 0
+			for i := f.fold.TrainEnd; i < f.fold.TestEnd; i++ {
+				if !closed[i] {
+					open++
+				}
+			}
+			if f.scores.N != open {
+				t.Errorf("%s fold %d: %d scored, %d open days", eb.label, f.fold.Index, f.scores.N, open)
+			}
+		}
+	}
+	t.Logf("mean MASE %v", mase)
+	for _, l := range []string{"regression_arima", "uplift"} {
+		if !(mase[l] < 0.6*mase["seasonal_naive"]) {
+			t.Errorf("%s MASE %.3f, seasonal_naive %.3f: the drivers did not help", l, mase[l], mase["seasonal_naive"])
+		}
+	}
+}
