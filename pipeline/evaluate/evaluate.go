@@ -92,6 +92,9 @@ type foldScore struct {
 	fc     []float64
 	scores engines.Scores
 	failed bool
+	// noActuals: every actual of the test window is missing (closed
+	// periods, gaps), so no entry can be scored on this fold.
+	noActuals bool
 }
 
 // Backtest is pass 1's output for one series.
@@ -255,7 +258,7 @@ func (e *Evaluation) backtestMethod(w *forecast.Work, mr forecast.Method, s *ser
 			continue
 		}
 		sc, _ := engines.PointScores(test, res.Values[:len(test)], train, m)
-		eb.folds = append(eb.folds, foldScore{fold: f, fc: res.Values, scores: sc})
+		eb.folds = append(eb.folds, foldScore{fold: f, fc: res.Values, scores: sc, noActuals: forecast.AllMissing(test)})
 	}
 	return eb
 }
@@ -269,8 +272,15 @@ func (e *Evaluation) scoreEntry(eb *entryBacktest) {
 		return
 	}
 	var sum, msum float64
-	mn := 0
+	mn, scored := 0, 0
 	for _, f := range eb.folds {
+		if f.noActuals {
+			// Every actual of the test window is missing (closed, or a
+			// gap): nothing to score, for any entry; the fold is left
+			// out of the means rather than making the entry ineligible.
+			continue
+		}
+		scored++
 		v := metricOf(f.scores, e.metric)
 		if math.IsNaN(v) || math.IsInf(v, 0) {
 			eb.reason = fmt.Sprintf("%s undefined on fold %d", e.metric, f.fold.Index)
@@ -282,8 +292,12 @@ func (e *Evaluation) scoreEntry(eb *entryBacktest) {
 			mn++
 		}
 	}
-	eb.score = sum / float64(len(eb.folds))
-	if mn == len(eb.folds) {
+	if scored == 0 {
+		eb.reason = "no observed value in any fold's test window"
+		return
+	}
+	eb.score = sum / float64(scored)
+	if mn == scored {
 		eb.mase = msum / float64(mn)
 	}
 }
@@ -334,7 +348,7 @@ func (e *Evaluation) combination(entries []entryBacktest, y []float64, m int, fo
 		train := y[f.TrainStart:f.TrainEnd:f.TrainEnd]
 		test := y[f.TrainEnd:f.TestEnd]
 		sc, _ := engines.PointScores(test, fc[:len(test)], train, m)
-		eb.folds = append(eb.folds, foldScore{fold: f, fc: fc, scores: sc})
+		eb.folds = append(eb.folds, foldScore{fold: f, fc: fc, scores: sc, noActuals: forecast.AllMissing(test)})
 	}
 	e.scoreEntry(&eb)
 	return eb

@@ -303,3 +303,27 @@ backtest: {folds: 3, horizon: 14, step: 14}
 		}
 	}
 }
+
+// A fold whose whole test window is closed scores nothing and is left out
+// of the means; the entry stays eligible on the other folds.
+func TestBacktestFoldAllClosed(t *testing.T) {
+	s := loadEventsSpec(t)
+	rec := &ctxRecorder{}
+	work := &forecast.Work{Spec: s, Methods: []forecast.Method{{Spec: s.Methods[0], Engine: rec}}}
+	se := eventSeries(s.Horizon)
+	for i := 46; i < 53; i++ { // the second fold's test window
+		se.Values[i], se.Closed[i] = math.NaN(), true
+	}
+	r := New(s, 1).Backtest(work, se)
+	eb := r.entries[0]
+	if eb.reason != "" || math.IsNaN(eb.score) {
+		t.Fatalf("entry ineligible: %q", eb.reason)
+	}
+	if f := eb.folds[1]; !f.noActuals || f.scores.N != 0 {
+		t.Errorf("closed fold: noActuals %v, N %d", f.noActuals, f.scores.N)
+	}
+	want := (metricOf(eb.folds[0].scores, s.Selection.Metric) + metricOf(eb.folds[2].scores, s.Selection.Metric)) / 2
+	if math.Abs(eb.score-want) > 1e-12 {
+		t.Errorf("score %v, want the mean of the two open folds %v", eb.score, want)
+	}
+}
