@@ -92,6 +92,9 @@ type foldScore struct {
 	fc     []float64
 	scores engines.Scores
 	failed bool
+	// noActuals: every actual of the test window is missing (closed
+	// periods, gaps), so no entry can be scored on this fold.
+	noActuals bool
 }
 
 // Backtest is pass 1's output for one series.
@@ -154,7 +157,7 @@ func (e *Evaluation) Backtest(w *forecast.Work, s *series.Series) *Backtest {
 		return r
 	}
 	for _, mr := range w.Methods {
-		r.entries = append(r.entries, e.backtestMethod(w, mr, y, folds))
+		r.entries = append(r.entries, e.backtestMethod(w, mr, s, folds))
 	}
 	for i := range r.entries {
 		e.scoreEntry(&r.entries[i])
@@ -232,16 +235,21 @@ func (e *Evaluation) combinationAlways() bool {
 }
 
 // backtestMethod runs one method on every fold of y.
-func (e *Evaluation) backtestMethod(w *forecast.Work, mr forecast.Method, y []float64, folds []fold) entryBacktest {
+// Closed periods are missing values (NaN) in y, so a test window's closed
+// periods are never scored: engines.PointScores skips NaN actuals.
+func (e *Evaluation) backtestMethod(w *forecast.Work, mr forecast.Method, s *series.Series, folds []fold) entryBacktest {
 	m := w.Spec.Calendar.SeasonLength
+	seasons := w.Spec.Calendar.AllSeasons()
+	y := s.Values
 	method := mr.Engine
 	eb := entryBacktest{label: mr.Spec.Label}
 	for _, f := range folds {
-		// The full slice expression caps the capacity: a method cannot
-		// reach past the origin by reslicing its input.
+		// SafeForecastSeries caps the training slice's capacity: a method
+		// cannot reach past the origin by reslicing its input. Drivers
+		// reach to the end of the fold's horizon (known in advance).
 		train := y[f.TrainStart:f.TrainEnd:f.TrainEnd]
 		test := y[f.TrainEnd:f.TestEnd]
-		res, err := forecast.SafeForecast(method, train, m, e.bt.Horizon, false)
+		res, err := forecast.SafeForecastSeries(method, s, seasons, f.TrainStart, f.TrainEnd, e.bt.Horizon, false)
 		if err != nil {
 			eb.folds = append(eb.folds, foldScore{fold: f, failed: true})
 			if eb.reason == "" {
@@ -250,7 +258,7 @@ func (e *Evaluation) backtestMethod(w *forecast.Work, mr forecast.Method, y []fl
 			continue
 		}
 		sc, _ := engines.PointScores(test, res.Values[:len(test)], train, m)
-		eb.folds = append(eb.folds, foldScore{fold: f, fc: res.Values, scores: sc})
+		eb.folds = append(eb.folds, foldScore{fold: f, fc: res.Values, scores: sc, noActuals: forecast.AllMissing(test)})
 	}
 	return eb
 }
@@ -264,8 +272,15 @@ func (e *Evaluation) scoreEntry(eb *entryBacktest) {
 		return
 	}
 	var sum, msum float64
-	mn := 0
+	mn, scored := 0, 0
 	for _, f := range eb.folds {
+		if f.noActuals {
+			// Every actual of the test window is missing (closed, or a
+			// gap): nothing to score, for any entry; the fold is left
+			// out of the means rather than making the entry ineligible.
+			continue
+		}
+		scored++
 		v := metricOf(f.scores, e.metric)
 		if math.IsNaN(v) || math.IsInf(v, 0) {
 			eb.reason = fmt.Sprintf("%s undefined on fold %d", e.metric, f.fold.Index)
@@ -277,8 +292,12 @@ func (e *Evaluation) scoreEntry(eb *entryBacktest) {
 			mn++
 		}
 	}
-	eb.score = sum / float64(len(eb.folds))
-	if mn == len(eb.folds) {
+	if scored == 0 {
+		eb.reason = "no observed value in any fold's test window"
+		return
+	}
+	eb.score = sum / float64(scored)
+	if mn == scored {
 		eb.mase = msum / float64(mn)
 	}
 }
@@ -329,7 +348,7 @@ func (e *Evaluation) combination(entries []entryBacktest, y []float64, m int, fo
 		train := y[f.TrainStart:f.TrainEnd:f.TrainEnd]
 		test := y[f.TrainEnd:f.TestEnd]
 		sc, _ := engines.PointScores(test, fc[:len(test)], train, m)
-		eb.folds = append(eb.folds, foldScore{fold: f, fc: fc, scores: sc})
+		eb.folds = append(eb.folds, foldScore{fold: f, fc: fc, scores: sc, noActuals: forecast.AllMissing(test)})
 	}
 	e.scoreEntry(&eb)
 	return eb

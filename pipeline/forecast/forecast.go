@@ -132,11 +132,12 @@ func (w *Work) Run(s *series.Series) *Result {
 	for _, mr := range w.Methods {
 		method := mr.Engine
 		label := mr.Spec.Label
-		res, err := SafeForecast(method, s.Values, m, h, w.WantVariance)
+		res, err := SafeForecastSeries(method, s, w.Spec.Calendar.AllSeasons(), 0, len(s.Values), h, w.WantVariance)
 		if err != nil {
 			add("forecast", "error", ErrorCode(err, runfolder.CodeMethodFailed), label, TrimName(err.Error(), mr.Spec.Method))
 			continue
 		}
+		CloseSteps(&res, s.FutureClosed)
 		for _, msg := range res.Warnings {
 			add("forecast", "warning", WarningCode(msg, runfolder.CodeMethodWarning), label, TrimName(msg, mr.Spec.Method))
 		}
