@@ -31,6 +31,7 @@ const (
 	CodeMethodWarning     = "method_warning"
 	CodeCombinationFailed = "combination_failed"
 	CodeBacktestShort     = "backtest_short"
+	CodeImputed           = "imputed"
 )
 
 // WriteProblem appends p to the problems table t.
