@@ -63,6 +63,19 @@ func TestRunSeveralSeasons(t *testing.T) {
 		t.Fatal(err)
 	}
 	s.Calendar.Seasons = []int{7, 28}
+	plan, err := pipeline.Compile(s, pipeline.Options{Out: filepath.Join(dir, "run")})
+	if err != nil {
+		t.Fatal(err)
+	}
+	detail := ""
+	for _, st := range plan.Stages() {
+		if st.Name == "decompose" {
+			detail = st.Detail
+		}
+	}
+	if detail != "mstl, season lengths 7, 28, multiplicative" {
+		t.Errorf("plan: decompose %q", detail)
+	}
 	sum, err := pipeline.Run(context.Background(), s, pipeline.Options{Out: filepath.Join(dir, "run"), Workers: 2})
 	if err != nil {
 		t.Fatal(err)
