@@ -6,6 +6,9 @@ import (
 	"testing"
 
 	"almanac/engines"
+	"almanac/pipeline/runfolder"
+	"almanac/pipeline/series"
+	"almanac/spec"
 )
 
 // pureSeasonal is an invented monthly series: a straight trend plus a
@@ -109,6 +112,50 @@ func TestSafeForecastFillsForSTL(t *testing.T) {
 		for k := range got.Values {
 			if d := math.Abs(got.Values[k] - want.Values[k]); d > 1e-6 || math.IsNaN(d) {
 				t.Errorf("%s step %d: %.8f with holes, %.8f complete", name, k+1, got.Values[k], want.Values[k])
+			}
+		}
+	}
+}
+
+// The decomposition stage with one season length: the spec's decomposer,
+// stl or classical, decomposes the filled history; the fill is a
+// decompose warning; remainder and adjusted stay missing at the holes,
+// and on a pure pattern the factors are the pattern's.
+func TestDecomposeFillsHoles(t *testing.T) {
+	y := withHoles(pureSeasonal(84), pureHoles)
+	pattern := []float64{-30, -22, -9, 0, 8, 15, 26, 31, 12, 0, -11, -20}
+	for _, name := range []string{"stl", "classical"} {
+		o := engines.Options{"form": "additive"}
+		if name == "stl" {
+			o = nil
+		}
+		sp := &spec.Spec{Horizon: 6}
+		sp.Calendar.SeasonLength = 12
+		w := &Work{Spec: sp, Decomposer: mustMethod(t, name, o).(engines.Decomposer)}
+		r := w.Run(&series.Series{Key: []string{"k"}, Values: y})
+		if r.Decomp == nil || r.Cycles != nil {
+			t.Fatalf("%s: no decomposition: %+v", name, r.Problems)
+		}
+		if len(r.Problems) != 1 || r.Problems[0].Code != runfolder.CodeImputed || r.Problems[0].Stage != "decompose" ||
+			r.Problems[0].Message != "8 of 84 values missing; filled by seasonal interpolation before decomposing (the method needs a complete series)" {
+			t.Errorf("%s: problems %+v", name, r.Problems)
+		}
+		for _, h := range pureHoles {
+			if !math.IsNaN(r.Decomp.Remainder[h]) || !math.IsNaN(r.Decomp.Adjusted[h]) || math.IsNaN(r.Decomp.Seasonal[h]) {
+				t.Errorf("%s: period %d: remainder %v, adjusted %v, seasonal %v", name, h, r.Decomp.Remainder[h], r.Decomp.Adjusted[h], r.Decomp.Seasonal[h])
+			}
+		}
+		// The fill is exact here, so the factors are those of the
+		// complete series: for classical the pattern itself; stl's
+		// differ from it by up to 0.53 (its loess lets some of the trend
+		// into the seasonal), on the complete series as on the filled.
+		whole, err := w.Decomposer.Decompose(pureSeasonal(84), 12)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for j, f := range r.Decomp.Factors {
+			if math.Abs(f-whole.Factors[j]) > 1e-9 || (name == "classical" && math.Abs(f-pattern[j]) > 1e-9) {
+				t.Errorf("%s: factor %d = %v; complete series %v, pattern %v", name, j, f, whole.Factors[j], pattern[j])
 			}
 		}
 	}
