@@ -44,11 +44,7 @@ func (w *Work) decompose(r *Result, add func(stage, severity, code, method, msg 
 	if seasons := w.Spec.Calendar.Seasons; len(seasons) > 1 {
 		d, r.Cycles, filled, how, err = decomposeSeveral(y, seasons, w.Spec.Decomposition)
 	} else {
-		var train []float64
-		train, filled, how, err = Impute(w.Decomposer, y, []int{w.Spec.Calendar.SeasonLength})
-		if err == nil {
-			d, err = safeDecompose(w.Decomposer, train, w.Spec.Calendar.SeasonLength)
-		}
+		d, filled, how, err = safeDecompose(w.Decomposer, y, w.Spec.Calendar.SeasonLength)
 	}
 	if err != nil {
 		r.Cycles = nil

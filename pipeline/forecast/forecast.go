@@ -147,13 +147,27 @@ func TrimName(msg, name string) string {
 	return strings.TrimPrefix(msg, name+": ")
 }
 
-func safeDecompose(d engines.Decomposer, y []float64, m int) (out *engines.Decomposition, err error) {
+// safeDecompose decomposes y with d, turning a panic into an error. When
+// that fails on a series with missing values and d needs a complete series
+// (see Impute), it decomposes the filled series instead: STL always, a
+// classical decomposition only when the gaps leave a season position
+// without a detrended value (it decomposes around them otherwise).
+func safeDecompose(d engines.Decomposer, y []float64, m int) (out *engines.Decomposition, filled int, how string, err error) {
 	defer func() {
 		if p := recover(); p != nil {
 			out, err = nil, panicError(p)
 		}
 	}()
-	return d.Decompose(y, m)
+	out, err = d.Decompose(y, m)
+	if err == nil {
+		return out, 0, "", nil
+	}
+	train, filled, how, ierr := Impute(d, y, []int{m})
+	if ierr != nil || filled == 0 {
+		return nil, 0, "", err
+	}
+	out, err = d.Decompose(train, m)
+	return out, filled, how, err
 }
 
 // Output is one method fitted on one stretch of history.

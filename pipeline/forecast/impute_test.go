@@ -117,20 +117,33 @@ func TestSafeForecastFillsForSTL(t *testing.T) {
 	}
 }
 
-// The decomposition stage with one season length: the spec's decomposer,
-// stl or classical, decomposes the filled history; the fill is a
-// decompose warning; remainder and adjusted stay missing at the holes,
-// and on a pure pattern the factors are the pattern's.
+// The decomposition stage with one season length: where the spec's
+// decomposer fails on the holes (stl always; classical here, where the
+// holes leave season position 5 without a detrended value) it decomposes
+// the filled history; the fill is a decompose warning; remainder and
+// adjusted stay missing at the holes, and on a pure pattern the factors
+// are the pattern's. Classical decomposes around a single hole unfilled.
 func TestDecomposeFillsHoles(t *testing.T) {
 	y := withHoles(pureSeasonal(84), pureHoles)
 	pattern := []float64{-30, -22, -9, 0, 8, 15, 26, 31, 12, 0, -11, -20}
+	sp := &spec.Spec{Horizon: 6}
+	sp.Calendar.SeasonLength = 12
+	classical := mustMethod(t, "classical", engines.Options{"form": "additive"}).(engines.Decomposer)
+	if _, err := classical.Decompose(y, 12); err == nil {
+		t.Fatal("classical decomposes these holes unfilled; the test would not reach the fill")
+	}
+	one := withHoles(pureSeasonal(84), []int{30})
+	r := (&Work{Spec: sp, Decomposer: classical}).Run(&series.Series{Key: []string{"k"}, Values: one})
+	// 72 periods have a centred average on 84 values; the hole takes 13
+	// (periods 24…36, two of them at position 0).
+	if r.Decomp == nil || len(r.Problems) != 0 || r.Decomp.Counts[0] != 4 || r.Decomp.Counts[1] != 5 || !math.IsNaN(r.Decomp.Trend[30]) {
+		t.Errorf("classical around one hole: problems %+v, counts %v", r.Problems, r.Decomp.Counts)
+	}
 	for _, name := range []string{"stl", "classical"} {
 		o := engines.Options{"form": "additive"}
 		if name == "stl" {
 			o = nil
 		}
-		sp := &spec.Spec{Horizon: 6}
-		sp.Calendar.SeasonLength = 12
 		w := &Work{Spec: sp, Decomposer: mustMethod(t, name, o).(engines.Decomposer)}
 		r := w.Run(&series.Series{Key: []string{"k"}, Values: y})
 		if r.Decomp == nil || r.Cycles != nil {
