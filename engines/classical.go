@@ -91,12 +91,13 @@ type Classical struct {
 }
 
 var (
-	_ Method     = (*Classical)(nil)
-	_ Decomposer = (*Classical)(nil)
-	_ Fitted     = (*classicalFit)(nil)
-	_ Described  = (*classicalFit)(nil)
-	_ Warner     = (*classicalFit)(nil)
-	_ Decomposed = (*classicalFit)(nil)
+	_ Method         = (*Classical)(nil)
+	_ CompleteNeeder = (*Classical)(nil)
+	_ Decomposer     = (*Classical)(nil)
+	_ Fitted         = (*classicalFit)(nil)
+	_ Described      = (*classicalFit)(nil)
+	_ Warner         = (*classicalFit)(nil)
+	_ Decomposed     = (*classicalFit)(nil)
 )
 
 type classicalForm uint8
@@ -197,6 +198,10 @@ func classicalPick[T ~uint8](what, v string, names []string) (T, error) {
 
 // Name returns "classical".
 func (c *Classical) Name() string { return "classical" }
+
+// NeedsComplete reports true: the pipeline fills gaps before fitting (see
+// CompleteNeeder).
+func (c *Classical) NeedsComplete() bool { return true }
 
 // Decompose returns the classical decomposition of y (see Classical).
 func (c *Classical) Decompose(y []float64, season int) (*Decomposition, error) {

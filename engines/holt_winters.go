@@ -69,7 +69,10 @@ type HoltWinters struct {
 	auto bool // seasonal: auto
 }
 
-var _ Method = (*HoltWinters)(nil)
+var (
+	_ Method         = (*HoltWinters)(nil)
+	_ CompleteNeeder = (*HoltWinters)(nil)
+)
 
 // HoltWinters' seasonal option values.
 const (
@@ -140,6 +143,10 @@ func NewHoltWinters(seasonal string, trend, damped bool) (*HoltWinters, error) {
 
 // Name returns "holt_winters".
 func (h *HoltWinters) Name() string { return "holt_winters" }
+
+// NeedsComplete reports true: the pipeline fills gaps before fitting (see
+// CompleteNeeder).
+func (h *HoltWinters) NeedsComplete() bool { return true }
 
 // Fit fits the form to y (see HoltWinters).
 func (h *HoltWinters) Fit(y []float64, season int) (Fitted, error) {

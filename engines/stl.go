@@ -159,11 +159,12 @@ type STL struct {
 }
 
 var (
-	_ Method     = (*STL)(nil)
-	_ Decomposer = (*STL)(nil)
-	_ Fitted     = (*stlFit)(nil)
-	_ Described  = (*stlFit)(nil)
-	_ Decomposed = (*stlFit)(nil)
+	_ Method         = (*STL)(nil)
+	_ CompleteNeeder = (*STL)(nil)
+	_ Decomposer     = (*STL)(nil)
+	_ Fitted         = (*stlFit)(nil)
+	_ Described      = (*stlFit)(nil)
+	_ Decomposed     = (*stlFit)(nil)
 )
 
 type stlAdjusted uint8
@@ -315,6 +316,10 @@ func stlDegree(o Options, name string, def int) (int, error) {
 
 // Name returns "stl".
 func (s *STL) Name() string { return "stl" }
+
+// NeedsComplete reports true: the pipeline fills gaps before fitting (see
+// CompleteNeeder).
+func (s *STL) NeedsComplete() bool { return true }
 
 // stlParams are the settings of one decomposition, resolved for a series.
 type stlParams struct {
