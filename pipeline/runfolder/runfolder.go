@@ -38,14 +38,50 @@ type CanonicalSpec struct {
 		Value string   `json:"value"`
 		Keys  []string `json:"keys"`
 	} `json:"columns"`
-	Calendar struct {
-		Frequency    string `json:"frequency"`
-		SeasonLength int    `json:"season_length"`
-	} `json:"calendar"`
-	Horizon   int `json:"horizon"`
+	Calendar  CanonicalCalendar `json:"calendar"`
+	Horizon   int               `json:"horizon"`
 	Intervals *struct {
 		Levels []int `json:"levels"`
 	} `json:"intervals"`
+}
+
+// CanonicalCalendar is the calendar of a canonical spec. Its
+// season_length is a number with one season and a list with several
+// (spec.Calendar.Seasons, ascending); SeasonLength is then the first, the
+// primary season single-season readers use, and Seasons holds them all.
+type CanonicalCalendar struct {
+	Frequency    string
+	SeasonLength int
+	Seasons      []int
+}
+
+// UnmarshalJSON reads season_length as a number or a list of numbers.
+func (c *CanonicalCalendar) UnmarshalJSON(b []byte) error {
+	var raw struct {
+		Frequency    string          `json:"frequency"`
+		SeasonLength json.RawMessage `json:"season_length"`
+	}
+	if err := json.Unmarshal(b, &raw); err != nil {
+		return err
+	}
+	*c = CanonicalCalendar{Frequency: raw.Frequency}
+	if len(raw.SeasonLength) == 0 || string(raw.SeasonLength) == "null" {
+		return nil
+	}
+	if raw.SeasonLength[0] == '[' {
+		if err := json.Unmarshal(raw.SeasonLength, &c.Seasons); err != nil {
+			return fmt.Errorf("season_length: %v", err)
+		}
+		if len(c.Seasons) > 0 {
+			c.SeasonLength = c.Seasons[0]
+		}
+		return nil
+	}
+	if err := json.Unmarshal(raw.SeasonLength, &c.SeasonLength); err != nil {
+		return fmt.Errorf("season_length: %v", err)
+	}
+	c.Seasons = []int{c.SeasonLength}
+	return nil
 }
 
 // Open reads a run folder's manifest. It fails on a folder that is not an
