@@ -23,7 +23,7 @@ var OutputColumns = []string{
 	// problems
 	"stage", "severity", "code", "message",
 	// accuracy
-	"fold", "origin", "train_start", "train_periods", "test_periods",
+	"fold", "origin", "train_start", "train_periods", "test_periods", "scored_periods",
 	"mae", "rmse", "mape", "mape_zeros", "smape", "mase", "rmsse", "wape", "bias", "status",
 	// choices
 	"metric", "score", "runner_up", "runner_up_score", "folds", "demand_class", "adi", "cv2", "reason",

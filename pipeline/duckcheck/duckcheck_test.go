@@ -741,7 +741,7 @@ var columns = map[string][][2]string{
 	// In the order tables.md lists them.
 	"accuracy": {
 		{"method", "VARCHAR"}, {"fold", "INTEGER"}, {"origin", "DATE"}, {"train_start", "DATE"},
-		{"train_periods", "INTEGER"}, {"test_periods", "INTEGER"},
+		{"train_periods", "INTEGER"}, {"test_periods", "INTEGER"}, {"scored_periods", "INTEGER"},
 		{"mae", "DOUBLE"}, {"rmse", "DOUBLE"}, {"mape", "DOUBLE"}, {"mape_zeros", "INTEGER"},
 		{"smape", "DOUBLE"}, {"mase", "DOUBLE"}, {"rmsse", "DOUBLE"}, {"wape", "DOUBLE"}, {"bias", "DOUBLE"},
 		{"status", "VARCHAR"},

@@ -20,25 +20,26 @@ func WriteAccuracy(t *runfolder.TableWriter, r *Backtest, cal calendar.Calendar)
 			t.Date(3, cal.StartDays(s.Start+int64(f.fold.TrainStart)))
 			t.Int32(4, f.fold.TrainEnd-f.fold.TrainStart)
 			t.Int32(5, f.fold.TestEnd-f.fold.TrainEnd)
+			t.Int32(6, observed(s.Values[f.fold.TrainEnd:f.fold.TestEnd]))
 			sc := f.scores
 			if f.failed {
 				nan := math.NaN()
 				sc = engines.Scores{MAE: nan, RMSE: nan, MAPE: nan, SMAPE: nan, MASE: nan, RMSSE: nan, WAPE: nan, Bias: nan}
 			}
-			t.Float(6, sc.MAE)
-			t.Float(7, sc.RMSE)
-			t.Float(8, sc.MAPE)
-			t.Int32(9, sc.MAPEZeros)
-			t.Float(10, sc.SMAPE)
-			t.Float(11, sc.MASE)
-			t.Float(12, sc.RMSSE)
-			t.Float(13, sc.WAPE)
-			t.Float(14, sc.Bias)
+			t.Float(7, sc.MAE)
+			t.Float(8, sc.RMSE)
+			t.Float(9, sc.MAPE)
+			t.Int32(10, sc.MAPEZeros)
+			t.Float(11, sc.SMAPE)
+			t.Float(12, sc.MASE)
+			t.Float(13, sc.RMSSE)
+			t.Float(14, sc.WAPE)
+			t.Float(15, sc.Bias)
 			status := "ok"
 			if f.failed {
 				status = "failed"
 			}
-			t.Str(15, status)
+			t.Str(16, status)
 			if err := t.EndRow(); err != nil {
 				return err
 			}
@@ -78,4 +79,16 @@ func (e *Evaluation) WriteChoice(t *runfolder.TableWriter, r *Backtest) error {
 	}
 	t.Str(9, r.reason)
 	return t.EndRow()
+}
+
+// observed counts the values of y that are not missing: the periods of a
+// test window that are scored (engines.PointScores skips NaN actuals).
+func observed(y []float64) int {
+	n := 0
+	for _, v := range y {
+		if !math.IsNaN(v) {
+			n++
+		}
+	}
+	return n
 }

@@ -69,6 +69,7 @@ const (
 	ColStatus         = "status"
 	ColStep           = "step"
 	ColTestPeriods    = "test_periods"
+	ColScoredPeriods  = "scored_periods"
 	ColTrainPeriods   = "train_periods"
 	ColTrainStart     = "train_start"
 	ColTrend          = "trend"
@@ -141,6 +142,7 @@ func AccuracyColumns() []Column {
 		{ColTrainStart, colDate, false},
 		{ColTrainPeriods, colInt, false},
 		{ColTestPeriods, colInt, false},
+		{ColScoredPeriods, colInt, false},
 		{ColMAE, colFloat, true},
 		{ColRMSE, colFloat, true},
 		{ColMAPE, colFloat, true},
