@@ -3,6 +3,7 @@ package pipeline
 import (
 	"context"
 	"encoding/csv"
+	"maps"
 	"math"
 	"os"
 	"path/filepath"
@@ -25,8 +26,8 @@ import (
 //     than the event-blind one, both scored on the same days;
 //   - the promotion uplift estimated by the uplift method is within 10% of
 //     the generating value, on every series;
-//   - no closed day is scored: every accuracy row's test_periods is the
-//     fold's 28 days less the closed days of its store.
+//   - no closed day is scored: every accuracy row's scored_periods is its
+//     test window's 28 days less the closed days of its store.
 const (
 	// grocerTrueUplift is grocerPromoUplift in
 	// examples/internal/generate/grocer.go: every promoted day sells 1.4
@@ -105,7 +106,8 @@ func grocerScores(t *testing.T, run string, keys []string) (map[string]float64, 
 }
 
 // grocerFolds returns, per series and fold origin, the scored days of
-// every accuracy row, checking that all methods of a fold agree.
+// the accuracy rows, checking that all methods of a fold agree and that
+// every test window is 28 days long.
 func grocerFolds(t *testing.T, run string, keys []string) (*runfolder.Table, map[string]int) {
 	t.Helper()
 	acc, err := runfolder.ReadTable(filepath.Join(run, runfolder.TableAccuracy+".parquet"))
@@ -115,8 +117,11 @@ func grocerFolds(t *testing.T, run string, keys []string) (*runfolder.Table, map
 	scored := map[string]int{}
 	for i := 0; i < acc.Rows; i++ {
 		origin, _ := acc.Date(runfolder.ColOrigin, i)
-		n, _ := acc.Int(runfolder.ColTestPeriods, i)
+		n, _ := acc.Int(runfolder.ColScoredPeriods, i)
 		k := acc.Key(keys, i) + " @ " + origin.Format(time.DateOnly)
+		if w, _ := acc.Int(runfolder.ColTestPeriods, i); w != grocerFoldDays {
+			t.Errorf("%s: a test window of %d days, want %d", k, w, grocerFoldDays)
+		}
 		if prev, ok := scored[k]; ok && prev != n {
 			m, _ := acc.Str(runfolder.ColMethod, i)
 			t.Errorf("%s: %s scored %d days, another method %d", k, m, n, prev)
@@ -138,8 +143,9 @@ func TestDailyGrocerEvidence(t *testing.T) {
 	keys := aware.Columns.Keys
 
 	// No closed day in any accuracy row: each row scores its 28 days less
-	// the closed days of its store, and at least one fold holds a closure
-	// (the market's of 14-16 October 2025), so the check can fail.
+	// the closed days of its store (scored_periods), and at least one fold
+	// holds a closure (the market's of 14-16 October 2025), so the check
+	// can fail.
 	closed := grocerClosedDays(t)
 	acc, awareScored := grocerFolds(t, awareRun, keys)
 	withClosure := 0
@@ -153,7 +159,7 @@ func TestDailyGrocerEvidence(t *testing.T) {
 				shut++
 			}
 		}
-		n, _ := acc.Int(runfolder.ColTestPeriods, i)
+		n, _ := acc.Int(runfolder.ColScoredPeriods, i)
 		if n != grocerFoldDays-shut {
 			m, _ := acc.Str(runfolder.ColMethod, i)
 			t.Errorf("%s %s fold from %s: %d scored days, want %d (%d closed)", acc.Key(keys, i), m, origin.Format(time.DateOnly), n, grocerFoldDays-shut, shut)
@@ -183,8 +189,9 @@ func TestDailyGrocerEvidence(t *testing.T) {
 	if len(awareScore) != 6 || len(blindScore) != 6 {
 		t.Fatalf("%d and %d series scored, want 6 and 6", len(awareScore), len(blindScore))
 	}
+	series := slices.Sorted(maps.Keys(awareScore))
 	var meanAware, meanBlind float64
-	for k := range awareScore {
+	for _, k := range series {
 		t.Logf("%-20s with events %.3f (%s), without %.3f (%s)", k, awareScore[k], awareChosen[k], blindScore[k], blindChosen[k])
 		meanAware += awareScore[k] / 6
 		meanBlind += blindScore[k] / 6
@@ -195,7 +202,7 @@ func TestDailyGrocerEvidence(t *testing.T) {
 	}
 
 	// The promotion uplift, as explain reports it for the uplift method.
-	for k := range awareScore {
+	for _, k := range series {
 		key := strings.Split(k, " / ")
 		params, err := SeriesParams(context.Background(), awareRun, key)
 		if err != nil {

@@ -7,6 +7,7 @@ import (
 	"path/filepath"
 	"runtime"
 	"testing"
+	"time"
 
 	"gopkg.in/yaml.v3"
 
@@ -35,6 +36,10 @@ func exampleWithBounds(t *testing.T, specPath, dir string, allowNegative bool) s
 	for _, s := range append(m["sources"].([]any), events...) {
 		if src, ok := s.(map[string]any); ok {
 			src["path"] = filepath.Join(base, src["path"].(string))
+			// yaml reads an unquoted day as a timestamp; write it back as a day.
+			if d, ok := src["known_until"].(time.Time); ok {
+				src["known_until"] = d.Format(time.DateOnly)
+			}
 		}
 	}
 	horizon := m["horizon"].(int)
