@@ -265,3 +265,17 @@ func TestReadEventsParquet(t *testing.T) {
 		}
 	}
 }
+
+// Two closures on different key columns overlap on the series that has
+// both values; the message names that series.
+func TestOverlapNamesTheSeries(t *testing.T) {
+	cs := []Event{
+		{Where: "c.csv:2", First: 10, Last: 12, Keys: []string{"North", ""}, Set: []bool{true, false}},
+		{Where: "c.csv:3", First: 12, Last: 12, Keys: []string{"", "bread"}, Set: []bool{false, true}},
+		{Where: "c.csv:4", First: 12, Last: 15, Keys: []string{"South", "cake"}, Set: []bool{true, true}},
+	}
+	msgs := overlappingClosures(cs, []string{"store", "product"})
+	if len(msgs) != 1 || !strings.HasPrefix(msgs[0], "c.csv:3: the closure 1970-01-13 … 1970-01-13 overlaps the closure at c.csv:2 (1970-01-11 … 1970-01-13) for the same series (store=\"North\", product=\"bread\")") {
+		t.Errorf("msgs = %q", msgs)
+	}
+}
