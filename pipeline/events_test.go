@@ -1,6 +1,7 @@
 package pipeline
 
 import (
+	"bytes"
 	"context"
 	"fmt"
 	"math"
@@ -9,19 +10,21 @@ import (
 	"strings"
 	"testing"
 
+	"almanac/pipeline/runfolder"
 	"almanac/spec"
 )
 
-// The run's batches hand out series with their events attached, in every
-// batch (a batch size of a few rows makes several), and the plan counts
-// what the event sources hold.
-func TestBatchesCarryEvents(t *testing.T) {
-	dir := t.TempDir()
+// eventFixture writes a daily data file of stores North, South, West (and,
+// past three, North+, South+, …) over January 2024 with closures and
+// drivers, and loads its spec.
+func eventFixture(t *testing.T, dir string, stores int) *spec.Spec {
+	t.Helper()
 	var b strings.Builder
 	b.WriteString("day,store,qty\n")
-	for _, st := range []string{"North", "South", "West"} {
+	for k := 0; k < stores; k++ {
+		st := [...]string{"North", "South", "West"}[k%3] + strings.Repeat("+", k/3)
 		for d := 1; d <= 31; d++ {
-			fmt.Fprintf(&b, "2024-01-%02d,%s,%d\n", d, st, d)
+			fmt.Fprintf(&b, "2024-01-%02d,%s,%d\n", d, st, d+k%7)
 		}
 	}
 	files := map[string]string{
@@ -36,8 +39,9 @@ calendar: {frequency: day, season_length: [7, 14]}
 events:
   - {path: closures.csv, kind: closure, columns: {date: first, until: last, keys: [store]}}
   - {path: drivers.csv, kind: driver, columns: {date: first, until: last, name: event, value: value, keys: [store]}}
-methods: [naive]
+methods: [naive, seasonal_naive]
 horizon: 7
+backtest: {folds: 2}
 `,
 	}
 	for name, body := range files {
@@ -47,6 +51,15 @@ horizon: 7
 	if err != nil {
 		t.Fatal(err)
 	}
+	return s
+}
+
+// The run's batches hand out series with their events attached, in every
+// batch (a batch size of a few rows makes several), and the plan counts
+// what the event sources hold.
+func TestBatchesCarryEvents(t *testing.T) {
+	dir := t.TempDir()
+	s := eventFixture(t, dir, 3)
 	p, err := Compile(s, Options{Out: filepath.Join(dir, "out")})
 	if err != nil {
 		t.Fatal(err)
@@ -103,5 +116,21 @@ horizon: 7
 	in := p.inputs()
 	if len(in) != 3 || in[1].Path != "closures.csv" || in[2].Path != "drivers.csv" || in[2].SHA256 == "" {
 		t.Errorf("inputs %+v", in)
+	}
+}
+
+// A run with events writes the same bytes at any worker count.
+func TestEventsSameBytesAtAnyWorkerCount(t *testing.T) {
+	dir := t.TempDir()
+	s := eventFixture(t, dir, 300)
+	one := runBytes(t, s, filepath.Join(dir, "w1"), 1)
+	two := runBytes(t, s, filepath.Join(dir, "w2"), 2)
+	for name := range one {
+		if !bytes.Equal(one[name], two[name]) {
+			t.Errorf("%s differs between 1 and 2 workers", name)
+		}
+	}
+	if len(one[runfolder.TableProblems]) == 0 {
+		t.Error("no problems table")
 	}
 }

@@ -258,6 +258,9 @@ func (p *Plan) eventStage() Stage {
 			if info.Ignored > 0 {
 				line += fmt.Sprintf(", %d outside the data and horizon, ignored", info.Ignored)
 			}
+			if i < len(ev.PartialClosures) && ev.PartialClosures[i] > 0 {
+				line += fmt.Sprintf(", %d covering only part of a %s (left open)", ev.PartialClosures[i], s.Calendar.Frequency)
+			}
 		} else if src.KnownUntil != "" {
 			line += ", known until " + src.KnownUntil
 		}

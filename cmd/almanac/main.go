@@ -299,8 +299,12 @@ func checkCmd(c *cli.Context) error {
 		}
 		fmt.Fprintf(c.App.Writer, "%s: ok (%s, %d method(s), sha256 %s; inputs name its columns)\n", path, s.Name, len(s.Methods), s.Hash()[:16])
 		if ev != nil {
+			names := strings.Join(ev.Names, ", ")
+			if names == "" {
+				names = "(none)"
+			}
 			fmt.Fprintf(c.App.Writer, "%s: events: %d closure row(s), %d driver row(s), drivers %s (key values and the horizon are checked by plan and run)\n",
-				path, len(ev.Closures), len(ev.Drivers), strings.Join(ev.Names, ", "))
+				path, len(ev.Closures), len(ev.Drivers), names)
 		}
 	}
 	if bad > 0 {

@@ -205,11 +205,10 @@ func overlappingClosures(cs []Event, names []string) []string {
 			if !compatible(c, o) {
 				continue
 			}
-			both := *c
+			// The series both apply to: c's key pattern with o's added.
+			both := Event{Set: slices.Clone(c.Set), Keys: slices.Clone(c.Keys)}
 			for k := range both.Set {
 				if o.Set[k] {
-					both.Set = slices.Clone(c.Set)
-					both.Keys = slices.Clone(c.Keys)
 					both.Set[k], both.Keys[k] = true, o.Keys[k]
 				}
 			}

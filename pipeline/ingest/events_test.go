@@ -8,6 +8,12 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/apache/arrow-go/v18/arrow"
+	"github.com/apache/arrow-go/v18/arrow/array"
+	"github.com/apache/arrow-go/v18/arrow/memory"
+	"github.com/apache/arrow-go/v18/parquet"
+	"github.com/apache/arrow-go/v18/parquet/pqarrow"
+
 	"almanac/pipeline/calendar"
 	"almanac/spec"
 )
@@ -180,6 +186,96 @@ func TestUnmatchedEventCombination(t *testing.T) {
 	}}
 	msgs := unmatchedEvents(ev, keys, []string{"store", "product"})
 	if len(msgs) != 1 || msgs[0] != `c.csv:2: no series has store="North", product="cake" (each value exists, but not together); an event's key cells must name series that exist` {
+		t.Errorf("msgs = %q", msgs)
+	}
+}
+
+// writeParquetEvents writes one record batch of the given columns to path.
+func writeParquetEvents(t *testing.T, path string, fields []arrow.Field, n int, fill func(b *array.RecordBuilder, i int)) {
+	t.Helper()
+	sch := arrow.NewSchema(fields, nil)
+	b := array.NewRecordBuilder(memory.DefaultAllocator, sch)
+	defer b.Release()
+	for i := 0; i < n; i++ {
+		fill(b, i)
+	}
+	rec := b.NewRecordBatch()
+	defer rec.Release()
+	f, err := os.Create(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	w, err := pqarrow.NewFileWriter(sch, f, parquet.NewWriterProperties(), pqarrow.DefaultWriterProps())
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := w.Write(rec); err != nil {
+		t.Fatal(err)
+	}
+	if err := w.Close(); err != nil {
+		t.Fatal(err)
+	}
+}
+
+// Parquet event sources with text dates, TIMESTAMP until, integer keys and
+// an integer value column; errors name the row.
+func TestReadEventsParquet(t *testing.T) {
+	s := eventSpec(t, "calendar: {frequency: day}", "  - path: drivers.parquet\n    kind: driver\n    columns: {date: first, until: last, name: event, value: value, keys: [store]}\n",
+		map[string]string{})
+	path := filepath.Join(s.Dir, "drivers.parquet")
+	fields := []arrow.Field{{Name: "first", Type: arrow.BinaryTypes.String}, {Name: "last", Type: &arrow.TimestampType{Unit: arrow.Millisecond}, Nullable: true},
+		{Name: "event", Type: arrow.BinaryTypes.String}, {Name: "value", Type: arrow.PrimitiveTypes.Int32}, {Name: "store", Type: arrow.BinaryTypes.String, Nullable: true}}
+	firsts := []string{"2024-01-05", "2024-01-20T08:00:00Z", "2024-01-01"}
+	fill := func(firsts []string) func(b *array.RecordBuilder, i int) {
+		return func(b *array.RecordBuilder, i int) {
+			b.Field(0).(*array.StringBuilder).Append(firsts[i])
+			if i == 0 {
+				b.Field(1).AppendNull()
+			} else {
+				b.Field(1).(*array.TimestampBuilder).Append(arrow.Timestamp((calendar.DayOf("2024-02-10")*86400 + 3600) * 1000))
+			}
+			b.Field(2).(*array.StringBuilder).Append([]string{"promo", "price", "promo"}[i])
+			b.Field(3).(*array.Int32Builder).Append(int32(i + 1))
+			if i == 2 {
+				b.Field(4).AppendNull()
+			} else {
+				b.Field(4).(*array.StringBuilder).Append("North")
+			}
+		}
+	}
+	writeParquetEvents(t, path, fields, 3, fill(firsts))
+	ev, _, err := readAndCheck(t, s)
+	if err != nil {
+		t.Fatal(err)
+	}
+	got := ""
+	for _, e := range ev.Drivers {
+		got += fmt.Sprintf("%s %s…%s %s=%g %v; ", e.Where, calendar.LabelDay(e.First), calendar.LabelDay(e.Last), e.Name, e.Value, e.Global())
+	}
+	want := "drivers.parquet: row 1 2024-01-05…2024-01-05 promo=1 false; drivers.parquet: row 2 2024-01-20…2024-02-10 price=2 false; drivers.parquet: row 3 2024-01-01…2024-02-10 promo=3 true; "
+	if got != want {
+		t.Errorf("got  %s\nwant %s", got, want)
+	}
+	writeParquetEvents(t, path, fields, 3, fill([]string{"2024-01-05", "2024-02-31", "2024-03-01"}))
+	_, _, err = readAndCheck(t, s)
+	for _, w := range []string{`drivers.parquet: row 2: column "first": "2024-02-31" is not a date`,
+		`drivers.parquet: row 3: column "last": the last day 2024-02-10 is before the first day 2024-03-01`} {
+		if err == nil || !strings.Contains(err.Error(), w) {
+			t.Errorf("got %v, want %s", err, w)
+		}
+	}
+}
+
+// Two closures on different key columns overlap on the series that has
+// both values; the message names that series.
+func TestOverlapNamesTheSeries(t *testing.T) {
+	cs := []Event{
+		{Where: "c.csv:2", First: 10, Last: 12, Keys: []string{"North", ""}, Set: []bool{true, false}},
+		{Where: "c.csv:3", First: 12, Last: 12, Keys: []string{"", "bread"}, Set: []bool{false, true}},
+		{Where: "c.csv:4", First: 12, Last: 15, Keys: []string{"South", "cake"}, Set: []bool{true, true}},
+	}
+	msgs := overlappingClosures(cs, []string{"store", "product"})
+	if len(msgs) != 1 || !strings.HasPrefix(msgs[0], "c.csv:3: the closure 1970-01-13 … 1970-01-13 overlaps the closure at c.csv:2 (1970-01-11 … 1970-01-13) for the same series (store=\"North\", product=\"bread\")") {
 		t.Errorf("msgs = %q", msgs)
 	}
 }
