@@ -24,8 +24,10 @@ import (
 // Option base (default stl): stl — STL with a periodic season, the
 // adjusted series by SES (the stl method's defaults, its season test
 // included); seasonal_naive — the adjusted value one season earlier; ses —
-// simple exponential smoothing (no season). With a season length below 2
-// the seasonal bases are replaced by ses (the model column says so).
+// simple exponential smoothing (no season). A series too short for its
+// base gets a simpler one, named in the model column: stl needs two
+// seasons (else seasonal_naive), seasonal_naive one (else ses); with a
+// season length below 2 the seasonal bases are replaced by ses.
 //
 // Drivers come from the Context (values ≥ 0; a negative or non-finite
 // value is an error of the series). A driver never on in the history gets
@@ -76,16 +78,25 @@ func (u Uplift) Fit(y []float64, season int) (Fitted, error) {
 	return u.FitContext(y, season, Context{})
 }
 
-// baseMethod returns the base method for season, and a note when the
-// season forced ses.
-func (u Uplift) baseMethod(season int) (Method, string, error) {
+// baseMethod returns the base method for a series of n values with the
+// season length season, and a note when the series forced a simpler one:
+// stl needs two seasons (else seasonal_naive), seasonal_naive one (else
+// ses), and without a season both become ses.
+func (u Uplift) baseMethod(season, n int) (Method, string, error) {
 	b := u.Base
 	if b == "" {
 		b = "stl"
 	}
 	note := ""
-	if season < 2 && b != "ses" {
+	switch {
+	case season < 2 && b != "ses":
 		note = fmt.Sprintf("base ses (no season for %s)", b)
+		b = "ses"
+	case b == "stl" && n < 2*season && n >= season:
+		note = "base seasonal_naive (stl needs two seasons)"
+		b = "seasonal_naive"
+	case b != "ses" && n < season:
+		note = fmt.Sprintf("base ses (%s needs a season)", b)
 		b = "ses"
 	}
 	switch b {
@@ -112,7 +123,7 @@ type UpliftFitted struct {
 // FitContext estimates the drivers' uplifts and fits the base method on
 // the adjusted history (see Uplift).
 func (u Uplift) FitContext(y []float64, season int, c Context) (Fitted, error) {
-	base, note, err := u.baseMethod(season)
+	base, note, err := u.baseMethod(season, len(y))
 	if err != nil {
 		return nil, err
 	}

@@ -133,6 +133,17 @@ func TestUpliftMethodInvented(t *testing.T) {
 	if a, b := plain.Forecast(3), ses.Forecast(3); a[0] != b[0] || a[2] != b[2] {
 		t.Errorf("no drivers: %v, ses %v", a, b)
 	}
+	for _, c := range []struct {
+		n    int
+		want string
+	}{{6, "base ses (stl needs a season)"}, {10, "base seasonal_naive (stl needs two seasons)"}, {14, "base: stl("}} {
+		fit, err := Uplift{}.FitContext(y[:c.n], 7, Context{Drivers: [][]float64{promo[:c.n+h]}, DriverNames: []string{"promo"}, H: h})
+		if err != nil {
+			t.Errorf("%d values: %v", c.n, err)
+		} else if d := fit.(*UpliftFitted).Describe(); !strings.Contains(d, c.want) {
+			t.Errorf("%d values: model %q lacks %q", c.n, d, c.want)
+		}
+	}
 	if _, err := (Uplift{}).Fit(y[32:], 1); err != nil {
 		t.Errorf("no season: %v", err)
 	} else if d := must(Uplift{}.Fit(y[32:], 1)).(*UpliftFitted).Describe(); !strings.Contains(d, "base ses (no season for stl)") {
