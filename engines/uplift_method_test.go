@@ -150,3 +150,22 @@ func TestUpliftMethodInvented(t *testing.T) {
 		t.Errorf("no season: model %q", d)
 	}
 }
+
+// BenchmarkUpliftDaily: one fit + 14-step forecast of the 3-year daily
+// series of BenchmarkRegressionARIMADaily (six closed days, 3 drivers),
+// on the default stl base.
+func BenchmarkUpliftDaily(b *testing.B) {
+	n, h := 1095, 14
+	y, x, names := regDaily(n, h, []int{100, 101, 459, 460, 824, 825})
+	for i := range x[2] { // uplift drivers are ≥ 0 and mostly off: the price step as a 0/1 driver
+		x[2][i] -= 1
+	}
+	c := Context{Seasons: []int{7, 365}, Drivers: x, DriverNames: names, H: h}
+	esLoop(b, func() {
+		f, err := Uplift{}.FitContext(y, 7, c)
+		if err != nil {
+			b.Fatal(err)
+		}
+		f.Forecast(h)
+	})
+}
