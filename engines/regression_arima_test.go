@@ -157,3 +157,32 @@ func BenchmarkRegressionARIMADaily(b *testing.B) {
 		})
 	}
 }
+
+// Drivers that cannot be estimated are left out, each named with its
+// reason: constant over the history, a copy of an earlier driver, and one
+// on only on closed days (zero wherever the series is observed).
+func TestRegressionARIMAScreensDrivers(t *testing.T) {
+	n, h := 150, 7
+	y, x, _ := regDaily(n, h, []int{20, 21})
+	constant := make([]float64, n+h)
+	onClosed := make([]float64, n+h)
+	for i := range constant {
+		constant[i] = 2
+	}
+	onClosed[20], onClosed[21], onClosed[n+1] = 1, 1, 1
+	c := Context{Drivers: [][]float64{x[0], constant, x[0], onClosed}, DriverNames: []string{"promo", "flat", "promo_copy", "closed_only"}, H: h}
+	fit, err := RegressionARIMA{}.FitContext(y, 7, c)
+	if err != nil {
+		t.Fatal(err)
+	}
+	d := fit.(*RegressionARIMAFitted).Describe()
+	for _, want := range []string{"drivers: promo;", "driver flat left out (constant over the history)",
+		"driver promo_copy left out (a combination of the drivers before it)", "driver closed_only left out (zero over the history)"} {
+		if !strings.Contains(d, want) {
+			t.Errorf("model %q lacks %q", d, want)
+		}
+	}
+	if fc := fit.Forecast(h); len(fc) != h || math.IsNaN(fc[0]) {
+		t.Errorf("forecast %v", fc)
+	}
+}
