@@ -125,6 +125,18 @@ func TestUpliftMethodInvented(t *testing.T) {
 			}
 		}
 	}
+	price := make([]float64, n+h)
+	price[50] = -0.1
+	fit, err = Uplift{}.FitContext(y, 7, Context{Drivers: [][]float64{price, promo}, DriverNames: []string{"price", "promo"}, H: h})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if d := fit.(*UpliftFitted).Describe(); !strings.HasPrefix(d, "uplift(promo ×1.") || !strings.HasSuffix(d, "; driver price left out (negative values))") {
+		t.Errorf("negative driver: model %q", d)
+	}
+	if w := fit.(*UpliftFitted).Warnings(); len(w) == 0 || !strings.Contains(w[0], "driver price has negative values") {
+		t.Errorf("negative driver: warnings %v", w)
+	}
 	plain, err := Uplift{Base: "ses"}.Fit(y[32:], 7)
 	if err != nil {
 		t.Fatal(err)
