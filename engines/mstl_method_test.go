@@ -100,3 +100,19 @@ func TestMSTLMethodGapsAndShort(t *testing.T) {
 		t.Error("10 values with season 7 fitted")
 	}
 }
+
+// BenchmarkMSTLMethodDaily: one fit + 14-step forecast of the 3-year daily
+// series of BenchmarkRegressionARIMADaily (six closed days) with the
+// seasons 7 and 365.
+func BenchmarkMSTLMethodDaily(b *testing.B) {
+	n, h := 1095, 14
+	y, _, _ := regDaily(n, h, []int{100, 101, 459, 460, 824, 825})
+	c := Context{Seasons: []int{7, 365}}
+	esLoop(b, func() {
+		f, err := MSTLMethod{}.FitContext(y, 7, c)
+		if err != nil {
+			b.Fatal(err)
+		}
+		f.Forecast(h)
+	})
+}

@@ -70,8 +70,10 @@ func TestRegressionARIMADailyRecoversDrivers(t *testing.T) {
 		}
 	}
 	t.Logf("%s; coefficients %v", f.Describe(), f.Coefficients())
-	if !strings.Contains(f.Describe(), "fourier: 365 × ") || !strings.Contains(f.Describe(), ")7 errors") && !strings.Contains(f.Describe(), "drivers: promo, holiday, price") {
-		t.Errorf("model %q", f.Describe())
+	for _, part := range []string{"fourier: 365 × ", ")7 ", "drivers: promo, holiday, price", "estimated with the missing periods filled"} {
+		if !strings.Contains(f.Describe(), part) {
+			t.Errorf("model %q lacks %q", f.Describe(), part)
+		}
 	}
 	fc := f.Forecast(h)
 	if len(fc) != h {
@@ -82,8 +84,6 @@ func TestRegressionARIMADailyRecoversDrivers(t *testing.T) {
 			t.Errorf("step %d: forecast %v", i+1, v)
 		}
 	}
-	// The promotion days of the horizon are forecast about 30 above the
-	// others of the same weekday.
 	if v := f.ForecastVariance(h); len(v) != h || !(v[0] > 0) || v[h-1] < v[0] {
 		t.Errorf("forecast variance %v", v)
 	}
@@ -155,5 +155,34 @@ func BenchmarkRegressionARIMADaily(b *testing.B) {
 				f.Forecast(h)
 			})
 		})
+	}
+}
+
+// Drivers that cannot be estimated are left out, each named with its
+// reason: constant over the history, a copy of an earlier driver, and one
+// on only on closed days (zero wherever the series is observed).
+func TestRegressionARIMAScreensDrivers(t *testing.T) {
+	n, h := 150, 7
+	y, x, _ := regDaily(n, h, []int{20, 21})
+	constant := make([]float64, n+h)
+	onClosed := make([]float64, n+h)
+	for i := range constant {
+		constant[i] = 2
+	}
+	onClosed[20], onClosed[21], onClosed[n+1] = 1, 1, 1
+	c := Context{Drivers: [][]float64{x[0], constant, x[0], onClosed}, DriverNames: []string{"promo", "flat", "promo_copy", "closed_only"}, H: h}
+	fit, err := RegressionARIMA{}.FitContext(y, 7, c)
+	if err != nil {
+		t.Fatal(err)
+	}
+	d := fit.(*RegressionARIMAFitted).Describe()
+	for _, want := range []string{"drivers: promo;", "driver flat left out (constant over the history)",
+		"driver promo_copy left out (a combination of the drivers before it)", "driver closed_only left out (zero over the history)"} {
+		if !strings.Contains(d, want) {
+			t.Errorf("model %q lacks %q", d, want)
+		}
+	}
+	if fc := fit.Forecast(h); len(fc) != h || math.IsNaN(fc[0]) {
+		t.Errorf("forecast %v", fc)
 	}
 }

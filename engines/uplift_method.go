@@ -3,6 +3,7 @@ package engines
 import (
 	"fmt"
 	"maps"
+	"math"
 	"slices"
 	"strings"
 )
@@ -24,11 +25,15 @@ import (
 // Option base (default stl): stl — STL with a periodic season, the
 // adjusted series by SES (the stl method's defaults, its season test
 // included); seasonal_naive — the adjusted value one season earlier; ses —
-// simple exponential smoothing (no season). With a season length below 2
-// the seasonal bases are replaced by ses (the model column says so).
+// simple exponential smoothing (no season). A series too short for its
+// base gets a simpler one, named in the model column: stl needs two
+// seasons (else seasonal_naive), seasonal_naive one (else ses); with a
+// season length below 2 the seasonal bases are replaced by ses.
 //
-// Drivers come from the Context (values ≥ 0; a negative or non-finite
-// value is an error of the series). A driver never on in the history gets
+// Drivers come from the Context; a driver with a negative value anywhere
+// (a price cut coded −0.1, say) is left out, named in the model column and
+// a warning: a multiplicative uplift takes values ≥ 0 (regression_arima
+// takes any). A driver never on in the history gets
 // the uplift 1 and a warning (its future values then change nothing).
 // Without drivers (plain Fit, or a context without any) the method is its
 // base method on the history (gaps filled). Only the primary season length
@@ -76,16 +81,25 @@ func (u Uplift) Fit(y []float64, season int) (Fitted, error) {
 	return u.FitContext(y, season, Context{})
 }
 
-// baseMethod returns the base method for season, and a note when the
-// season forced ses.
-func (u Uplift) baseMethod(season int) (Method, string, error) {
+// baseMethod returns the base method for a series of n values with the
+// season length season, and a note when the series forced a simpler one:
+// stl needs two seasons (else seasonal_naive), seasonal_naive one (else
+// ses), and without a season both become ses.
+func (u Uplift) baseMethod(season, n int) (Method, string, error) {
 	b := u.Base
 	if b == "" {
 		b = "stl"
 	}
 	note := ""
-	if season < 2 && b != "ses" {
+	switch {
+	case season < 2 && b != "ses":
 		note = fmt.Sprintf("base ses (no season for %s)", b)
+		b = "ses"
+	case b == "stl" && n < 2*season && n >= season:
+		note = "base seasonal_naive (stl needs two seasons)"
+		b = "seasonal_naive"
+	case b != "ses" && n < season:
+		note = fmt.Sprintf("base ses (%s needs a season)", b)
 		b = "ses"
 	}
 	switch b {
@@ -107,26 +121,33 @@ type UpliftFitted struct {
 	names  []string
 	note   string
 	baseNm string
+	left   []string // drivers left out, for the model column
+	warn   []string
 }
 
 // FitContext estimates the drivers' uplifts and fits the base method on
 // the adjusted history (see Uplift).
 func (u Uplift) FitContext(y []float64, season int, c Context) (Fitted, error) {
-	base, note, err := u.baseMethod(season)
+	base, note, err := u.baseMethod(season, len(y))
 	if err != nil {
 		return nil, err
 	}
 	n := len(y)
 	var x, future [][]float64
-	names := make([]string, len(c.Drivers))
+	var names, left []string
 	for j, col := range c.Drivers {
-		names[j] = fmt.Sprintf("x%d", j+1)
+		name := fmt.Sprintf("x%d", j+1)
 		if j < len(c.DriverNames) {
-			names[j] = c.DriverNames[j]
+			name = c.DriverNames[j]
 		}
 		if len(col) < n+c.H || c.H < 0 {
-			panic(fmt.Sprintf("engines: uplift: driver %s has %d values for %d + %d", names[j], len(col), n, c.H))
+			panic(fmt.Sprintf("engines: uplift: driver %s has %d values for %d + %d", name, len(col), n, c.H))
 		}
+		if slices.ContainsFunc(col[:n+c.H], func(v float64) bool { return !(v >= 0) || math.IsInf(v, 1) }) {
+			left = append(left, name)
+			continue
+		}
+		names = append(names, name)
 		x = append(x, col[:n:n])
 		future = append(future, col[n:n+c.H])
 	}
@@ -134,7 +155,12 @@ func (u Uplift) FitContext(y []float64, season int, c Context) (Fitted, error) {
 	if err != nil {
 		return nil, fmt.Errorf("uplift: %w", trimUpliftPrefix(err))
 	}
-	return &UpliftFitted{model: m, future: future, names: names, note: note, baseNm: base.Name()}, nil
+	f := &UpliftFitted{model: m, future: future, names: names, note: note, baseNm: base.Name()}
+	for _, name := range left {
+		f.left = append(f.left, fmt.Sprintf("driver %s left out (negative values)", name))
+		f.warn = append(f.warn, fmt.Sprintf("uplift: driver %s has negative values, which a multiplicative uplift cannot take; left out (regression_arima takes it)", name))
+	}
+	return f, nil
 }
 
 func trimUpliftPrefix(err error) error {
@@ -179,12 +205,13 @@ func (f *UpliftFitted) Describe() string {
 		base += "; " + f.note
 	}
 	parts = append(parts, "base: "+base)
+	parts = append(parts, f.left...)
 	return "uplift(" + strings.Join(parts, "; ") + ")"
 }
 
 // Warnings lists the uplift warnings, the fill and the base's warnings.
 func (f *UpliftFitted) Warnings() []string {
-	out := append([]string(nil), f.model.Warnings()...)
+	out := append(append([]string(nil), f.warn...), f.model.Warnings()...)
 	if w, ok := f.model.Base.(Warner); ok {
 		out = append(out, w.Warnings()...)
 	}

@@ -125,6 +125,18 @@ func TestUpliftMethodInvented(t *testing.T) {
 			}
 		}
 	}
+	price := make([]float64, n+h)
+	price[50] = -0.1
+	fit, err = Uplift{}.FitContext(y, 7, Context{Drivers: [][]float64{price, promo}, DriverNames: []string{"price", "promo"}, H: h})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if d := fit.(*UpliftFitted).Describe(); !strings.HasPrefix(d, "uplift(promo ×1.") || !strings.HasSuffix(d, "; driver price left out (negative values))") {
+		t.Errorf("negative driver: model %q", d)
+	}
+	if w := fit.(*UpliftFitted).Warnings(); len(w) == 0 || !strings.Contains(w[0], "driver price has negative values") {
+		t.Errorf("negative driver: warnings %v", w)
+	}
 	plain, err := Uplift{Base: "ses"}.Fit(y[32:], 7)
 	if err != nil {
 		t.Fatal(err)
@@ -133,9 +145,39 @@ func TestUpliftMethodInvented(t *testing.T) {
 	if a, b := plain.Forecast(3), ses.Forecast(3); a[0] != b[0] || a[2] != b[2] {
 		t.Errorf("no drivers: %v, ses %v", a, b)
 	}
+	for _, c := range []struct {
+		n    int
+		want string
+	}{{6, "base ses (stl needs a season)"}, {10, "base seasonal_naive (stl needs two seasons)"}, {14, "base: stl("}} {
+		fit, err := Uplift{}.FitContext(y[:c.n], 7, Context{Drivers: [][]float64{promo[:c.n+h]}, DriverNames: []string{"promo"}, H: h})
+		if err != nil {
+			t.Errorf("%d values: %v", c.n, err)
+		} else if d := fit.(*UpliftFitted).Describe(); !strings.Contains(d, c.want) {
+			t.Errorf("%d values: model %q lacks %q", c.n, d, c.want)
+		}
+	}
 	if _, err := (Uplift{}).Fit(y[32:], 1); err != nil {
 		t.Errorf("no season: %v", err)
 	} else if d := must(Uplift{}.Fit(y[32:], 1)).(*UpliftFitted).Describe(); !strings.Contains(d, "base ses (no season for stl)") {
 		t.Errorf("no season: model %q", d)
 	}
+}
+
+// BenchmarkUpliftDaily: one fit + 14-step forecast of the 3-year daily
+// series of BenchmarkRegressionARIMADaily (six closed days, 3 drivers),
+// on the default stl base.
+func BenchmarkUpliftDaily(b *testing.B) {
+	n, h := 1095, 14
+	y, x, names := regDaily(n, h, []int{100, 101, 459, 460, 824, 825})
+	for i := range x[2] { // uplift drivers are ≥ 0 and mostly off: the price step as a 0/1 driver
+		x[2][i] -= 1
+	}
+	c := Context{Seasons: []int{7, 365}, Drivers: x, DriverNames: names, H: h}
+	esLoop(b, func() {
+		f, err := Uplift{}.FitContext(y, 7, c)
+		if err != nil {
+			b.Fatal(err)
+		}
+		f.Forecast(h)
+	})
 }

@@ -17,7 +17,10 @@
 # seriously injured, monthly 1969-1984; law = 1 from February 1983).
 #
 # Differenced models: as in make_regarima.R (the estimates of the exact
-# differenced likelihood, or kappa = 1e9 when values are missing).
+# differenced likelihood, or kappa = 1e9 when values are missing); the
+# differenced fit starts from conditional-sum-of-squares estimates
+# ("CSS-ML": the final estimates are exact ML), because from R's default
+# start the daily case stops with a non-finite finite-difference.
 #
 # Run from engines/testdata/reference: Rscript regarima/make_method.R
 source("common.R")
@@ -37,6 +40,19 @@ fourier <- function(m, K, t) {
   x <- do.call(cbind, cols); colnames(x) <- nm; x
 }
 
+# Invented daily series (labelled invented; the series of mstl/make_mstl.R,
+# same generator and set.seed(20260)): 3 years, trend, a weekday pattern, a
+# yearly wave, N(0, 3^2) noise; plus an invented promotion driver (on when
+# t %% 29 is 3 or 4, +25). Seasons 7 and 365: the weekly cycle in the
+# seasonal ARIMA, the yearly one as Fourier terms.
+set.seed(20260)
+nd <- 3 * 365
+td <- 0:(nd - 1)
+week <- c(-12, -5, 0, 3, 8, 15, -9)
+promo <- as.numeric(td %% 29 %in% c(3, 4))
+yd <- 200 + 0.03 * td + 10 * sin(2 * pi * td / (3 * 365)) + week[(td %% 7) + 1] +
+  30 * sin(2 * pi * td / 365) + 10 * cos(4 * pi * td / 365) + rnorm(nd, 0, 3) + 25 * promo
+
 # The orders and harmonics below are those the method chose (its model
 # column); see regression_arima_reference_test.go.
 cases <- list(
@@ -45,7 +61,9 @@ cases <- list(
   list(name = "seatbelts_drivers_law_fourier12", y = sbcol("drivers"), drivers = cbind(law = sbcol("law")),
        seasons = c(12), fourier_above = 11, K = 5, order = c(1, 1, 1), seasonal = c(0, 0, 0), period = 1, mean = FALSE, hold = 12),
   list(name = "seatbelts_drivers_law_missing", y = sbcol("drivers"), missing = c(15, 60, 61, 150, 171), drivers = cbind(law = sbcol("law")),
-       seasons = c(12), fourier_above = 24, K = 0, order = c(1, 0, 1), seasonal = c(0, 1, 2), period = 12, mean = FALSE, hold = 12)
+       seasons = c(12), fourier_above = 24, K = 0, order = c(1, 0, 1), seasonal = c(0, 1, 2), period = 12, mean = FALSE, hold = 12),
+  list(name = "invented_daily_promo_fourier365", y = yd, drivers = cbind(promo = promo),
+       seasons = c(7, 365), fourier_above = 24, K = 2, order = c(2, 0, 1), seasonal = c(1, 1, 1), period = 7, mean = FALSE, hold = 14)
 )
 
 ctl <- list(reltol = 1e-12, maxit = 5000)
@@ -57,7 +75,7 @@ fit_case <- function(cs) {
   n <- N - cs$hold
   d <- cs$drivers
   x <- d
-  if (cs$K > 0) x <- cbind(d, fourier(cs$seasons[1], cs$K, 0:(N - 1)))
+  if (cs$K > 0) x <- cbind(d, fourier(cs$seasons[length(cs$seasons)], cs$K, 0:(N - 1)))
   newx <- x[(n + 1):N, , drop = FALSE]
   x <- x[1:n, , drop = FALSE]
   dtrain <- y[1:n]
@@ -81,7 +99,7 @@ fit_case <- function(cs) {
     xw <- as.matrix(xw); colnames(xw) <- colnames(x)
     fitw <- arima(w, order = c(cs$order[1], 0, cs$order[3]),
                   seasonal = list(order = c(seasonal[1], 0, seasonal[3]), period = period),
-                  xreg = xw, include.mean = FALSE, method = "ML", optim.control = ctl)
+                  xreg = xw, include.mean = FALSE, method = "CSS-ML", optim.control = ctl)
     coefs <- coef(fitw)
     fit <- arima(yts, order = cs$order, seasonal = sea, xreg = x, include.mean = FALSE,
                  method = "ML", fixed = unname(coefs), transform.pars = FALSE, kappa = 1e9)
