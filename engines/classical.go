@@ -91,13 +91,12 @@ type Classical struct {
 }
 
 var (
-	_ Method         = (*Classical)(nil)
-	_ CompleteNeeder = (*Classical)(nil)
-	_ Decomposer     = (*Classical)(nil)
-	_ Fitted         = (*classicalFit)(nil)
-	_ Described      = (*classicalFit)(nil)
-	_ Warner         = (*classicalFit)(nil)
-	_ Decomposed     = (*classicalFit)(nil)
+	_ Method     = (*Classical)(nil)
+	_ Decomposer = (*Classical)(nil)
+	_ Fitted     = (*classicalFit)(nil)
+	_ Described  = (*classicalFit)(nil)
+	_ Warner     = (*classicalFit)(nil)
+	_ Decomposed = (*classicalFit)(nil)
 )
 
 type classicalForm uint8

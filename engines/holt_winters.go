@@ -69,10 +69,7 @@ type HoltWinters struct {
 	auto bool // seasonal: auto
 }
 
-var (
-	_ Method         = (*HoltWinters)(nil)
-	_ CompleteNeeder = (*HoltWinters)(nil)
-)
+var _ Method = (*HoltWinters)(nil)
 
 // HoltWinters' seasonal option values.
 const (

@@ -159,12 +159,11 @@ type STL struct {
 }
 
 var (
-	_ Method         = (*STL)(nil)
-	_ CompleteNeeder = (*STL)(nil)
-	_ Decomposer     = (*STL)(nil)
-	_ Fitted         = (*stlFit)(nil)
-	_ Described      = (*stlFit)(nil)
-	_ Decomposed     = (*stlFit)(nil)
+	_ Method     = (*STL)(nil)
+	_ Decomposer = (*STL)(nil)
+	_ Fitted     = (*stlFit)(nil)
+	_ Described  = (*stlFit)(nil)
+	_ Decomposed = (*stlFit)(nil)
 )
 
 type stlAdjusted uint8
