@@ -155,6 +155,7 @@ type foldInfo struct {
 	fold                  int
 	origin                time.Time
 	trainPeriods, testPer int
+	scored                int // test periods with an observed actual; -1 when the run has no scored_periods column
 }
 
 type accCell struct {
@@ -403,7 +404,11 @@ func loadAccuracy(sd *seriesData, t *runfolder.Table) {
 			o, _ := t.Date(runfolder.ColOrigin, i)
 			tp, _ := t.Int(runfolder.ColTrainPeriods, i)
 			te, _ := t.Int(runfolder.ColTestPeriods, i)
-			sd.folds = append(sd.folds, foldInfo{f, o, tp, te})
+			sc := -1
+			if t.Has(runfolder.ColScoredPeriods) {
+				sc, _ = t.Int(runfolder.ColScoredPeriods, i)
+			}
+			sd.folds = append(sd.folds, foldInfo{f, o, tp, te, sc})
 		}
 	}
 	sort.Slice(sd.folds, func(a, b int) bool { return sd.folds[a].fold < sd.folds[b].fold })

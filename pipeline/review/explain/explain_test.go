@@ -634,6 +634,7 @@ func checkBacktest(t *testing.T, c *checker, tb *tables, key []string, b block, 
 	byMethod := map[string]map[int]cell{}
 	var order []string
 	origins, trained := map[int]string{}, map[int]int{}
+	scored, windows := map[int]int{}, map[int]int{}
 	var folds []int
 	for _, i := range rows {
 		m := str(tb.accuracy, "method", i)
@@ -647,6 +648,8 @@ func checkBacktest(t *testing.T, c *checker, tb *tables, key []string, b block, 
 			folds = append(folds, f)
 			origins[f] = day(tb.accuracy, "origin", i)
 			trained[f] = integer(tb.accuracy, "train_periods", i)
+			scored[f] = integer(tb.accuracy, "scored_periods", i)
+			windows[f] = integer(tb.accuracy, "test_periods", i)
 		}
 	}
 	sort.Ints(folds)
@@ -670,11 +673,30 @@ func checkBacktest(t *testing.T, c *checker, tb *tables, key []string, b block, 
 		c.eq(fmt.Sprintf("fold %d origin", f), o[k+1], origins[f])
 		c.eq(fmt.Sprintf("fold %d training periods", f), tr[k+1], strconv.Itoa(trained[f]))
 	}
+	// The scored row is there exactly when a test window has periods
+	// without an actual.
+	methodLines := b.lines[3:]
+	unscored := false
+	for _, f := range folds {
+		unscored = unscored || scored[f] < windows[f]
+	}
+	if sc := cols(b.lines[3]); sc[0] == "scored" {
+		if !unscored {
+			t.Errorf("a scored row %q, but every test period has an actual", b.lines[3])
+		}
+		for k, f := range folds {
+			c.eq(fmt.Sprintf("fold %d scored periods", f), sc[k+1], fmt.Sprintf("%d of %d", scored[f], windows[f]))
+			c.allowInt(scored[f], windows[f])
+		}
+		methodLines = b.lines[4:]
+	} else if unscored {
+		t.Errorf("no scored row, but a test window has periods without an actual")
+	}
 	crow := rowsFor(tb.choices, tb.keys, key)
 	chosen, _ := tb.choices.Str("chosen", crow[0])
 	runnerUp, _ := tb.choices.Str("runner_up", crow[0])
 	var listed []string
-	for _, line := range b.lines[3:] {
+	for _, line := range methodLines {
 		f := cols(line)
 		m := f[0]
 		listed = append(listed, m)

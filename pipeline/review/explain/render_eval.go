@@ -26,23 +26,34 @@ func renderBacktest(w io.Writer, sd *seriesData, opt Options) {
 	head := []string{"method"}
 	origins := []string{"origin"}
 	train := []string{"trained on"}
+	// Scored periods, shown only when some test window has periods that
+	// were not scored (closed, or missing actuals).
+	scored := []string{"scored"}
+	unscored := false
 	for _, f := range sd.folds {
 		head = append(head, fmt.Sprintf("fold %d", f.fold))
 		origins = append(origins, f.origin.Format(dateFmt))
 		train = append(train, strconv.Itoa(f.trainPeriods))
+		scored = append(scored, fmt.Sprintf("%d of %d", f.scored, f.testPer))
+		unscored = unscored || (f.scored >= 0 && f.scored < f.testPer)
 	}
 	head = append(head, "mean")
 	origins = append(origins, "")
 	train = append(train, "")
+	scored = append(scored, "")
 	if other {
 		head = append(head, "mean "+sd.metric)
 		origins = append(origins, "")
 		train = append(train, "")
+		scored = append(scored, "")
 	}
 	head = append(head, "")
 	g.add(head...)
 	g.add(origins...)
 	g.add(train...)
+	if unscored {
+		g.add(scored...)
+	}
 	for _, label := range sd.accOrder {
 		if !shown(opt, label) {
 			continue
