@@ -198,6 +198,10 @@ func classicalPick[T ~uint8](what, v string, names []string) (T, error) {
 // Name returns "classical".
 func (c *Classical) Name() string { return "classical" }
 
+// NeedsComplete reports true: the pipeline fills gaps before fitting (see
+// CompleteNeeder).
+func (c *Classical) NeedsComplete() bool { return true }
+
 // Decompose returns the classical decomposition of y (see Classical).
 func (c *Classical) Decompose(y []float64, season int) (*Decomposition, error) {
 	d := new(Decomposition)

@@ -141,6 +141,10 @@ func NewHoltWinters(seasonal string, trend, damped bool) (*HoltWinters, error) {
 // Name returns "holt_winters".
 func (h *HoltWinters) Name() string { return "holt_winters" }
 
+// NeedsComplete reports true: the pipeline fills gaps before fitting (see
+// CompleteNeeder).
+func (h *HoltWinters) NeedsComplete() bool { return true }
+
 // Fit fits the form to y (see HoltWinters).
 func (h *HoltWinters) Fit(y []float64, season int) (Fitted, error) {
 	const name = "holt_winters"

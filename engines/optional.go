@@ -42,3 +42,20 @@ type ForecastVariancer interface {
 	ResidualVariance() float64
 	ForecastVariance(h int) []float64
 }
+
+// CompleteNeeder is implemented by methods and decomposers that need a
+// complete series: STL, classical decomposition and Holt-Winters. For
+// them the pipeline fills the missing values of a training slice (never a
+// test window) with SeasonalInterpolate before Fit (and before Decompose
+// when it fails on the gaps), and records the fill. The method itself
+// never fills: given a NaN it fails (STL) or copes as its doc comment
+// says.
+type CompleteNeeder interface {
+	NeedsComplete() bool
+}
+
+var (
+	_ CompleteNeeder = (*STL)(nil)
+	_ CompleteNeeder = (*Classical)(nil)
+	_ CompleteNeeder = (*HoltWinters)(nil)
+)

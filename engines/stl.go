@@ -316,6 +316,10 @@ func stlDegree(o Options, name string, def int) (int, error) {
 // Name returns "stl".
 func (s *STL) Name() string { return "stl" }
 
+// NeedsComplete reports true: the pipeline fills gaps before fitting (see
+// CompleteNeeder).
+func (s *STL) NeedsComplete() bool { return true }
+
 // stlParams are the settings of one decomposition, resolved for a series.
 type stlParams struct {
 	m                      int

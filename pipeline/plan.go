@@ -175,7 +175,10 @@ func (p *Plan) Stages() []Stage {
 	if len(s.Events) > 0 {
 		out = append(out, p.eventStage())
 	}
-	if p.Decomposer != nil {
+	if p.Decomposer != nil && len(s.Calendar.Seasons) > 1 {
+		out = append(out, Stage{Name: "decompose", Detail: fmt.Sprintf("%s, season lengths %s, %s", forecast.DecompositionSeveral, joinInts(s.Calendar.Seasons), decompositionForm(s)),
+			Tables: []string{runfolder.TableComponents, runfolder.TableSeasonalFactors}})
+	} else if p.Decomposer != nil {
 		out = append(out, Stage{Name: "decompose", Detail: strings.TrimSpace(s.Decomposition.Method + " " + optionList(s.Decomposition.Options)),
 			Tables: []string{runfolder.TableComponents, runfolder.TableSeasonalFactors}})
 	} else {
@@ -332,4 +335,14 @@ func listOrNone(xs []string) string {
 		q[i] = fmt.Sprintf("%q", x)
 	}
 	return strings.Join(q, ", ")
+}
+
+// decompositionForm is the form MSTL is asked for: multiplicative (of
+// log values, for series above zero) when the spec's decomposition says
+// so, additive otherwise.
+func decompositionForm(s *spec.Spec) string {
+	if s.Decomposition.Form == spec.Multiplicative {
+		return "multiplicative"
+	}
+	return "additive"
 }

@@ -51,7 +51,10 @@ func openTables(dir string, s *spec.Spec, meta map[string]string, mem memory.All
 	keys := s.Columns.Keys
 	rt := &runTables{methodSeries: map[string]int{},
 		summarise: s.Problems != spec.DetailSeries, keyNames: keys, summary: map[string]*codeSummary{},
-		layout: forecast.Layout{WithChosen: s.Backtest.Folds > 0, Levels: len(s.Intervals.Levels), Decomposition: s.Decomposition.Method}}
+		layout: forecast.Layout{WithChosen: s.Backtest.Folds > 0, Levels: len(s.Intervals.Levels), Decomposition: s.Decomposition.Method, Seasons: s.Calendar.Seasons}}
+	if len(s.Calendar.Seasons) > 1 {
+		rt.layout.Decomposition = forecast.DecompositionSeveral
+	}
 	var err error
 	open := func(name string, cols []runfolder.Column) *runfolder.TableWriter {
 		if err != nil {
@@ -70,8 +73,8 @@ func openTables(dir string, s *spec.Spec, meta map[string]string, mem memory.All
 		rt.totals = open(runfolder.TableTotals, runfolder.TotalsColumns(s))
 		rt.totalLevels = len(s.Totals.Levels)
 	}
-	rt.components = open(runfolder.TableComponents, runfolder.ComponentColumns())
-	rt.factors = open(runfolder.TableSeasonalFactors, runfolder.FactorColumns())
+	rt.components = open(runfolder.TableComponents, runfolder.ComponentColumns(s))
+	rt.factors = open(runfolder.TableSeasonalFactors, runfolder.FactorColumns(s))
 	rt.problems = open(runfolder.TableProblems, runfolder.ProblemColumns())
 	if err != nil {
 		rt.abort()

@@ -352,7 +352,7 @@ func TestAgreement(t *testing.T) {
 // reservedProbe is the output column names a key column may not take, as
 // decode.go lists them. The test probes each against both sides; a name added
 // to the decoder and not here goes unchecked, so keep the two lists together.
-var reservedProbe = append(append([]string{}, spec.OutputColumns...), "lower_80", "upper_95", "quantile_95")
+var reservedProbe = append(append([]string{}, spec.OutputColumns...), "lower_80", "upper_95", "quantile_95", "seasonal_365")
 
 const probeSpec = `version: 1
 name: probe

@@ -130,7 +130,7 @@ func (d *decoder) columns(n *yaml.Node, path string, c *Columns) {
 		}
 		seen[k] = true
 		if IsOutputColumn(k) {
-			d.errAt(at, p, "key column %q has the name of an output column, so the tables would hold two columns of that name; rename it in the input (reserved, in any letter case: %s, and lower_<level>, upper_<level>, quantile_<level>)", k, quoteList(OutputColumns))
+			d.errAt(at, p, "key column %q has the name of an output column, so the tables would hold two columns of that name; rename it in the input (reserved, in any letter case: %s, and lower_<level>, upper_<level>, quantile_<level>, seasonal_<season length>)", k, quoteList(OutputColumns))
 		}
 	}
 }

@@ -19,7 +19,7 @@ var OutputColumns = []string{
 	"method", "model", "period", "step", "value", "chosen", "interval_source",
 	// components and seasonal_factors
 	"decomposition", "form", "observed", "trend", "seasonal", "remainder", "adjusted",
-	"position", "factor", "count",
+	"position", "factor", "count", "season_length",
 	// problems
 	"stage", "severity", "code", "message",
 	// accuracy
@@ -31,10 +31,11 @@ var OutputColumns = []string{
 	"lead_time", "first_period", "last_period", "total", "total_source",
 }
 
-// OutputColumnPattern matches the columns named per level: the interval
-// bounds of forecasts (lower_80, upper_95, …) and the quantiles of totals
-// (quantile_95).
-var OutputColumnPattern = regexp.MustCompile(`(?i)^(lower|upper|quantile)_[0-9]+$`)
+// OutputColumnPattern matches the columns named per level or cycle: the
+// interval bounds of forecasts (lower_80, upper_95, …), the quantiles of
+// totals (quantile_95) and the seasonal component of each cycle of a
+// calendar with several season lengths (seasonal_7, seasonal_365).
+var OutputColumnPattern = regexp.MustCompile(`(?i)^(lower|upper|quantile|seasonal)_[0-9]+$`)
 
 // IsOutputColumn reports whether a key column named name would collide
 // with an output column.

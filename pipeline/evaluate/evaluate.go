@@ -85,6 +85,7 @@ type entryBacktest struct {
 	score  float64 // mean of the selection metric over the folds; NaN if ineligible
 	mase   float64 // mean MASE over the folds
 	reason string  // why the entry is ineligible
+	fills  []fill  // folds whose training slice was filled (imputed.go)
 }
 
 type foldScore struct {
@@ -156,6 +157,7 @@ func (e *Evaluation) Backtest(w *forecast.Work, s *series.Series) *Backtest {
 	for _, mr := range w.Methods {
 		r.entries = append(r.entries, e.backtestMethod(w, mr, y, folds))
 	}
+	r.Problems = append(r.Problems, imputedProblems(s.Key, r.entries)...)
 	for i := range r.entries {
 		e.scoreEntry(&r.entries[i])
 	}
@@ -248,6 +250,9 @@ func (e *Evaluation) backtestMethod(w *forecast.Work, mr forecast.Method, y []fl
 				eb.reason = fmt.Sprintf("failed on fold %d: %s", f.Index, forecast.TrimName(err.Error(), mr.Spec.Method))
 			}
 			continue
+		}
+		if res.Imputed > 0 {
+			eb.fills = append(eb.fills, fill{fold: f.Index, n: res.Imputed, of: len(train), how: res.Fill})
 		}
 		sc, _ := engines.PointScores(test, res.Values[:len(test)], train, m)
 		eb.folds = append(eb.folds, foldScore{fold: f, fc: res.Values, scores: sc})

@@ -26,6 +26,7 @@ type Method struct {
 type Result struct {
 	Series    *series.Series
 	Decomp    *engines.Decomposition
+	Cycles    []Cycle // with several season lengths: each cycle's part of Decomp
 	Forecasts []Forecast
 	Problems  []runfolder.Problem
 	Totals    []Total // the chosen entry's lead-time totals (spec totals)
@@ -118,15 +119,7 @@ func (w *Work) Run(s *series.Series) *Result {
 	}
 	m := w.Spec.Calendar.SeasonLength
 	if w.Decomposer != nil {
-		d, err := safeDecompose(w.Decomposer, s.Values, m)
-		if err != nil {
-			add("decompose", "error", ErrorCode(err, runfolder.CodeDecomposeFailed), "", err.Error())
-		} else {
-			r.Decomp = d
-			for _, msg := range d.Warnings {
-				add("decompose", "warning", WarningCode(msg, runfolder.CodeDecomposeWarning), "", msg)
-			}
-		}
+		w.decompose(r, add)
 	}
 	h := w.Spec.Horizon
 	for _, mr := range w.Methods {
@@ -136,6 +129,9 @@ func (w *Work) Run(s *series.Series) *Result {
 		if err != nil {
 			add("forecast", "error", ErrorCode(err, runfolder.CodeMethodFailed), label, TrimName(err.Error(), mr.Spec.Method))
 			continue
+		}
+		if res.Imputed > 0 {
+			add("forecast", "warning", runfolder.CodeImputed, label, ImputedMessage(res.Imputed, len(s.Values), res.Fill, "fitting"))
 		}
 		for _, msg := range res.Warnings {
 			add("forecast", "warning", WarningCode(msg, runfolder.CodeMethodWarning), label, TrimName(msg, mr.Spec.Method))
@@ -151,13 +147,27 @@ func TrimName(msg, name string) string {
 	return strings.TrimPrefix(msg, name+": ")
 }
 
-func safeDecompose(d engines.Decomposer, y []float64, m int) (out *engines.Decomposition, err error) {
+// safeDecompose decomposes y with d, turning a panic into an error. When
+// that fails on a series with missing values and d needs a complete series
+// (see Impute), it decomposes the filled series instead: STL always, a
+// classical decomposition only when the gaps leave a season position
+// without a detrended value (it decomposes around them otherwise).
+func safeDecompose(d engines.Decomposer, y []float64, m int) (out *engines.Decomposition, filled int, how string, err error) {
 	defer func() {
 		if p := recover(); p != nil {
 			out, err = nil, panicError(p)
 		}
 	}()
-	return d.Decompose(y, m)
+	out, err = d.Decompose(y, m)
+	if err == nil {
+		return out, 0, "", nil
+	}
+	train, filled, how, ierr := Impute(d, y, []int{m})
+	if ierr != nil || filled == 0 {
+		return nil, 0, "", err
+	}
+	out, err = d.Decompose(train, m)
+	return out, filled, how, err
 }
 
 // Output is one method fitted on one stretch of history.
@@ -166,6 +176,10 @@ type Output struct {
 	Model    string
 	Warnings []string
 	Variance []float64 // h-step forecast variance, when the method has one
+	// Imputed is the number of missing values filled before fitting (a
+	// method that needs a complete series; see Impute), Fill how.
+	Imputed int
+	Fill    string
 }
 
 // forecastVariancer is implemented by fitted models with a model-based
@@ -182,10 +196,15 @@ func SafeForecast(m engines.Method, y []float64, season, h int, wantVariance boo
 			res, err = Output{}, panicError(p)
 		}
 	}()
-	fitted, err := m.Fit(y, season)
+	train, filled, how, err := Impute(m, y, []int{season})
 	if err != nil {
 		return Output{}, err
 	}
+	fitted, err := m.Fit(train, season)
+	if err != nil {
+		return Output{}, err
+	}
+	res.Imputed, res.Fill = filled, how
 	res.Values = fitted.Forecast(h)
 	if len(res.Values) != h {
 		return Output{}, fmt.Errorf("internal error: %s returned %d forecasts for a horizon of %d", m.Name(), len(res.Values), h)
@@ -263,14 +282,51 @@ func panicError(p any) error {
 	return fmt.Errorf("internal error (panic: %v); the series was skipped for this method", p)
 }
 
-// SafeFit fits m on y, turning a panic into an error.
+// SafeFit fits m on y (filled first when m needs a complete series, as in
+// SafeForecast), turning a panic into an error.
 func SafeFit(m engines.Method, y []float64, season int) (f engines.Fitted, err error) {
 	defer func() {
 		if p := recover(); p != nil {
 			f, err = nil, panicError(p)
 		}
 	}()
-	return m.Fit(y, season)
+	train, _, _, err := Impute(m, y, []int{season})
+	if err != nil {
+		return nil, err
+	}
+	return m.Fit(train, season)
+}
+
+// Impute returns the series a method or decomposer x is fitted on: y
+// itself, or, when x needs a complete series (engines.CompleteNeeder) and
+// y has missing values, a copy filled by engines.SeasonalInterpolate with
+// the given season lengths, with the number of values filled and how
+// (engines.FillSeasonal or FillLinear). y must be a training slice (or the
+// whole history): a test window is never passed here, so it is never
+// filled. An all-missing y is returned as is, for x to refuse.
+func Impute(x any, y []float64, seasons []int) (train []float64, filled int, how string, err error) {
+	cn, ok := x.(engines.CompleteNeeder)
+	if !ok || !cn.NeedsComplete() {
+		return y, 0, "", nil
+	}
+	for _, v := range y {
+		if math.IsNaN(v) {
+			filled++
+		}
+	}
+	if filled == 0 || filled == len(y) {
+		return y, 0, "", nil
+	}
+	out, how, err := engines.SeasonalInterpolate(y, seasons)
+	if err != nil {
+		return nil, 0, "", err
+	}
+	return out, filled, how, nil
+}
+
+// ImputedMessage is the problems message of a fill of n of the total values.
+func ImputedMessage(n, total int, how, what string) string {
+	return fmt.Sprintf("%d of %d values missing; filled by %s interpolation before %s (the method needs a complete series)", n, total, how, what)
 }
 
 // ErrorCode classifies a method's or a decomposition's error for the

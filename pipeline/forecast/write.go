@@ -12,6 +12,7 @@ type Layout struct {
 	WithChosen    bool   // a backtest chose an entry per series
 	Levels        int    // interval levels
 	Decomposition string // the decomposition's method name
+	Seasons       []int  // every season length when more than one: a column per cycle
 }
 
 // WriteForecasts appends r's forecasts to the forecasts table t and counts
@@ -70,6 +71,9 @@ func (l Layout) WriteComponents(t *runfolder.TableWriter, r *Result, cal calenda
 		t.Float(5, d.Seasonal[i])
 		t.Float(6, d.Remainder[i])
 		t.Float(7, d.Adjusted[i])
+		if len(l.Seasons) > 1 {
+			l.cycleColumns(t, r.Cycles, i)
+		}
 		if err := t.EndRow(); err != nil {
 			return err
 		}
@@ -77,24 +81,63 @@ func (l Layout) WriteComponents(t *runfolder.TableWriter, r *Result, cal calenda
 	return nil
 }
 
-// WriteFactors appends r's seasonal factors to the seasonal_factors table t.
+// cycleColumns sets period i's seasonal_<m> columns (8, 9, …): each
+// cycle's component, NULL for a cycle left out.
+func (l Layout) cycleColumns(t *runfolder.TableWriter, cycles []Cycle, i int) {
+	for k := range l.Seasons {
+		v := math.NaN()
+		if k < len(cycles) && cycles[k].Seasonal != nil {
+			v = cycles[k].Seasonal[i]
+		}
+		t.Float(8+k, v)
+	}
+}
+
+// WriteFactors appends r's seasonal factors to the seasonal_factors table
+// t: with several season lengths, those of each cycle in ascending order,
+// after a season_length column.
 func (l Layout) WriteFactors(t *runfolder.TableWriter, r *Result, cal calendar.Calendar) error {
-	s, d := r.Series, r.Decomp
+	d := r.Decomp
 	if d == nil {
 		return nil
 	}
-	m := len(d.Factors)
+	if len(l.Seasons) <= 1 {
+		return l.writeFactors(t, r, cal, 0, d.Factors, d.Counts)
+	}
+	for _, c := range r.Cycles {
+		if c.Factors == nil {
+			continue
+		}
+		cc := cal
+		cc.Season = c.Season
+		if err := l.writeFactors(t, r, cc, c.Season, c.Factors, c.Counts); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// writeFactors writes one cycle's factors by calendar position (cal's
+// season is the cycle's); season > 0 fills the season_length column.
+func (l Layout) writeFactors(t *runfolder.TableWriter, r *Result, cal calendar.Calendar, season int, factors []float64, counts []int) error {
+	s, d := r.Series, r.Decomp
+	m := len(factors)
 	byPos := make([]int, m) // calendar position-1 → factor index
 	for j := 0; j < m; j++ {
 		byPos[cal.Position(s.Start+int64(j))-1] = j
 	}
+	col := 2
 	for pos, j := range byPos {
 		t.Key(s.Key)
 		t.Str(0, l.Decomposition)
 		t.Str(1, d.Form)
-		t.Int32(2, pos+1)
-		t.Float(3, d.Factors[j])
-		t.Int32(4, d.Counts[j])
+		if season > 0 {
+			t.Int32(2, season)
+			col = 3
+		}
+		t.Int32(col, pos+1)
+		t.Float(col+1, factors[j])
+		t.Int32(col+2, counts[j])
 		if err := t.EndRow(); err != nil {
 			return err
 		}

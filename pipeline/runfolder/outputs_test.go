@@ -13,8 +13,9 @@ import (
 func TestOutputColumnsAreTheTablesColumns(t *testing.T) {
 	s := &spec.Spec{Backtest: spec.Backtest{Folds: 2}, Intervals: spec.Intervals{Levels: []int{80, 95}}}
 	s.Totals.Levels = []int{90}
+	s.Calendar.Seasons = []int{7, 365}
 	var got []string
-	for _, cols := range [][]Column{ForecastColumns(s), ComponentColumns(), FactorColumns(), ProblemColumns(), AccuracyColumns(), ChoiceColumns(), TotalsColumns(s)} {
+	for _, cols := range [][]Column{ForecastColumns(s), ComponentColumns(s), FactorColumns(s), ProblemColumns(), AccuracyColumns(), ChoiceColumns(), TotalsColumns(s)} {
 		for _, c := range cols {
 			if spec.OutputColumnPattern.MatchString(c.name) {
 				if !spec.IsOutputColumn(c.name) {

@@ -33,6 +33,7 @@ const (
 	CodeBacktestShort     = "backtest_short"
 	CodeClosedPeriod      = "closed_period"
 	CodePartialClosure    = "partial_closure"
+	CodeImputed           = "imputed"
 )
 
 // WriteProblem appends p to the problems table t.

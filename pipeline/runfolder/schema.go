@@ -62,6 +62,7 @@ const (
 	ColRunnerUpScore  = "runner_up_score"
 	ColScore          = "score"
 	ColSeasonal       = "seasonal"
+	ColSeasonLength   = "season_length"
 	ColSeverity       = "severity"
 	ColSMAPE          = "smape"
 	ColStage          = "stage"
@@ -85,6 +86,11 @@ func ColUpper(level int) string { return fmt.Sprintf("upper_%d", level) }
 // ColQuantile names a quantile of a lead-time total in the totals table:
 // quantile_95.
 func ColQuantile(level int) string { return fmt.Sprintf("quantile_%d", level) }
+
+// ColSeasonalOf names the component of one seasonal cycle in the
+// components table of a calendar with several season lengths: seasonal_7,
+// seasonal_365.
+func ColSeasonalOf(season int) string { return fmt.Sprintf("seasonal_%d", season) }
 
 // TotalsColumns is the totals table's layout for a spec: a quantile column
 // per totals level, in spec order.
@@ -164,9 +170,11 @@ func ChoiceColumns() []Column {
 	}
 }
 
-// ComponentColumns is the fixed columns (after the keys) of the components table.
-func ComponentColumns() []Column {
-	return []Column{
+// ComponentColumns is the components table's layout (after the keys) for
+// a spec: with several season lengths (spec.Calendar.Seasons) a column per
+// cycle follows the columns of the single-season layout.
+func ComponentColumns(s *spec.Spec) []Column {
+	cols := []Column{
 		{ColDecomposition, colString, false},
 		{ColForm, colString, false},
 		{ColPeriod, colDate, false},
@@ -176,17 +184,30 @@ func ComponentColumns() []Column {
 		{ColRemainder, colFloat, true},
 		{ColAdjusted, colFloat, true},
 	}
+	if len(s.Calendar.Seasons) > 1 {
+		for _, m := range s.Calendar.Seasons {
+			cols = append(cols, Column{ColSeasonalOf(m), colFloat, true})
+		}
+	}
+	return cols
 }
 
-// FactorColumns is the fixed columns (after the keys) of the seasonal_factors table.
-func FactorColumns() []Column {
-	return []Column{
+// FactorColumns is the seasonal_factors table's layout (after the keys)
+// for a spec: with several season lengths a season_length column says
+// which cycle a row's position belongs to.
+func FactorColumns(s *spec.Spec) []Column {
+	cols := []Column{
 		{ColDecomposition, colString, false},
 		{ColForm, colString, false},
-		{ColPosition, colInt, false},
-		{ColFactor, colFloat, true},
-		{ColCount, colInt, false},
 	}
+	if len(s.Calendar.Seasons) > 1 {
+		cols = append(cols, Column{ColSeasonLength, colInt, false})
+	}
+	return append(cols,
+		Column{ColPosition, colInt, false},
+		Column{ColFactor, colFloat, true},
+		Column{ColCount, colInt, false},
+	)
 }
 
 // ProblemColumns is the fixed columns (after the keys) of the problems table.

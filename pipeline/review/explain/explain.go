@@ -18,6 +18,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -337,7 +338,19 @@ func loadComponents(sd *seriesData, t *runfolder.Table) {
 func loadFactors(sd *seriesData, t *runfolder.Table) {
 	key := sd.key
 	lo, hi := t.KeyRange(sd.keyCols, key)
+	// With several season lengths the table holds each cycle's factors,
+	// season_length ascending; the explanation lists the shortest cycle's.
+	several := slices.Contains(t.Columns(), runfolder.ColSeasonLength)
+	first := 0
+	if several && hi > lo {
+		first, _ = t.Int(runfolder.ColSeasonLength, lo)
+	}
 	for i := lo; i < hi; i++ {
+		if several {
+			if sl, _ := t.Int(runfolder.ColSeasonLength, i); sl != first {
+				continue
+			}
+		}
 		pos, _ := t.Int(runfolder.ColPosition, i)
 		cnt, _ := t.Int(runfolder.ColCount, i)
 		sd.factors = append(sd.factors, factorRow{pos, t.Float(runfolder.ColFactor, i), cnt})

@@ -115,6 +115,10 @@ type seriesData struct {
 	factors  []factor
 	problems []problemRow
 	totals   []totalRow // the totals table's rows, when the run has one
+
+	// factorSeason is the season_length of the factors shown (the
+	// series' first, shortest cycle) when the run has several; 0 otherwise.
+	factorSeason int
 }
 
 // change is how much one series' chosen forecast moved since the

@@ -3,6 +3,7 @@ package report
 import (
 	"fmt"
 	"math"
+	"slices"
 	"sort"
 	"strings"
 
@@ -277,11 +278,32 @@ func (m *model) loadFactors(r *runfolder.Run, by map[string]*seriesData, filter 
 	if !r.HasTable(runfolder.TableSeasonalFactors) {
 		return nil
 	}
-	return r.Scan(runfolder.TableSeasonalFactors, filter(runfolder.ColDecomposition, runfolder.ColForm, runfolder.ColPosition, runfolder.ColFactor, runfolder.ColCount), func(t *runfolder.Table) error {
+	cols := []string{runfolder.ColDecomposition, runfolder.ColForm, runfolder.ColPosition, runfolder.ColFactor, runfolder.ColCount}
+	// With several season lengths the table holds each cycle's factors
+	// (season_length ascending within a series); the chart shows the
+	// primary, shortest cycle.
+	have, err := r.Columns(runfolder.TableSeasonalFactors)
+	if err != nil {
+		return err
+	}
+	several := slices.Contains(have, runfolder.ColSeasonLength)
+	if several {
+		cols = append(cols, runfolder.ColSeasonLength)
+	}
+	return r.Scan(runfolder.TableSeasonalFactors, filter(cols...), func(t *runfolder.Table) error {
 		for i := 0; i < t.Rows; i++ {
 			s := by[t.Key(m.keys, i)]
 			if s == nil {
 				continue
+			}
+			if several {
+				sl, _ := t.Int(runfolder.ColSeasonLength, i)
+				if s.factorSeason == 0 {
+					s.factorSeason = sl
+				}
+				if sl != s.factorSeason {
+					continue
+				}
 			}
 			pos, ok := t.Int(runfolder.ColPosition, i)
 			if !ok {
