@@ -6,12 +6,14 @@
 package runfolder
 
 import (
+	"bytes"
 	"context"
 	"encoding/json"
 	"fmt"
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"time"
 
@@ -38,14 +40,48 @@ type CanonicalSpec struct {
 		Value string   `json:"value"`
 		Keys  []string `json:"keys"`
 	} `json:"columns"`
-	Calendar struct {
-		Frequency    string `json:"frequency"`
-		SeasonLength int    `json:"season_length"`
-	} `json:"calendar"`
-	Horizon   int `json:"horizon"`
+	Calendar  CanonicalCalendar `json:"calendar"`
+	Horizon   int               `json:"horizon"`
 	Intervals *struct {
 		Levels []int `json:"levels"`
 	} `json:"intervals"`
+}
+
+// CanonicalCalendar is the calendar of a canonical spec. The canonical
+// season_length is a number with one cycle and a list (ascending) with
+// several; SeasonLength is then the shortest and Seasons holds them all.
+type CanonicalCalendar struct {
+	Frequency    string
+	SeasonLength int
+	Seasons      []int // nil with one cycle
+}
+
+// UnmarshalJSON reads season_length as a number or a list.
+func (c *CanonicalCalendar) UnmarshalJSON(b []byte) error {
+	var raw struct {
+		Frequency    string          `json:"frequency"`
+		SeasonLength json.RawMessage `json:"season_length"`
+	}
+	if err := json.Unmarshal(b, &raw); err != nil {
+		return err
+	}
+	*c = CanonicalCalendar{Frequency: raw.Frequency}
+	sl := bytes.TrimSpace(raw.SeasonLength)
+	switch {
+	case len(sl) == 0 || string(sl) == "null":
+	case sl[0] == '[':
+		if err := json.Unmarshal(sl, &c.Seasons); err != nil {
+			return fmt.Errorf("calendar.season_length: %v", err)
+		}
+		if len(c.Seasons) > 0 {
+			c.SeasonLength = slices.Min(c.Seasons)
+		}
+	default:
+		if err := json.Unmarshal(sl, &c.SeasonLength); err != nil {
+			return fmt.Errorf("calendar.season_length: %v", err)
+		}
+	}
+	return nil
 }
 
 // Open reads a run folder's manifest. It fails on a folder that is not an
