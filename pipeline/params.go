@@ -65,8 +65,12 @@ func SeriesParams(ctx context.Context, runDir string, key []string) (map[string]
 		series.NewAttacher(ev, cal, s.Horizon).Attach(all[i])
 	}
 	out := map[string]map[string]float64{}
+	ec, err := forecast.Context(all[i], s.Calendar.AllSeasons(), 0, len(all[i].Values), s.Horizon)
+	if err != nil {
+		return nil, err
+	}
 	for _, mr := range methods {
-		fitted, err := forecast.SafeFit(mr.Engine, all[i].Values, s.Calendar.SeasonLength)
+		fitted, err := forecast.SafeFit(forecast.WithContext(mr.Engine, ec), all[i].Values, s.Calendar.SeasonLength)
 		if err != nil {
 			continue
 		}

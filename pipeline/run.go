@@ -354,6 +354,7 @@ func (x *execution) forecast(ctx context.Context) error {
 	return pass(ctx, x, func(i int, se *series.Series) *forecast.Result {
 		r := x.work.Run(se)
 		x.eval.Finish(x.p.Spec, i, r)
+		forecast.CloseBounds(r)
 		return r
 	}, func(i int, r *forecast.Result) error {
 		return x.tables.write(r)

@@ -170,6 +170,24 @@ var catalog = map[string]methodDef{
 				Doc: "allow a constant (the mean when no differencing, a drift with one difference; never with two or more)"},
 		},
 	},
+	"regression_arima": {
+		Doc: "regression on the drivers of the event sources and on Fourier terms of cycles longer than 24 periods, with ARIMA errors chosen automatically (dynamic regression); without drivers or long cycles the automatic ARIMA",
+		Options: map[string]optionDef{
+			"harmonics": {Kind: kindInt, Min: 1, Max: 50,
+				Doc: "sine–cosine pairs per long cycle (at most half the cycle length); default chosen per series, 1 to 10, by the AICc of a least-squares fit"},
+		},
+	},
+	"uplift": {
+		Doc: "a multiplicative uplift per driver of the event sources (sales in its periods ÷ the same season positions without drivers), laid on a simple seasonal baseline fitted to the history with the uplifts divided out; for short series",
+		Options: map[string]optionDef{
+			"base": {Kind: kindEnum, Allowed: []string{"stl", "seasonal_naive", "ses"}, Default: "stl",
+				Doc: "the baseline: stl (periodic STL, the adjusted series by SES), seasonal_naive, or ses; without a season ses"},
+		},
+	},
+	"mstl": {
+		Doc:      "MSTL decomposition over every season length of the calendar; the seasonally adjusted series forecast by a damped trend, each seasonal component's last cycle carried forward",
+		Seasonal: true,
+	},
 	"croston": {
 		Doc:     "Croston's method for intermittent demand: smoothed size ÷ smoothed interval",
 		Options: map[string]optionDef{"alpha": smoothingAlpha},

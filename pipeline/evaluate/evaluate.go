@@ -93,6 +93,9 @@ type foldScore struct {
 	fc     []float64
 	scores engines.Scores
 	failed bool
+	// noActuals: every actual of the test window is missing (closed
+	// periods, gaps), so no entry can be scored on this fold.
+	noActuals bool
 }
 
 // Backtest is pass 1's output for one series.
@@ -155,7 +158,7 @@ func (e *Evaluation) Backtest(w *forecast.Work, s *series.Series) *Backtest {
 		return r
 	}
 	for _, mr := range w.Methods {
-		r.entries = append(r.entries, e.backtestMethod(w, mr, y, folds))
+		r.entries = append(r.entries, e.backtestMethod(w, mr, s, folds))
 	}
 	r.Problems = append(r.Problems, imputedProblems(s.Key, r.entries)...)
 	for i := range r.entries {
@@ -234,16 +237,21 @@ func (e *Evaluation) combinationAlways() bool {
 }
 
 // backtestMethod runs one method on every fold of y.
-func (e *Evaluation) backtestMethod(w *forecast.Work, mr forecast.Method, y []float64, folds []fold) entryBacktest {
+// Closed periods are missing values (NaN) in y, so a test window's closed
+// periods are never scored: engines.PointScores skips NaN actuals.
+func (e *Evaluation) backtestMethod(w *forecast.Work, mr forecast.Method, s *series.Series, folds []fold) entryBacktest {
 	m := w.Spec.Calendar.SeasonLength
+	seasons := w.Spec.Calendar.AllSeasons()
+	y := s.Values
 	method := mr.Engine
 	eb := entryBacktest{label: mr.Spec.Label}
 	for _, f := range folds {
-		// The full slice expression caps the capacity: a method cannot
-		// reach past the origin by reslicing its input.
+		// SafeForecastSeries caps the training slice's capacity: a method
+		// cannot reach past the origin by reslicing its input. Drivers
+		// reach to the end of the fold's horizon (known in advance).
 		train := y[f.TrainStart:f.TrainEnd:f.TrainEnd]
 		test := y[f.TrainEnd:f.TestEnd]
-		res, err := forecast.SafeForecast(method, train, m, e.bt.Horizon, false)
+		res, err := forecast.SafeForecastSeries(method, s, seasons, f.TrainStart, f.TrainEnd, e.bt.Horizon, false)
 		if err != nil {
 			eb.folds = append(eb.folds, foldScore{fold: f, failed: true})
 			if eb.reason == "" {
@@ -255,7 +263,7 @@ func (e *Evaluation) backtestMethod(w *forecast.Work, mr forecast.Method, y []fl
 			eb.fills = append(eb.fills, fill{fold: f.Index, n: res.Imputed, of: len(train), how: res.Fill})
 		}
 		sc, _ := engines.PointScores(test, res.Values[:len(test)], train, m)
-		eb.folds = append(eb.folds, foldScore{fold: f, fc: res.Values, scores: sc})
+		eb.folds = append(eb.folds, foldScore{fold: f, fc: res.Values, scores: sc, noActuals: forecast.AllMissing(test)})
 	}
 	return eb
 }
@@ -269,8 +277,15 @@ func (e *Evaluation) scoreEntry(eb *entryBacktest) {
 		return
 	}
 	var sum, msum float64
-	mn := 0
+	mn, scored := 0, 0
 	for _, f := range eb.folds {
+		if f.noActuals {
+			// Every actual of the test window is missing (closed, or a
+			// gap): nothing to score, for any entry; the fold is left
+			// out of the means rather than making the entry ineligible.
+			continue
+		}
+		scored++
 		v := metricOf(f.scores, e.metric)
 		if math.IsNaN(v) || math.IsInf(v, 0) {
 			eb.reason = fmt.Sprintf("%s undefined on fold %d", e.metric, f.fold.Index)
@@ -282,8 +297,12 @@ func (e *Evaluation) scoreEntry(eb *entryBacktest) {
 			mn++
 		}
 	}
-	eb.score = sum / float64(len(eb.folds))
-	if mn == len(eb.folds) {
+	if scored == 0 {
+		eb.reason = "no observed value in any fold's test window"
+		return
+	}
+	eb.score = sum / float64(scored)
+	if mn == scored {
 		eb.mase = msum / float64(mn)
 	}
 }
@@ -334,7 +353,7 @@ func (e *Evaluation) combination(entries []entryBacktest, y []float64, m int, fo
 		train := y[f.TrainStart:f.TrainEnd:f.TrainEnd]
 		test := y[f.TrainEnd:f.TestEnd]
 		sc, _ := engines.PointScores(test, fc[:len(test)], train, m)
-		eb.folds = append(eb.folds, foldScore{fold: f, fc: fc, scores: sc})
+		eb.folds = append(eb.folds, foldScore{fold: f, fc: fc, scores: sc, noActuals: forecast.AllMissing(test)})
 	}
 	e.scoreEntry(&eb)
 	return eb

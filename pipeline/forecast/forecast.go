@@ -117,7 +117,6 @@ func (w *Work) Run(s *series.Series) *Result {
 		add("shape", "error", runfolder.CodeAllMissing, "", fmt.Sprintf("all %d values are missing; no decomposition or forecast", len(s.Values)))
 		return r
 	}
-	m := w.Spec.Calendar.SeasonLength
 	if w.Decomposer != nil {
 		w.decompose(r, add)
 	}
@@ -125,7 +124,7 @@ func (w *Work) Run(s *series.Series) *Result {
 	for _, mr := range w.Methods {
 		method := mr.Engine
 		label := mr.Spec.Label
-		res, err := SafeForecast(method, s.Values, m, h, w.WantVariance)
+		res, err := SafeForecastSeries(method, s, w.Spec.Calendar.AllSeasons(), 0, len(s.Values), h, w.WantVariance)
 		if err != nil {
 			add("forecast", "error", ErrorCode(err, runfolder.CodeMethodFailed), label, TrimName(err.Error(), mr.Spec.Method))
 			continue
@@ -133,6 +132,7 @@ func (w *Work) Run(s *series.Series) *Result {
 		if res.Imputed > 0 {
 			add("forecast", "warning", runfolder.CodeImputed, label, ImputedMessage(res.Imputed, len(s.Values), res.Fill, "fitting"))
 		}
+		CloseSteps(&res, s.FutureClosed)
 		for _, msg := range res.Warnings {
 			add("forecast", "warning", WarningCode(msg, runfolder.CodeMethodWarning), label, TrimName(msg, mr.Spec.Method))
 		}

@@ -25,12 +25,14 @@ $PY theta/make_theta.py           # theta/*.json (reads data/*.json)
 Rscript arima/make_arima.R        # arima/fits.json, arima/strength.json (stats::arima, decompose)
 $PY arima/make_kpss.py            # arima/kpss.json (statsmodels kpss)
 Rscript regarima/make_regarima.R  # regarima/fits.json (stats::arima(xreg =), predict(newxreg =))
+Rscript regarima/make_method.R    # regarima/method.json (the regression_arima method's chosen forms in R)
 Rscript mstl/make_mstl.R          # mstl/fits.json (the MSTL loop around stats::stl)
+Rscript uplift/make_uplift.R      # uplift/uplifts.json (the driver uplifts written out in base R)
 Rscript seasonal_auto/make_auto.R # seasonal_auto/ftest.json (stats::decompose, lm, anova, qf)
 
 # every fixture must be valid JSON
 n=0
-for f in data/*.json decompose/*.json statsmodels_decompose/*.json hw/*.json ets/*.json smoothing/*.json stl/*.json theta/*.json arima/*.json regarima/*.json mstl/*.json holdout/*.json metrics/*.json bench/*.json; do
+for f in data/*.json decompose/*.json statsmodels_decompose/*.json hw/*.json ets/*.json smoothing/*.json stl/*.json theta/*.json arima/*.json regarima/*.json uplift/*.json mstl/*.json holdout/*.json metrics/*.json bench/*.json; do
   $PY -m json.tool "$f" >/dev/null || { echo "invalid JSON: $f" >&2; exit 1; }
   n=$((n + 1))
 done
