@@ -129,10 +129,10 @@ func (w *Work) Run(s *series.Series) *Result {
 			add("forecast", "error", ErrorCode(err, runfolder.CodeMethodFailed), label, TrimName(err.Error(), mr.Spec.Method))
 			continue
 		}
-		CloseSteps(&res, s.FutureClosed)
 		if res.Imputed > 0 {
 			add("forecast", "warning", runfolder.CodeImputed, label, ImputedMessage(res.Imputed, len(s.Values), res.Fill, "fitting"))
 		}
+		CloseSteps(&res, s.FutureClosed)
 		for _, msg := range res.Warnings {
 			add("forecast", "warning", WarningCode(msg, runfolder.CodeMethodWarning), label, TrimName(msg, mr.Spec.Method))
 		}

@@ -6,12 +6,14 @@
 package runfolder
 
 import (
+	"bytes"
 	"context"
 	"encoding/json"
 	"fmt"
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"time"
 
@@ -45,17 +47,16 @@ type CanonicalSpec struct {
 	} `json:"intervals"`
 }
 
-// CanonicalCalendar is the calendar of a canonical spec. Its
-// season_length is a number with one season and a list with several
-// (spec.Calendar.Seasons, ascending); SeasonLength is then the first, the
-// primary season single-season readers use, and Seasons holds them all.
+// CanonicalCalendar is the calendar of a canonical spec. The canonical
+// season_length is a number with one cycle and a list (ascending) with
+// several; SeasonLength is then the shortest and Seasons holds them all.
 type CanonicalCalendar struct {
 	Frequency    string
 	SeasonLength int
-	Seasons      []int
+	Seasons      []int // nil with one cycle
 }
 
-// UnmarshalJSON reads season_length as a number or a list of numbers.
+// UnmarshalJSON reads season_length as a number or a list.
 func (c *CanonicalCalendar) UnmarshalJSON(b []byte) error {
 	var raw struct {
 		Frequency    string          `json:"frequency"`
@@ -65,22 +66,21 @@ func (c *CanonicalCalendar) UnmarshalJSON(b []byte) error {
 		return err
 	}
 	*c = CanonicalCalendar{Frequency: raw.Frequency}
-	if len(raw.SeasonLength) == 0 || string(raw.SeasonLength) == "null" {
-		return nil
-	}
-	if raw.SeasonLength[0] == '[' {
-		if err := json.Unmarshal(raw.SeasonLength, &c.Seasons); err != nil {
-			return fmt.Errorf("season_length: %v", err)
+	sl := bytes.TrimSpace(raw.SeasonLength)
+	switch {
+	case len(sl) == 0 || string(sl) == "null":
+	case sl[0] == '[':
+		if err := json.Unmarshal(sl, &c.Seasons); err != nil {
+			return fmt.Errorf("calendar.season_length: %v", err)
 		}
 		if len(c.Seasons) > 0 {
-			c.SeasonLength = c.Seasons[0]
+			c.SeasonLength = slices.Min(c.Seasons)
 		}
-		return nil
+	default:
+		if err := json.Unmarshal(sl, &c.SeasonLength); err != nil {
+			return fmt.Errorf("calendar.season_length: %v", err)
+		}
 	}
-	if err := json.Unmarshal(raw.SeasonLength, &c.SeasonLength); err != nil {
-		return fmt.Errorf("season_length: %v", err)
-	}
-	c.Seasons = []int{c.SeasonLength}
 	return nil
 }
 
