@@ -135,7 +135,10 @@ func grocerFolds(t *testing.T, run string, keys []string) (*runfolder.Table, map
 }
 
 func TestDailyGrocerEvidence(t *testing.T) {
-	if testing.Short() {
+	if testing.Short() || raceEnabled {
+		// Under the race detector the two runs take minutes; the
+		// concurrency of the same run is covered there by
+		// TestExampleTableHashes, which runs this example on 2 workers.
 		t.Skip("runs the daily-grocer example twice")
 	}
 	awareRun, aware := grocerRun(t, "spec.yaml")
