@@ -11,6 +11,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -82,17 +83,49 @@ func (r *Rows) internKey(parts []string) int32 {
 		}
 		r.keyBuf = append(r.keyBuf, p...)
 	}
-	if id, ok := r.keyIndex[string(r.keyBuf)]; ok {
+	return r.internJoined(r.keyBuf, len(parts))
+}
+
+// internJoined is the id of the key whose nparts values, joined by a 0
+// byte, are k (key values never hold a 0 byte: see keyCharError); -1 for
+// another shard's key.
+func (r *Rows) internJoined(k []byte, nparts int) int32 {
+	if id, ok := r.keyIndex[string(k)]; ok {
 		return id
 	}
-	if r.shardCount > 1 && int(ShardOf(r.keyBuf, r.shardCount)) != r.shardIndex {
+	if r.shardCount > 1 && int(ShardOf(k, r.shardCount)) != r.shardIndex {
 		return -1
 	}
 	id := int32(len(r.Keys))
-	r.keyIndex[string(r.keyBuf)] = id
-	r.Keys = append(r.Keys, append([]string(nil), parts...))
+	ks := string(k)
+	r.keyIndex[ks] = id
+	var parts []string
+	if nparts > 0 {
+		parts = strings.Split(ks, "\x00")
+	}
+	r.Keys = append(r.Keys, parts)
 	r.keyRows = append(r.keyRows, 0)
 	return id
+}
+
+// reserve makes room for n more rows in memory, up to the batch size
+// (rows past it are spilled), so that the columns do not grow by copying.
+func (r *Rows) reserve(n int64) {
+	if r.spill != nil {
+		return
+	}
+	if r.batchRows > 0 {
+		n = min(n, r.batchRows-int64(len(r.KeyIDs)))
+	}
+	if n <= 0 {
+		return
+	}
+	k := int(n)
+	r.KeyIDs = slices.Grow(r.KeyIDs, k)
+	r.Periods = slices.Grow(r.Periods, k)
+	r.Values = slices.Grow(r.Values, k)
+	r.files = slices.Grow(r.files, k)
+	r.lines = slices.Grow(r.lines, k)
 }
 
 func (r *Rows) add(key int32, period int64, value float64, file int32, line int64) {
