@@ -59,11 +59,12 @@ func readParquet(ctx context.Context, s *spec.Spec, f *InputFile, fileIdx int32,
 		return fmt.Errorf("%s: %v", f.Path, err)
 	}
 	defer rr.Release()
-	rs.reserve(pf.NumRows())
 	pr := convertBatches(rr, func(rec arrow.RecordBatch, base int64) *parquetChunk {
 		return convertParquet(rec, base, f.Path, s, cal)
 	})
 	defer pr.Release()
+	// While the first batches decode.
+	rs.reserve(pf.NumRows())
 
 	nk := len(s.Columns.Keys)
 	var row int64
