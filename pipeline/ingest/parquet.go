@@ -1,6 +1,7 @@
 package ingest
 
 import (
+	"bytes"
 	"context"
 	"crypto/sha256"
 	"encoding/hex"
@@ -80,11 +81,18 @@ func readParquet(ctx context.Context, s *spec.Spec, f *InputFile, fileIdx int32,
 		if len(errs) > 0 {
 			break
 		}
+		var prev []byte
+		var prevID int32
 		for i := 0; i < c.badRow; i++ {
 			if !rs.Times.observe(cal, c.times[i], fileIdx, row+int64(i)+1) {
 				continue
 			}
-			rs.add(rs.internJoined(c.key(i), nk), c.times[i].Period, c.values[i], fileIdx, row+int64(i)+1)
+			// Rows of one series usually follow each other.
+			k := c.key(i)
+			if prev == nil || !bytes.Equal(k, prev) {
+				prev, prevID = k, rs.internJoined(k, nk)
+			}
+			rs.add(prevID, c.times[i].Period, c.values[i], fileIdx, row+int64(i)+1)
 		}
 		rs.KeyBlanks += c.blanks
 		if c.bad != nil {

@@ -141,6 +141,9 @@ func convertParquet(rec arrow.RecordBatch, base int64, path string, s *spec.Spec
 	rule := s.Shaping.KeyVariants
 	c.keyEnd = make([]int32, n)
 	c.keys = make([]byte, 0, 16*n)
+	// Rows of one series usually follow each other: a key value equal to
+	// the row before's was checked and normalised already.
+	prevRaw, prevNorm := make([]string, len(keyCols)), make([]string, len(keyCols))
 	for i := 0; i < n; i++ {
 		for j, kc := range keyCols {
 			k, kerr := kc(i)
@@ -151,6 +154,13 @@ func convertParquet(rec arrow.RecordBatch, base int64, path string, s *spec.Spec
 			if j > 0 {
 				c.keys = append(c.keys, 0)
 			}
+			if i > 0 && k == prevRaw[j] {
+				if k == "" {
+					c.blanks++
+				}
+				c.keys = append(c.keys, prevNorm[j]...)
+				continue
+			}
 			if k == "" {
 				c.blanks++
 			} else if !utf8.ValidString(k) {
@@ -160,7 +170,8 @@ func convertParquet(rec arrow.RecordBatch, base int64, path string, s *spec.Spec
 				c.badRow, c.bad = i, &DataError{Msgs: []string{fmt.Sprintf("%s: row %d: column %q: %s", path, base+int64(i)+1, s.Columns.Keys[j], msg)}}
 				return c
 			}
-			c.keys = append(c.keys, normaliseKey(rule, k)...)
+			prevRaw[j], prevNorm[j] = k, normaliseKey(rule, k)
+			c.keys = append(c.keys, prevNorm[j]...)
 		}
 		c.keyEnd[i] = int32(len(c.keys))
 	}
