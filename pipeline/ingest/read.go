@@ -2,9 +2,7 @@ package ingest
 
 import (
 	"context"
-	"crypto/sha256"
 	"encoding/csv"
-	"encoding/hex"
 	"errors"
 	"fmt"
 	"io"
@@ -15,7 +13,6 @@ import (
 	"sort"
 	"strconv"
 	"strings"
-	"unicode/utf8"
 
 	"almanac/pipeline/calendar"
 	"almanac/pipeline/runfolder"
@@ -311,100 +308,6 @@ func (h *hashingReader) Read(p []byte) (int, error) {
 // so that a signal stops a long read within a fraction of a second.
 const ctxEvery = 4096
 
-func readCSV(ctx context.Context, s *spec.Spec, f *InputFile, fileIdx int32, src spec.Source, cal calendar.Calendar, rs *Rows) error {
-	fh, err := os.Open(f.Abs)
-	if err != nil {
-		return fmt.Errorf("%s: %v", f.Path, err)
-	}
-	defer fh.Close()
-	hr := &hashingReader{r: fh, h: sha256.New()}
-	cr := csv.NewReader(hr)
-	cr.ReuseRecord = true
-	cr.FieldsPerRecord = 0
-	if src.Delimiter != "" {
-		cr.Comma, _ = utf8.DecodeRuneInString(src.Delimiter)
-	}
-	header, err := readHeader(cr, f.Path, s)
-	if err != nil {
-		return err
-	}
-	idx, err := columnIndexes(f.Path, header, s)
-	if err != nil {
-		return err
-	}
-	timeIdx, valueIdx, keyIdx := idx[0], idx[1], idx[2:]
-	keyParts := make([]string, len(keyIdx))
-	var errs []string
-	var rows int64
-	for {
-		rec, err := cr.Read()
-		if err == io.EOF {
-			break
-		}
-		if err != nil {
-			errs = append(errs, csvError(f.Path, err).Error())
-			break
-		}
-		rows++
-		if rows%ctxEvery == 0 {
-			if err := ctx.Err(); err != nil {
-				return err
-			}
-		}
-		line, _ := cr.FieldPos(timeIdx)
-		if sameFields(rec, header) {
-			errs = append(errs, fmt.Sprintf("%s:%d: this line repeats the header; two exports were probably joined — remove the extra header line", f.Path, line))
-			if len(errs) >= MaxDataErrors {
-				break
-			}
-			continue
-		}
-		tv := strings.TrimSpace(rec[timeIdx])
-		rt, terr := cal.ParseSpan(tv)
-		p := rt.Period
-		if terr != nil {
-			errs = append(errs, fmt.Sprintf("%s:%d: column %q: %v", f.Path, line, s.Columns.Time, terr))
-		}
-		v, verr := parseValue(rec[valueIdx])
-		if verr != nil {
-			vl, _ := cr.FieldPos(valueIdx)
-			errs = append(errs, fmt.Sprintf("%s:%d: column %q: %v", f.Path, vl, s.Columns.Value, verr))
-		}
-		if len(errs) >= MaxDataErrors {
-			errs = append(errs, fmt.Sprintf("%s: stopped after %d errors", f.Path, MaxDataErrors))
-			break
-		}
-		if terr != nil || verr != nil {
-			continue
-		}
-		if kerrs := csvKey(cr, rec, keyIdx, keyParts, rs, s, f.Path); len(kerrs) > 0 {
-			errs = append(errs, kerrs...)
-			if len(errs) >= MaxDataErrors {
-				break
-			}
-			continue
-		}
-		if !rs.Times.observe(cal, rt, fileIdx, int64(line)) {
-			continue
-		}
-		rs.add(rs.internKey(keyParts), p, v, fileIdx, int64(line))
-	}
-	if len(errs) > 0 {
-		return &DataError{Msgs: errs}
-	}
-	// Drain what the csv reader did not consume so the hash covers the file.
-	if _, err := io.Copy(io.Discard, hr); err != nil {
-		return fmt.Errorf("%s: %v", f.Path, err)
-	}
-	f.Rows = rows
-	f.SHA256 = hex.EncodeToString(hr.h.Sum(nil))
-	if rows == 0 {
-		rs.Notes = append(rs.Notes, runfolder.Problem{Stage: "read", Severity: "warning", Code: runfolder.CodeNoRows,
-			Message: fmt.Sprintf("%s has a header line but no rows", f.Path)})
-	}
-	return nil
-}
-
 // readHeader reads a CSV file's header line, without a byte-order mark and
 // with its names trimmed.
 func readHeader(cr *csv.Reader, path string, s *spec.Spec) ([]string, error) {
@@ -539,23 +442,4 @@ func CompareKeys(a, b []string) int {
 		}
 	}
 	return 0
-}
-
-// csvKey fills keyParts from the key fields of rec, counting blank keys,
-// and returns an error for each key field that is not valid text.
-func csvKey(cr *csv.Reader, rec []string, keyIdx []int, keyParts []string, rs *Rows, s *spec.Spec, path string) []string {
-	var errs []string
-	for j, k := range keyIdx {
-		keyParts[j] = normaliseKey(rs.keyRule, rec[k])
-		if rec[k] == "" {
-			rs.KeyBlanks++
-		} else if !utf8.ValidString(rec[k]) {
-			kl, _ := cr.FieldPos(k)
-			errs = append(errs, fmt.Sprintf("%s:%d: column %q: %q is not valid UTF-8; almanac reads text as UTF-8 (re-export the file as UTF-8)", path, kl, s.Columns.Keys[j], rec[k]))
-		} else if msg := keyCharError(rec[k]); msg != "" {
-			kl, _ := cr.FieldPos(k)
-			errs = append(errs, fmt.Sprintf("%s:%d: column %q: %s", path, kl, s.Columns.Keys[j], msg))
-		}
-	}
-	return errs
 }
