@@ -41,7 +41,6 @@ type Rows struct {
 
 	Keys      [][]string // by key id
 	keyIndex  map[string]int32
-	keyBuf    []byte
 	files_    []InputFile
 	Missing   int64               // rows whose value was empty or NaN
 	KeyBlanks int64               // rows whose key had an empty component
@@ -70,17 +69,6 @@ type Rows struct {
 
 func newRows() *Rows {
 	return &Rows{keyIndex: map[string]int32{}, PanelLast: math.MinInt64}
-}
-
-func (r *Rows) internKey(parts []string) int32 {
-	r.keyBuf = r.keyBuf[:0]
-	for i, p := range parts {
-		if i > 0 {
-			r.keyBuf = append(r.keyBuf, 0)
-		}
-		r.keyBuf = append(r.keyBuf, p...)
-	}
-	return r.internJoined(r.keyBuf, len(parts))
 }
 
 // internJoined is the id of the key whose nparts values, joined by a 0
