@@ -55,8 +55,22 @@ func SeasonalityTest(y []float64, m int) (stat float64, seasonal bool) {
 		return 0, false
 	}
 	mean := s / float64(k)
+	// The deviations, once: with every one finite (no NaN, no infinity)
+	// no product can be NaN, and the sums below skip the check. Same
+	// operations in the same order either way, so the same bits.
+	var buf [256]float64
+	d := buf[:0]
+	if len(y) > len(buf) {
+		d = make([]float64, 0, len(y))
+	}
+	finite := true
 	var c0 float64
 	for _, v := range y {
+		e := v - mean
+		d = append(d, e)
+		if e-e != 0 {
+			finite = false
+		}
 		if v == v {
 			c0 += (v - mean) * (v - mean)
 		}
@@ -65,20 +79,49 @@ func SeasonalityTest(y []float64, m int) (stat float64, seasonal bool) {
 		return 0, false
 	}
 	var sum2, rm float64
-	for lag := 1; lag <= m; lag++ {
-		var c float64
-		for i := lag; i < len(y); i++ {
-			// NaN products drop out: NaN == NaN is false.
-			if p := (y[i] - mean) * (y[i-lag] - mean); p == p {
-				c += p
-			}
-		}
+	add := func(lag int, c float64) {
 		r := c / c0
 		if lag < m {
 			sum2 += r * r
 		} else {
 			rm = r
 		}
+	}
+	n := len(d)
+	lag := 1
+	if finite {
+		// Four lags per pass over the deviations: four independent sums,
+		// each still taken in ascending time order.
+		for ; lag+3 <= m && lag+3 < n; lag += 4 {
+			var s0, s1, s2, s3 float64
+			s0 += d[lag] * d[0]
+			s0 += d[lag+1] * d[1]
+			s1 += d[lag+1] * d[0]
+			s0 += d[lag+2] * d[2]
+			s1 += d[lag+2] * d[1]
+			s2 += d[lag+2] * d[0]
+			for i := lag + 3; i < n; i++ {
+				v := d[i]
+				s0 += v * d[i-lag]
+				s1 += v * d[i-lag-1]
+				s2 += v * d[i-lag-2]
+				s3 += v * d[i-lag-3]
+			}
+			add(lag, s0)
+			add(lag+1, s1)
+			add(lag+2, s2)
+			add(lag+3, s3)
+		}
+	}
+	for ; lag <= m; lag++ {
+		var c float64
+		for i := lag; i < n; i++ {
+			// NaN products drop out: NaN == NaN is false.
+			if p := d[i] * d[i-lag]; p == p {
+				c += p
+			}
+		}
+		add(lag, c)
 	}
 	stat = math.Abs(rm) / math.Sqrt((1+2*sum2)/float64(k))
 	return stat, stat > seasonalityZ90

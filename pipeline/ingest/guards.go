@@ -32,6 +32,8 @@ type TimeStats struct {
 	periods    map[int64]*periodStat
 	cache      *periodStat
 	cacheP     int64
+	dense      []*periodStat // periods[denseBase+i], for i in range (see lookup)
+	denseBase  int64
 
 	fine         bool           // some rows are dates finer than the calendar
 	StrayDropped map[int64]bool // periods dropped as stray
@@ -56,10 +58,11 @@ func (t *TimeStats) observe(cal calendar.Calendar, rt calendar.RowTime, file int
 	last := min(rt.Last, t.until)
 	st := t.cache
 	if st == nil || t.cacheP != rt.Period {
-		st = t.periods[rt.Period]
+		st = t.lookup(rt.Period)
 		if st == nil {
 			st = &periodStat{file: file, line: line, lastDay: last, first: rt.First}
 			t.periods[rt.Period] = st
+			t.remember(rt.Period, st)
 		}
 		t.cache, t.cacheP = st, rt.Period
 	}
@@ -67,6 +70,29 @@ func (t *TimeStats) observe(cal calendar.Calendar, rt calendar.RowTime, file int
 	st.lastDay = max(st.lastDay, last)
 	t.fine = t.fine || rt.Fine
 	return true
+}
+
+// denseSpan is how many periods around the first one seen observe finds
+// by index rather than in the map: rows of one series run through the
+// periods, so the period changes on almost every row of a sorted input.
+const denseSpan = 4096
+
+// lookup is the stat of period p, or nil.
+func (t *TimeStats) lookup(p int64) *periodStat {
+	if i := p - t.denseBase; i >= 0 && i < int64(len(t.dense)) {
+		return t.dense[i]
+	}
+	return t.periods[p]
+}
+
+// remember indexes the new stat st of period p when p lies in the span.
+func (t *TimeStats) remember(p int64, st *periodStat) {
+	if t.dense == nil {
+		t.dense, t.denseBase = make([]*periodStat, denseSpan), p-denseSpan/2
+	}
+	if i := p - t.denseBase; i >= 0 && i < int64(len(t.dense)) {
+		t.dense[i] = st
+	}
 }
 
 // partialLast reports whether the last period hi ends before the data's
@@ -176,6 +202,7 @@ func findStray(periods map[int64]*periodStat, gap int64) []int64 {
 // incomplete last period (dropped by default). It sets the periods the run
 // uses and returns the run-level notes.
 func (t *TimeStats) decideWindow(sh spec.Shaping, cal calendar.Calendar, files []InputFile) ([]runfolder.Problem, error) {
+	t.dense, t.cache = nil, nil // the readers' indexes; the map is the record from here on
 	var notes []runfolder.Problem
 	if t.afterUntil > 0 {
 		notes = append(notes, runfolder.Problem{Stage: "read", Severity: "warning", Code: runfolder.CodeAfterUntil,

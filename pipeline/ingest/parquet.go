@@ -1,6 +1,7 @@
 package ingest
 
 import (
+	"bytes"
 	"context"
 	"crypto/sha256"
 	"encoding/hex"
@@ -10,7 +11,6 @@ import (
 	"os"
 	"strconv"
 	"strings"
-	"unicode/utf8"
 
 	"github.com/apache/arrow-go/v18/arrow"
 	"github.com/apache/arrow-go/v18/arrow/array"
@@ -60,53 +60,45 @@ func readParquet(ctx context.Context, s *spec.Spec, f *InputFile, fileIdx int32,
 		return fmt.Errorf("%s: %v", f.Path, err)
 	}
 	defer rr.Release()
-	pr := prefetch(rr)
+	pr := convertBatches(rr, func(rec arrow.RecordBatch, base int64) *parquetChunk {
+		return convertParquet(rec, base, f.Path, s, cal)
+	})
 	defer pr.Release()
+	// While the first batches decode.
+	rs.reserve(pf.NumRows())
 
-	keyParts := make([]string, len(s.Columns.Keys))
+	nk := len(s.Columns.Keys)
 	var row int64
 	var errs []string
-	for pr.Next() {
+	for c := pr.Next(); c != nil; c = pr.Next() {
 		if err := ctx.Err(); err != nil {
 			return err
 		}
-		rec := pr.RecordBatch()
-		n := int(rec.NumRows())
-		tcol, vcol := rec.Column(0), rec.Column(1)
-		periods, terrs := parquetPeriods(f.Path, s.Columns.Time, tcol, cal, row)
-		values, verr := parquetValues(f.Path, s.Columns.Value, vcol, row)
-		errs = append(errs, terrs...)
-		if verr != nil {
-			errs = append(errs, verr.Error())
+		if c.panic != nil {
+			panic(c.panic)
 		}
+		errs = append(errs, c.errs...)
 		if len(errs) > 0 {
 			break
 		}
-		keyCols, kerr := parquetKeyColumns(f.Path, s.Columns.Keys, rec)
-		if kerr != nil {
-			return kerr
-		}
-		for i := 0; i < n; i++ {
-			for j, kc := range keyCols {
-				k, kerr := kc(i)
-				if kerr != nil {
-					return kerr
-				}
-				keyParts[j] = normaliseKey(rs.keyRule, k)
-				if k == "" {
-					rs.KeyBlanks++
-				} else if !utf8.ValidString(k) {
-					return &DataError{Msgs: []string{fmt.Sprintf("%s: row %d: column %q: %q is not valid UTF-8; almanac reads text as UTF-8", f.Path, row+int64(i)+1, s.Columns.Keys[j], k)}}
-				} else if msg := keyCharError(k); msg != "" {
-					return &DataError{Msgs: []string{fmt.Sprintf("%s: row %d: column %q: %s", f.Path, row+int64(i)+1, s.Columns.Keys[j], msg)}}
-				}
-			}
-			if !rs.Times.observe(cal, periods[i], fileIdx, row+int64(i)+1) {
+		var prev []byte
+		var prevID int32
+		for i := 0; i < c.badRow; i++ {
+			if !rs.Times.observe(cal, c.times[i], fileIdx, row+int64(i)+1) {
 				continue
 			}
-			rs.add(rs.internKey(keyParts), periods[i].Period, values[i], fileIdx, row+int64(i)+1)
+			// Rows of one series usually follow each other.
+			k := c.key(i)
+			if prev == nil || !bytes.Equal(k, prev) {
+				prev, prevID = k, rs.internJoined(k, nk)
+			}
+			rs.add(prevID, c.times[i].Period, c.values[i], fileIdx, row+int64(i)+1)
 		}
-		row += int64(n)
+		rs.KeyBlanks += c.blanks
+		if c.bad != nil {
+			return c.bad
+		}
+		row += int64(c.n)
 	}
 	if len(errs) > 0 {
 		if len(errs) > MaxDataErrors {

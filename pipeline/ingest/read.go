@@ -2,19 +2,17 @@ package ingest
 
 import (
 	"context"
-	"crypto/sha256"
 	"encoding/csv"
-	"encoding/hex"
 	"errors"
 	"fmt"
 	"io"
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
-	"unicode/utf8"
 
 	"almanac/pipeline/calendar"
 	"almanac/pipeline/runfolder"
@@ -43,7 +41,6 @@ type Rows struct {
 
 	Keys      [][]string // by key id
 	keyIndex  map[string]int32
-	keyBuf    []byte
 	files_    []InputFile
 	Missing   int64               // rows whose value was empty or NaN
 	KeyBlanks int64               // rows whose key had an empty component
@@ -77,28 +74,53 @@ func newRows() *Rows {
 	return &Rows{keyIndex: map[string]int32{}, PanelLast: math.MinInt64}
 }
 
-func (r *Rows) internKey(parts []string) int32 {
-	r.keyBuf = r.keyBuf[:0]
-	for i, p := range parts {
-		if i > 0 {
-			r.keyBuf = append(r.keyBuf, 0)
-		}
-		r.keyBuf = append(r.keyBuf, p...)
-	}
-	if id, ok := r.keyIndex[string(r.keyBuf)]; ok {
+// internJoined is the id of the key whose nparts values, joined by a 0
+// byte, are k (key values never hold a 0 byte: see keyCharError); -1 for
+// another shard's key.
+func (r *Rows) internJoined(k []byte, nparts int) int32 {
+	if id, ok := r.keyIndex[string(k)]; ok {
 		return id
 	}
 	if r.keyValues != nil {
+		var parts []string
+		if nparts > 0 {
+			parts = strings.Split(string(k), "\x00")
+		}
 		r.noteKeyValues(parts)
 	}
-	if r.shardCount > 1 && int(ShardOf(r.keyBuf, r.shardCount)) != r.shardIndex {
+	if r.shardCount > 1 && int(ShardOf(k, r.shardCount)) != r.shardIndex {
 		return -1
 	}
 	id := int32(len(r.Keys))
-	r.keyIndex[string(r.keyBuf)] = id
-	r.Keys = append(r.Keys, append([]string(nil), parts...))
+	ks := string(k)
+	r.keyIndex[ks] = id
+	var parts []string
+	if nparts > 0 {
+		parts = strings.Split(ks, "\x00")
+	}
+	r.Keys = append(r.Keys, parts)
 	r.keyRows = append(r.keyRows, 0)
 	return id
+}
+
+// reserve makes room for n more rows in memory, up to the batch size
+// (rows past it are spilled), so that the columns do not grow by copying.
+func (r *Rows) reserve(n int64) {
+	if r.spill != nil {
+		return
+	}
+	if r.batchRows > 0 {
+		n = min(n, r.batchRows-int64(len(r.KeyIDs)))
+	}
+	if n <= 0 {
+		return
+	}
+	k := int(n)
+	r.KeyIDs = slices.Grow(r.KeyIDs, k)
+	r.Periods = slices.Grow(r.Periods, k)
+	r.Values = slices.Grow(r.Values, k)
+	r.files = slices.Grow(r.files, k)
+	r.lines = slices.Grow(r.lines, k)
 }
 
 func (r *Rows) add(key int32, period int64, value float64, file int32, line int64) {
@@ -306,100 +328,6 @@ func (h *hashingReader) Read(p []byte) (int, error) {
 // so that a signal stops a long read within a fraction of a second.
 const ctxEvery = 4096
 
-func readCSV(ctx context.Context, s *spec.Spec, f *InputFile, fileIdx int32, src spec.Source, cal calendar.Calendar, rs *Rows) error {
-	fh, err := os.Open(f.Abs)
-	if err != nil {
-		return fmt.Errorf("%s: %v", f.Path, err)
-	}
-	defer fh.Close()
-	hr := &hashingReader{r: fh, h: sha256.New()}
-	cr := csv.NewReader(hr)
-	cr.ReuseRecord = true
-	cr.FieldsPerRecord = 0
-	if src.Delimiter != "" {
-		cr.Comma, _ = utf8.DecodeRuneInString(src.Delimiter)
-	}
-	header, err := readHeader(cr, f.Path, s)
-	if err != nil {
-		return err
-	}
-	idx, err := columnIndexes(f.Path, header, s)
-	if err != nil {
-		return err
-	}
-	timeIdx, valueIdx, keyIdx := idx[0], idx[1], idx[2:]
-	keyParts := make([]string, len(keyIdx))
-	var errs []string
-	var rows int64
-	for {
-		rec, err := cr.Read()
-		if err == io.EOF {
-			break
-		}
-		if err != nil {
-			errs = append(errs, csvError(f.Path, err).Error())
-			break
-		}
-		rows++
-		if rows%ctxEvery == 0 {
-			if err := ctx.Err(); err != nil {
-				return err
-			}
-		}
-		line, _ := cr.FieldPos(timeIdx)
-		if sameFields(rec, header) {
-			errs = append(errs, fmt.Sprintf("%s:%d: this line repeats the header; two exports were probably joined — remove the extra header line", f.Path, line))
-			if len(errs) >= MaxDataErrors {
-				break
-			}
-			continue
-		}
-		tv := strings.TrimSpace(rec[timeIdx])
-		rt, terr := cal.ParseSpan(tv)
-		p := rt.Period
-		if terr != nil {
-			errs = append(errs, fmt.Sprintf("%s:%d: column %q: %v", f.Path, line, s.Columns.Time, terr))
-		}
-		v, verr := parseValue(rec[valueIdx])
-		if verr != nil {
-			vl, _ := cr.FieldPos(valueIdx)
-			errs = append(errs, fmt.Sprintf("%s:%d: column %q: %v", f.Path, vl, s.Columns.Value, verr))
-		}
-		if len(errs) >= MaxDataErrors {
-			errs = append(errs, fmt.Sprintf("%s: stopped after %d errors", f.Path, MaxDataErrors))
-			break
-		}
-		if terr != nil || verr != nil {
-			continue
-		}
-		if kerrs := csvKey(cr, rec, keyIdx, keyParts, rs, s, f.Path); len(kerrs) > 0 {
-			errs = append(errs, kerrs...)
-			if len(errs) >= MaxDataErrors {
-				break
-			}
-			continue
-		}
-		if !rs.Times.observe(cal, rt, fileIdx, int64(line)) {
-			continue
-		}
-		rs.add(rs.internKey(keyParts), p, v, fileIdx, int64(line))
-	}
-	if len(errs) > 0 {
-		return &DataError{Msgs: errs}
-	}
-	// Drain what the csv reader did not consume so the hash covers the file.
-	if _, err := io.Copy(io.Discard, hr); err != nil {
-		return fmt.Errorf("%s: %v", f.Path, err)
-	}
-	f.Rows = rows
-	f.SHA256 = hex.EncodeToString(hr.h.Sum(nil))
-	if rows == 0 {
-		rs.Notes = append(rs.Notes, runfolder.Problem{Stage: "read", Severity: "warning", Code: runfolder.CodeNoRows,
-			Message: fmt.Sprintf("%s has a header line but no rows", f.Path)})
-	}
-	return nil
-}
-
 // readHeader reads a CSV file's header line, without a byte-order mark and
 // with its names trimmed.
 func readHeader(cr *csv.Reader, path string, s *spec.Spec) ([]string, error) {
@@ -534,23 +462,4 @@ func CompareKeys(a, b []string) int {
 		}
 	}
 	return 0
-}
-
-// csvKey fills keyParts from the key fields of rec, counting blank keys,
-// and returns an error for each key field that is not valid text.
-func csvKey(cr *csv.Reader, rec []string, keyIdx []int, keyParts []string, rs *Rows, s *spec.Spec, path string) []string {
-	var errs []string
-	for j, k := range keyIdx {
-		keyParts[j] = normaliseKey(rs.keyRule, rec[k])
-		if rec[k] == "" {
-			rs.KeyBlanks++
-		} else if !utf8.ValidString(rec[k]) {
-			kl, _ := cr.FieldPos(k)
-			errs = append(errs, fmt.Sprintf("%s:%d: column %q: %q is not valid UTF-8; almanac reads text as UTF-8 (re-export the file as UTF-8)", path, kl, s.Columns.Keys[j], rec[k]))
-		} else if msg := keyCharError(rec[k]); msg != "" {
-			kl, _ := cr.FieldPos(k)
-			errs = append(errs, fmt.Sprintf("%s:%d: column %q: %s", path, kl, s.Columns.Keys[j], msg))
-		}
-	}
-	return errs
 }

@@ -62,6 +62,8 @@ type TableWriter struct {
 	cols   []Column
 	rows   int64
 	buffer int
+	// strData is each string column's data bytes in the last full batch.
+	strData []int
 }
 
 func tableSchema(keyNames []string, cols []Column) *arrow.Schema {
@@ -219,8 +221,30 @@ func (t *TableWriter) flush() error {
 	if t.buffer == 0 {
 		return nil
 	}
+	full := t.buffer >= flushRows
+	if full && t.strData == nil {
+		t.strData = make([]int, len(t.strs))
+	}
+	if full {
+		for i, b := range t.strs {
+			if b != nil {
+				t.strData[i] = b.DataLen()
+			}
+		}
+	}
 	t.enc.write(t.rb.NewRecordBatch())
 	t.buffer = 0
+	if full {
+		// A table that filled one batch will likely fill the next: size
+		// the builders for it at once rather than by doubling (which
+		// allocates and copies twice the batch per column).
+		t.rb.Reserve(flushRows)
+		for i, b := range t.strs {
+			if b != nil {
+				b.ReserveData(t.strData[i] + t.strData[i]/4)
+			}
+		}
+	}
 	return nil
 }
 
