@@ -116,3 +116,40 @@ func TestChooseCombination(t *testing.T) {
 		t.Errorf("choose: lowest: error %v", err)
 	}
 }
+
+// TestAutomaticSpecEventAware: a spec that leaves out methods but knows
+// drivers or several cycles gets the methods that use them, and each series
+// takes its best backtest entry instead of the combination everywhere.
+func TestAutomaticSpecEventAware(t *testing.T) {
+	drivers := "events:\n  - {path: d.csv, kind: driver, columns: {date: day, name: event}}\n"
+	closures := "events:\n  - {path: c.csv, kind: closure, columns: {date: day}}\n"
+	for _, c := range []struct {
+		name, extra, pool string
+		choose            string
+	}{
+		{"closures only", "calendar: {frequency: day}\n" + closures,
+			"smoothing_auto,theta,holt_winters_damped,stl", ChooseCombination},
+		{"drivers", "calendar: {frequency: day}\n" + drivers,
+			"smoothing_auto,theta,holt_winters_damped,stl,regression_arima,uplift", ChooseBest},
+		{"several cycles", "calendar: {frequency: day, season_length: [7, 365]}\n",
+			"smoothing_auto,theta,holt_winters_damped,stl,regression_arima,mstl", ChooseBest},
+		{"drivers and several cycles", "calendar: {frequency: day, season_length: [365, 7]}\n" + drivers,
+			"smoothing_auto,theta,holt_winters_damped,stl,regression_arima,uplift,mstl", ChooseBest},
+		{"yearly with drivers", "calendar: {frequency: year}\n" + drivers,
+			"smoothing_auto,theta,holt_damped,regression_arima,uplift", ChooseBest},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			s, err := Parse([]byte(automaticBase+c.extra), "auto.yaml")
+			if err != nil {
+				t.Fatal(err)
+			}
+			if got := labels(s.Methods); got != c.pool {
+				t.Errorf("pool = %s, want %s", got, c.pool)
+			}
+			sel := s.Selection
+			if sel.Choose != c.choose || sel.Combine == nil || sel.Combine.Top != len(s.Methods) || sel.Combine.Kind != CombineWeighted {
+				t.Errorf("selection = %+v, combine %+v; want choose %s over all %d", sel, sel.Combine, c.choose, len(s.Methods))
+			}
+		})
+	}
+}

@@ -113,7 +113,7 @@ func (d *decoder) specDefaults(s *Spec, sn *specNodes, root *yaml.Node) {
 		// The default automatic spec: almanac's pool, and its backtest
 		// and selection where the spec gives none.
 		s.Automatic = true
-		s.Methods = DefaultMethods(s.Calendar.SeasonLength)
+		s.Methods = DefaultMethods(s.Calendar, hasDrivers(s))
 		sn.methodNodes = make([]*yaml.Node, len(s.Methods))
 		for i := range sn.methodNodes {
 			sn.methodNodes[i] = root
@@ -122,7 +122,7 @@ func (d *decoder) specDefaults(s *Spec, sn *specNodes, root *yaml.Node) {
 			s.Backtest = DefaultAutomaticBacktest
 		}
 		if sn.selectionNode == nil {
-			s.Selection = DefaultAutomaticSelection(len(s.Methods))
+			s.Selection = DefaultAutomaticSelection(len(s.Methods), EventAware(s))
 		}
 	}
 	if s.Selection.Choose == ChooseCombination && s.Selection.Combine == nil && d.chooseNode != nil {
