@@ -153,3 +153,13 @@ func TestAutomaticSpecEventAware(t *testing.T) {
 		})
 	}
 }
+
+// TestCombineTopErrorPointsAtTop: the error about a combination wider than
+// the method list names the line and column of top itself.
+func TestCombineTopErrorPointsAtTop(t *testing.T) {
+	src := minimal + "backtest: {folds: 2}\nselection:\n  metric: mase\n  combine: {kind: mean, top: 5}\n"
+	_, err := Parse([]byte(src), "c.yaml")
+	if err == nil || !strings.Contains(err.Error(), "c.yaml:11:30: selection.combine.top: top is 5 but the spec names only 1 method(s)") {
+		t.Fatalf("error = %v", err)
+	}
+}

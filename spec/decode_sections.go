@@ -148,7 +148,7 @@ func (d *decoder) checkSelection(s *Spec, sn *specNodes) {
 		d.errAt(sn.selectionNode, "selection", "selection ranks methods by their backtest; add a backtest section")
 	}
 	if c := s.Selection.Combine; c != nil && c.Top > len(s.Methods) && len(s.Methods) > 0 && len(d.errs) == 0 {
-		d.errAt(sn.selectionNode, "selection.combine.top", "top is %d but the spec names only %d method(s)", c.Top, len(s.Methods))
+		d.errAt(childAt(sn.selectionNode, "combine", "top"), "selection.combine.top", "top is %d but the spec names only %d method(s)", c.Top, len(s.Methods))
 	}
 }
 
@@ -330,4 +330,31 @@ func defaultNote(seasonNode *yaml.Node, f Frequency) string {
 		return ""
 	}
 	return fmt.Sprintf(" (the default for frequency %s); set calendar.season_length", f)
+}
+
+// childAt returns the node at the path of keys below the mapping n, or
+// the deepest mapping on the way when a key is absent, so that an error
+// about a value points at it. Aliases are followed (the decoder has
+// already counted and bounded them).
+func childAt(n *yaml.Node, keys ...string) *yaml.Node {
+	for _, k := range keys {
+		for n != nil && n.Kind == yaml.AliasNode {
+			n = n.Alias
+		}
+		if n == nil || n.Kind != yaml.MappingNode {
+			return n
+		}
+		var next *yaml.Node
+		for i := 0; i+1 < len(n.Content); i += 2 {
+			if n.Content[i].Value == k {
+				next = n.Content[i+1]
+				break
+			}
+		}
+		if next == nil {
+			return n
+		}
+		n = next
+	}
+	return n
 }
