@@ -70,7 +70,7 @@ func SeriesParams(ctx context.Context, runDir string, key []string) (map[string]
 		return nil, err
 	}
 	for _, mr := range methods {
-		fitted, err := forecast.SafeFit(forecast.WithContext(mr.Engine, ec), all[i].Values, s.Calendar.SeasonLength)
+		fitted, err := forecast.SafeFit(forecast.WithContext(mr.Engine, ec), all[i].Values, s.Calendar.AllSeasons())
 		if err != nil {
 			continue
 		}

@@ -72,7 +72,7 @@ func SafeForecastSeries(m engines.Method, s *series.Series, seasons []int, a, b,
 	if err != nil {
 		return Output{}, err
 	}
-	return SafeForecast(WithContext(m, c), s.Values[a:b:b], seasons[0], h, wantVariance)
+	return safeForecast(WithContext(m, c), s.Values[a:b:b], seasons, h, wantVariance)
 }
 
 // CloseSteps sets to 0 the forecasts of the steps closed (closed[k] for

@@ -191,12 +191,20 @@ type forecastVariancer interface {
 // SafeForecast fits and forecasts one method on one series. A panic inside
 // the method is caught and becomes an error for this series and method only.
 func SafeForecast(m engines.Method, y []float64, season, h int, wantVariance bool) (res Output, err error) {
+	return safeForecast(m, y, []int{season}, h, wantVariance)
+}
+
+// safeForecast is SafeForecast with every season length of the calendar
+// (seasons[0] the one the method fits); a fill for a method that needs a
+// complete series uses them all.
+func safeForecast(m engines.Method, y []float64, seasons []int, h int, wantVariance bool) (res Output, err error) {
 	defer func() {
 		if p := recover(); p != nil {
 			res, err = Output{}, panicError(p)
 		}
 	}()
-	train, filled, how, err := Impute(m, y, []int{season})
+	season := seasons[0]
+	train, filled, how, err := Impute(m, y, seasons)
 	if err != nil {
 		return Output{}, err
 	}
@@ -283,18 +291,19 @@ func panicError(p any) error {
 }
 
 // SafeFit fits m on y (filled first when m needs a complete series, as in
-// SafeForecast), turning a panic into an error.
-func SafeFit(m engines.Method, y []float64, season int) (f engines.Fitted, err error) {
+// SafeForecast), turning a panic into an error. seasons is every season
+// length of the calendar (spec.Calendar.AllSeasons); m fits seasons[0].
+func SafeFit(m engines.Method, y []float64, seasons []int) (f engines.Fitted, err error) {
 	defer func() {
 		if p := recover(); p != nil {
 			f, err = nil, panicError(p)
 		}
 	}()
-	train, _, _, err := Impute(m, y, []int{season})
+	train, _, _, err := Impute(m, y, seasons)
 	if err != nil {
 		return nil, err
 	}
-	return m.Fit(train, season)
+	return m.Fit(train, seasons[0])
 }
 
 // Impute returns the series a method or decomposer x is fitted on: y

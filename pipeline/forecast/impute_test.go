@@ -173,3 +173,54 @@ func TestDecomposeFillsHoles(t *testing.T) {
 		}
 	}
 }
+
+// With several season lengths the fill of a method's training data uses
+// them all, in the final forecast (SafeForecastSeries) as in the
+// decomposition: stl fitted on the 7-period cycle forecasts exactly the
+// series that SeasonalInterpolate fills with both cycles, not the one it
+// fills with the 7-period cycle alone.
+func TestFillUsesEverySeason(t *testing.T) {
+	n := 140
+	full := make([]float64, n)
+	for i := range full {
+		full[i] = 100 + 0.2*float64(i) + 8*math.Sin(2*math.Pi*float64(i)/7) + 15*math.Cos(2*math.Pi*float64(i)/28)
+	}
+	y := withHoles(full, []int{30, 31, 60, 97, 98, 99})
+	m := mustMethod(t, "stl", nil)
+	s := &series.Series{Values: y}
+	got, err := SafeForecastSeries(m, s, []int{7, 28}, 0, n, 14, false)
+	if err != nil {
+		t.Fatal(err)
+	}
+	both, _, err := engines.SeasonalInterpolate(y, []int{7, 28})
+	if err != nil {
+		t.Fatal(err)
+	}
+	one, _, err := engines.SeasonalInterpolate(y, []int{7})
+	if err != nil {
+		t.Fatal(err)
+	}
+	want, err := SafeForecast(m, both, 7, 14, false)
+	if err != nil {
+		t.Fatal(err)
+	}
+	other, err := SafeForecast(m, one, 7, 14, false)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got.Imputed != 6 {
+		t.Errorf("imputed %d, want 6", got.Imputed)
+	}
+	differ := false
+	for k := range got.Values {
+		if got.Values[k] != want.Values[k] {
+			t.Errorf("step %d: %.10g, want %.10g (the fill with both cycles)", k+1, got.Values[k], want.Values[k])
+		}
+		if other.Values[k] != want.Values[k] {
+			differ = true
+		}
+	}
+	if !differ {
+		t.Error("the fills with one and with both cycles give the same forecast; the test proves nothing")
+	}
+}
