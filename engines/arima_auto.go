@@ -179,47 +179,46 @@ func arimaSeasonalStrength(y []float64, m int) (float64, bool) {
 // returns the number of points it used (used) and the number of season
 // positions among them (groups).
 func seasonalStrength(y []float64, m int) (strength float64, used, groups int, ok bool) {
-	n := len(y)
-	buf := make([]float64, arimaDecomposeLen(n, m)+2*n)
-	_, s, r := arimaDecompose(y, m, buf)
-	rs := buf[len(buf)-2*n : len(buf)-2*n : len(buf)-n]
-	ss := buf[len(buf)-n : len(buf)-n]
+	_, s, r := arimaDecompose(y, m, make([]float64, arimaDecomposeLen(len(y), m)))
+	// The variances of R and of S + R over the points where both are known,
+	// summed in time order (the sample variance: mean, then squared
+	// deviations over used − 1).
+	known := func(t int) bool { return !math.IsNaN(r[t]) && !math.IsNaN(s[t]) }
 	seen := make([]bool, m)
+	sr, ssr := 0.0, 0.0
 	for t := range r {
-		if !math.IsNaN(r[t]) && !math.IsNaN(s[t]) {
-			rs = append(rs, r[t])
-			ss = append(ss, s[t]+r[t])
+		if known(t) {
+			sr += r[t]
+			ssr += s[t] + r[t]
+			used++
 			if !seen[t%m] {
 				seen[t%m] = true
 				groups++
 			}
 		}
 	}
-	if len(rs) < 3 {
+	if used < 3 {
 		return 0, 0, 0, false
 	}
-	vr, vs := arimaSampleVar(rs), arimaSampleVar(ss)
+	mr, ms := sr/float64(used), ssr/float64(used)
+	vr, vs := 0.0, 0.0
+	for t := range r {
+		if known(t) {
+			vr += (r[t] - mr) * (r[t] - mr)
+			d := s[t] + r[t]
+			vs += (d - ms) * (d - ms)
+		}
+	}
+	vr /= float64(used - 1)
+	vs /= float64(used - 1)
 	if !(vs > 0) {
 		return 0, 0, 0, false
 	}
-	return math.Max(0, 1-vr/vs), len(rs), groups, true
+	return math.Max(0, 1-vr/vs), used, groups, true
 }
 
 // arimaDecomposeLen is the length of the buffer arimaDecompose fills.
 func arimaDecomposeLen(n, m int) int { return 3*n + 2*(m/2) + 1 + m }
-
-func arimaSampleVar(x []float64) float64 {
-	mean := 0.0
-	for _, v := range x {
-		mean += v
-	}
-	mean /= float64(len(x))
-	s := 0.0
-	for _, v := range x {
-		s += (v - mean) * (v - mean)
-	}
-	return s / float64(len(x)-1)
-}
 
 // arimaMinRootModulus returns the smallest modulus of the roots of
 // 1 − c_1 z − … − c_k z^k (+Inf when k = 0 or every c is zero): the
