@@ -107,12 +107,18 @@ func arimaKPSSDiffs(x []float64) int {
 // figure the mean detrended value at each position (counted from the first
 // value) centred to sum to zero, and the remainder what is left. Missing
 // values make the trend missing wherever its window touches them and are
-// left out of the position means.
-func arimaDecompose(y []float64, m int) (trend, seasonal, remainder []float64) {
+// left out of the position means. The three series and the scratch come
+// from buf when it holds arimaDecomposeLen(n, m) values (one allocation
+// for the caller instead of five here).
+func arimaDecompose(y []float64, m int, buf []float64) (trend, seasonal, remainder []float64) {
 	n := len(y)
-	trend = make([]float64, n)
 	h := m / 2
-	wts := make([]float64, 2*h+1)
+	if len(buf) < arimaDecomposeLen(n, m) {
+		buf = make([]float64, arimaDecomposeLen(n, m))
+	}
+	trend, seasonal, remainder = buf[0:n:n], buf[n:2*n:2*n], buf[2*n:3*n:3*n]
+	wts := buf[3*n : 3*n+2*h+1 : 3*n+2*h+1]
+	fig := buf[3*n+2*h+1 : 3*n+2*h+1+m : 3*n+2*h+1+m]
 	if m%2 == 0 {
 		for i := range wts {
 			wts[i] = 1 / float64(m)
@@ -135,7 +141,6 @@ func arimaDecompose(y []float64, m int) (trend, seasonal, remainder []float64) {
 		}
 		trend[t] = v
 	}
-	fig := make([]float64, m)
 	for i := 0; i < m; i++ {
 		s, c := 0.0, 0
 		for t := i; t < n; t += m {
@@ -155,8 +160,6 @@ func arimaDecompose(y []float64, m int) (trend, seasonal, remainder []float64) {
 		mean += v
 	}
 	mean /= float64(m)
-	seasonal = make([]float64, n)
-	remainder = make([]float64, n)
 	for t := range y {
 		seasonal[t] = fig[t%m] - mean
 		remainder[t] = y[t] - trend[t] - seasonal[t]
@@ -176,41 +179,46 @@ func arimaSeasonalStrength(y []float64, m int) (float64, bool) {
 // returns the number of points it used (used) and the number of season
 // positions among them (groups).
 func seasonalStrength(y []float64, m int) (strength float64, used, groups int, ok bool) {
-	_, s, r := arimaDecompose(y, m)
-	var rs, ss []float64
+	_, s, r := arimaDecompose(y, m, make([]float64, arimaDecomposeLen(len(y), m)))
+	// The variances of R and of S + R over the points where both are known,
+	// summed in time order (the sample variance: mean, then squared
+	// deviations over used − 1).
+	known := func(t int) bool { return !math.IsNaN(r[t]) && !math.IsNaN(s[t]) }
 	seen := make([]bool, m)
+	sr, ssr := 0.0, 0.0
 	for t := range r {
-		if !math.IsNaN(r[t]) && !math.IsNaN(s[t]) {
-			rs = append(rs, r[t])
-			ss = append(ss, s[t]+r[t])
+		if known(t) {
+			sr += r[t]
+			ssr += s[t] + r[t]
+			used++
 			if !seen[t%m] {
 				seen[t%m] = true
 				groups++
 			}
 		}
 	}
-	if len(rs) < 3 {
+	if used < 3 {
 		return 0, 0, 0, false
 	}
-	vr, vs := arimaSampleVar(rs), arimaSampleVar(ss)
+	mr, ms := sr/float64(used), ssr/float64(used)
+	vr, vs := 0.0, 0.0
+	for t := range r {
+		if known(t) {
+			vr += (r[t] - mr) * (r[t] - mr)
+			d := s[t] + r[t]
+			vs += (d - ms) * (d - ms)
+		}
+	}
+	vr /= float64(used - 1)
+	vs /= float64(used - 1)
 	if !(vs > 0) {
 		return 0, 0, 0, false
 	}
-	return math.Max(0, 1-vr/vs), len(rs), groups, true
+	return math.Max(0, 1-vr/vs), used, groups, true
 }
 
-func arimaSampleVar(x []float64) float64 {
-	mean := 0.0
-	for _, v := range x {
-		mean += v
-	}
-	mean /= float64(len(x))
-	s := 0.0
-	for _, v := range x {
-		s += (v - mean) * (v - mean)
-	}
-	return s / float64(len(x)-1)
-}
+// arimaDecomposeLen is the length of the buffer arimaDecompose fills.
+func arimaDecomposeLen(n, m int) int { return 3*n + 2*(m/2) + 1 + m }
 
 // arimaMinRootModulus returns the smallest modulus of the roots of
 // 1 − c_1 z − … − c_k z^k (+Inf when k = 0 or every c is zero): the

@@ -70,7 +70,7 @@ func TestSeasonalDecomposeMatchesR(t *testing.T) {
 		t.Fatal(err)
 	}
 	for _, c := range f.Cases {
-		tr, se, re := arimaDecompose(c.Y, c.Season)
+		tr, se, re := arimaDecompose(c.Y, c.Season, nil)
 		wt, wr := arimaNullable(c.Trend), arimaNullable(c.Remainder)
 		for i := range c.Y {
 			if math.IsNaN(wt[i]) != math.IsNaN(tr[i]) || (!math.IsNaN(wt[i]) && math.Abs(tr[i]-wt[i]) > 1e-10*math.Abs(wt[i])) {

@@ -204,6 +204,7 @@ func newApp(stdout, stderr io.Writer) *cli.App {
 					&cli.Int64Flag{Name: "batch-rows", Value: pipeline.DefaultBatchRows, Usage: "input rows held in memory at once; larger inputs are spilled to a temporary folder and processed in key-range batches"},
 					&cli.StringFlag{Name: "memory-limit", Value: "3GiB", Usage: "soft memory limit for the Go runtime (e.g. 3GiB, 800MiB; 0 for none); the environment's GOMEMLIMIT wins when set"},
 					&cli.StringFlag{Name: "cpuprofile", Usage: "write a CPU profile (pprof) of the run to this file"},
+					&cli.StringFlag{Name: "memprofile", Usage: "write an allocation profile (pprof) of the run to this file when it ends"},
 				},
 				Action: runCmd,
 			},
@@ -402,6 +403,11 @@ func runCmd(c *cli.Context) error {
 		defer pprof.StopCPUProfile()
 	}
 	sum, err := pipeline.Run(c.Context, s, opts)
+	if p := c.String("memprofile"); p != "" {
+		if perr := writeAllocs(p); perr != nil && err == nil {
+			return &exitError{exitRun, perr}
+		}
+	}
 	if err != nil {
 		return &exitError{exitRun, fmt.Errorf("almanac run %s: %v", path, err)}
 	}
@@ -488,4 +494,17 @@ func panelCommand() *cli.Command {
 		},
 		Action: panelCmd,
 	}
+}
+
+// writeAllocs writes the allocation profile (`go tool pprof -sample_index=alloc_space`).
+func writeAllocs(path string) error {
+	f, err := os.Create(path)
+	if err != nil {
+		return fmt.Errorf("almanac run: --memprofile: %v", err)
+	}
+	if err := pprof.Lookup("allocs").WriteTo(f, 0); err != nil {
+		f.Close()
+		return fmt.Errorf("almanac run: --memprofile: %v", err)
+	}
+	return f.Close()
 }

@@ -244,7 +244,7 @@ func (e *Evaluation) backtestMethod(w *forecast.Work, mr forecast.Method, s *ser
 	seasons := w.Spec.Calendar.AllSeasons()
 	y := s.Values
 	method := mr.Engine
-	eb := entryBacktest{label: mr.Spec.Label}
+	eb := entryBacktest{label: mr.Spec.Label, folds: make([]foldScore, 0, len(folds))}
 	for _, f := range folds {
 		// SafeForecastSeries caps the training slice's capacity: a method
 		// cannot reach past the origin by reslicing its input. Drivers

@@ -45,23 +45,24 @@ type Column struct {
 
 // TableWriter streams rows of one table into a Parquet file.
 type TableWriter struct {
-	strs   []*array.StringBuilder // by field index; nil where the field is not a string
-	floats []*array.Float64Builder
-	ints   []*array.Int32Builder
-	dates  []*array.Date32Builder
-	bools  []*array.BooleanBuilder
-	name   string
-	path   string
-	file   *os.File
-	hash   hash.Hash // of every byte written to file
-	size   int64
-	sum    string // hex SHA-256, once closed
-	enc    *groupEncoder
-	rb     *array.RecordBuilder
-	nkeys  int
-	cols   []Column
-	rows   int64
-	buffer int
+	strs    []*array.StringBuilder // by field index; nil where the field is not a string
+	floats  []*array.Float64Builder
+	ints    []*array.Int32Builder
+	dates   []*array.Date32Builder
+	bools   []*array.BooleanBuilder
+	name    string
+	path    string
+	file    *os.File
+	hash    hash.Hash // of every byte written to file
+	size    int64
+	sum     string // hex SHA-256, once closed
+	enc     *groupEncoder
+	rb      *array.RecordBuilder
+	recycle *recycler // rb's allocator: the released batches' buffers, reused
+	nkeys   int
+	cols    []Column
+	rows    int64
+	buffer  int
 	// strData is each string column's data bytes in the last full batch.
 	strData []int
 }
@@ -131,10 +132,12 @@ func NewTableWriter(dir, name string, keyNames []string, cols []Column, meta map
 	sch = arrow.NewSchema(sch.Fields(), &md)
 	// The bytes are hashed as they are written, for the manifest.
 	h := sha256.New()
-	t := &TableWriter{name: name, path: path, file: f, hash: h, rb: array.NewRecordBuilder(mem, sch), nkeys: len(keyNames), cols: cols}
+	rc := newRecycler(mem)
+	t := &TableWriter{name: name, path: path, file: f, hash: h, rb: array.NewRecordBuilder(rc, sch), recycle: rc, nkeys: len(keyNames), cols: cols}
 	enc, err := newGroupEncoder(sch, &countingWriter{w: io.MultiWriter(f, h), n: &t.size}, writerProps(sch), mem)
 	if err != nil {
 		t.rb.Release()
+		rc.release()
 		f.Close() // the open failed; the staging folder is removed with the file
 		return nil, err
 	}
@@ -260,6 +263,7 @@ func (t *TableWriter) Close() error {
 	}
 	t.enc = nil
 	t.rb.Release()
+	t.recycle.release()
 	if err == nil {
 		err = t.file.Sync()
 		t.sum = hex.EncodeToString(t.hash.Sum(nil))
@@ -295,6 +299,7 @@ func (t *TableWriter) Abort() {
 		t.enc.close() // only to stop its goroutine: the file is discarded
 		t.enc = nil
 		t.rb.Release()
+		t.recycle.release()
 		t.file.Close() // discarded with the staging folder
 	}
 }
