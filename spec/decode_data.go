@@ -45,31 +45,38 @@ func (d *decoder) sources(n *yaml.Node, path string) []Source {
 		if src.Path == "" {
 			continue
 		}
-		if !formatGiven {
-			switch strings.ToLower(filepath.Ext(src.Path)) {
-			case ".csv", ".tsv", ".txt":
-				src.Format = FormatCSV
-			case ".parquet", ".pq":
-				src.Format = FormatParquet
-			default:
-				d.errAt(item, p, "cannot tell the format of %q from its extension; add format: (one of %s)", src.Path, quoteList(Formats))
-			}
-		}
-		if src.Format == FormatCSV && src.Delimiter == "" {
-			src.Delimiter = ","
-			if strings.EqualFold(filepath.Ext(src.Path), ".tsv") {
-				src.Delimiter = "\t"
-			}
-		}
-		if src.Format == FormatParquet && src.Delimiter != "" {
-			d.errAt(item, p, "delimiter applies only to CSV sources")
-		}
-		if err := checkGlob(src.Path); err != nil {
-			d.errAt(item, p, "bad glob pattern %q: %v", src.Path, err)
-		}
+		d.sourceFile(item, p, &src, formatGiven)
 		out = append(out, src)
 	}
 	return out
+}
+
+// sourceFile fills the format (from the extension unless formatGiven) and
+// the CSV delimiter of a data or event source at item, and checks the
+// delimiter applies and the glob is well formed.
+func (d *decoder) sourceFile(item *yaml.Node, p string, src *Source, formatGiven bool) {
+	if !formatGiven {
+		switch strings.ToLower(filepath.Ext(src.Path)) {
+		case ".csv", ".tsv", ".txt":
+			src.Format = FormatCSV
+		case ".parquet", ".pq":
+			src.Format = FormatParquet
+		default:
+			d.errAt(item, p, "cannot tell the format of %q from its extension; add format: (one of %s)", src.Path, quoteList(Formats))
+		}
+	}
+	if src.Format == FormatCSV && src.Delimiter == "" {
+		src.Delimiter = ","
+		if strings.EqualFold(filepath.Ext(src.Path), ".tsv") {
+			src.Delimiter = "\t"
+		}
+	}
+	if src.Format == FormatParquet && src.Delimiter != "" {
+		d.errAt(item, p, "delimiter applies only to CSV sources")
+	}
+	if err := checkGlob(src.Path); err != nil {
+		d.errAt(item, p, "bad glob pattern %q: %v", src.Path, err)
+	}
 }
 
 func (d *decoder) columns(n *yaml.Node, path string, c *Columns) {

@@ -2,9 +2,7 @@ package spec
 
 import (
 	"fmt"
-	"path/filepath"
 	"slices"
-	"strings"
 
 	"gopkg.in/yaml.v3"
 )
@@ -28,11 +26,9 @@ var EventKinds = []string{string(EventClosure), string(EventDriver)}
 
 // EventSource is one file of dated events (README, "Events").
 type EventSource struct {
-	Path      string // as written; relative to the spec's folder; a glob is allowed
-	Format    Format // csv or parquet; inferred from the extension when not given
-	Delimiter string // CSV field delimiter; default ","
-	Kind      EventKind
-	Columns   EventColumns
+	Source  // path (a glob is allowed), format and delimiter, as for data sources
+	Kind    EventKind
+	Columns EventColumns
 	// KnownUntil (YYYY-MM-DD) is the last day a driver source is known to
 	// be complete; "" means the source's own last date.
 	KnownUntil string
@@ -120,28 +116,7 @@ func (d *decoder) eventSource(item *yaml.Node, p string) (EventSource, bool) {
 		}},
 	})
 	if ev.Path != "" {
-		if !formatGiven {
-			switch strings.ToLower(filepath.Ext(ev.Path)) {
-			case ".csv", ".tsv", ".txt":
-				ev.Format = FormatCSV
-			case ".parquet", ".pq":
-				ev.Format = FormatParquet
-			default:
-				d.errAt(item, p, "cannot tell the format of %q from its extension; add format: (one of %s)", ev.Path, quoteList(Formats))
-			}
-		}
-		if ev.Format == FormatCSV && ev.Delimiter == "" {
-			ev.Delimiter = ","
-			if strings.EqualFold(filepath.Ext(ev.Path), ".tsv") {
-				ev.Delimiter = "\t"
-			}
-		}
-		if ev.Format == FormatParquet && ev.Delimiter != "" {
-			d.errAt(item, p, "delimiter applies only to CSV sources")
-		}
-		if err := checkGlob(ev.Path); err != nil {
-			d.errAt(item, p, "bad glob pattern %q: %v", ev.Path, err)
-		}
+		d.sourceFile(item, p, &ev.Source, formatGiven)
 	}
 	c := ev.Columns
 	switch ev.Kind {
