@@ -184,8 +184,18 @@ horizon: 3
 output: out
 `
 
-// writeParquet writes one record batch built by fill to dir/data.parquet.
+// writeParquet writes one record batch built by fill to dir/data.parquet,
+// and the corpus spec beside it.
 func writeParquet(t *testing.T, dir string, fields []arrow.Field, n int, fill func(b *array.RecordBuilder, i int)) string {
+	t.Helper()
+	path := filepath.Join(dir, "data.parquet")
+	writeParquetFile(t, path, fields, n, fill)
+	os.WriteFile(filepath.Join(dir, "spec.yaml"), []byte(parquetSpec), 0o644)
+	return path
+}
+
+// writeParquetFile writes one record batch of n rows, built by fill, to path.
+func writeParquetFile(t *testing.T, path string, fields []arrow.Field, n int, fill func(b *array.RecordBuilder, i int)) {
 	t.Helper()
 	sch := arrow.NewSchema(fields, nil)
 	b := array.NewRecordBuilder(memory.DefaultAllocator, sch)
@@ -195,7 +205,6 @@ func writeParquet(t *testing.T, dir string, fields []arrow.Field, n int, fill fu
 	}
 	rec := b.NewRecordBatch()
 	defer rec.Release()
-	path := filepath.Join(dir, "data.parquet")
 	f, err := os.Create(path)
 	if err != nil {
 		t.Fatal(err)
@@ -210,8 +219,6 @@ func writeParquet(t *testing.T, dir string, fields []arrow.Field, n int, fill fu
 	if err := w.Close(); err != nil {
 		t.Fatal(err)
 	}
-	os.WriteFile(filepath.Join(dir, "spec.yaml"), []byte(parquetSpec), 0o644)
-	return path
 }
 
 var (

@@ -11,9 +11,6 @@ import (
 
 	"github.com/apache/arrow-go/v18/arrow"
 	"github.com/apache/arrow-go/v18/arrow/array"
-	"github.com/apache/arrow-go/v18/arrow/memory"
-	"github.com/apache/arrow-go/v18/parquet"
-	"github.com/apache/arrow-go/v18/parquet/pqarrow"
 )
 
 const eventsParquetSpec = `version: 1
@@ -51,12 +48,10 @@ func writeEventsParquet(t *testing.T, rows []parquetEvent) string {
 	}
 	os.WriteFile(filepath.Join(dir, "data.csv"), []byte(b.String()), 0o644)
 	os.WriteFile(filepath.Join(dir, "spec.yaml"), []byte(eventsParquetSpec), 0o644)
-	sch := arrow.NewSchema([]arrow.Field{
+	fields := []arrow.Field{
 		{Name: "first", Type: arrow.FixedWidthTypes.Date32}, {Name: "last", Type: arrow.FixedWidthTypes.Date32, Nullable: true},
 		{Name: "event", Type: arrow.BinaryTypes.String}, {Name: "value", Type: arrow.PrimitiveTypes.Float64, Nullable: true},
-		{Name: "store", Type: arrow.BinaryTypes.String, Nullable: true}}, nil)
-	rb := array.NewRecordBuilder(memory.DefaultAllocator, sch)
-	defer rb.Release()
+		{Name: "store", Type: arrow.BinaryTypes.String, Nullable: true}}
 	day := func(s string) arrow.Date32 {
 		d, err := time.Parse("2006-01-02", s)
 		if err != nil {
@@ -64,7 +59,8 @@ func writeEventsParquet(t *testing.T, rows []parquetEvent) string {
 		}
 		return arrow.Date32FromTime(d)
 	}
-	for _, r := range rows {
+	writeParquetFile(t, filepath.Join(dir, "drivers.parquet"), fields, len(rows), func(rb *array.RecordBuilder, i int) {
+		r := rows[i]
 		rb.Field(0).(*array.Date32Builder).Append(day(r.first))
 		if r.last == "" {
 			rb.Field(1).AppendNull()
@@ -82,23 +78,7 @@ func writeEventsParquet(t *testing.T, rows []parquetEvent) string {
 		} else {
 			rb.Field(4).(*array.StringBuilder).Append(r.store)
 		}
-	}
-	rec := rb.NewRecordBatch()
-	defer rec.Release()
-	f, err := os.Create(filepath.Join(dir, "drivers.parquet"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	w, err := pqarrow.NewFileWriter(sch, f, parquet.NewWriterProperties(), pqarrow.DefaultWriterProps())
-	if err != nil {
-		t.Fatal(err)
-	}
-	if err := w.Write(rec); err != nil {
-		t.Fatal(err)
-	}
-	if err := w.Close(); err != nil {
-		t.Fatal(err)
-	}
+	})
 	return dir
 }
 
