@@ -51,6 +51,45 @@ func (d *decoder) sources(n *yaml.Node, path string) []Source {
 	return out
 }
 
+// keyColumns decodes a list of key column names, or one name, at n: the
+// names and the resolved node (nil when absent). A single name holding a
+// comma is an error that shows the list it was probably meant to be.
+func (d *decoder) keyColumns(n *yaml.Node, p string) ([]string, *yaml.Node) {
+	kn := d.resolve(n)
+	if kn == nil {
+		return nil, nil
+	}
+	if kn.Kind == yaml.ScalarNode && kn.Tag != "!!null" {
+		var k string
+		d.str(kn, p, "a key column name", &k)
+		if strings.Contains(k, ",") {
+			parts := strings.Split(k, ",")
+			for i := range parts {
+				parts[i] = strings.TrimSpace(parts[i])
+			}
+			d.errAt(kn, p, "%q is one name holding a comma; for several key columns write a list: keys: [%s]", k, strings.Join(parts, ", "))
+			return nil, kn
+		}
+		if k == "" {
+			return nil, kn
+		}
+		return []string{k}, kn
+	}
+	if kn.Kind != yaml.SequenceNode {
+		d.errAt(kn, p, "expected a list of key column names, found %s", kindName(kn))
+		return nil, kn
+	}
+	keys := []string{}
+	for i, k := range kn.Content {
+		var name string
+		d.str(k, fmt.Sprintf("%s[%d]", p, i), "a key column name", &name)
+		if name != "" {
+			keys = append(keys, name)
+		}
+	}
+	return keys, kn
+}
+
 // sourceFile fills the format (from the extension unless formatGiven) and
 // the CSV delimiter of a data or event source at item, and checks the
 // delimiter applies and the glob is well formed.
@@ -84,40 +123,7 @@ func (d *decoder) columns(n *yaml.Node, path string, c *Columns) {
 	d.mapping(n, path, "columns", []field{
 		{"time", true, func(n *yaml.Node, p string) { d.str(n, p, "the name of the time column", &c.Time) }},
 		{"value", true, func(n *yaml.Node, p string) { d.str(n, p, "the name of the value column", &c.Value) }},
-		{"keys", false, func(n *yaml.Node, p string) {
-			keysNode = d.resolve(n)
-			if keysNode == nil {
-				return
-			}
-			if keysNode.Kind == yaml.ScalarNode && keysNode.Tag != "!!null" {
-				var k string
-				d.str(keysNode, p, "a key column name", &k)
-				if strings.Contains(k, ",") {
-					parts := strings.Split(k, ",")
-					for i := range parts {
-						parts[i] = strings.TrimSpace(parts[i])
-					}
-					d.errAt(keysNode, p, "%q is one name holding a comma; for several key columns write a list: keys: [%s]", k, strings.Join(parts, ", "))
-					return
-				}
-				if k != "" {
-					c.Keys = []string{k}
-				}
-				return
-			}
-			if keysNode.Kind != yaml.SequenceNode {
-				d.errAt(keysNode, p, "expected a list of key column names, found %s", kindName(keysNode))
-				return
-			}
-			c.Keys = []string{}
-			for i, k := range keysNode.Content {
-				var name string
-				d.str(k, fmt.Sprintf("%s[%d]", p, i), "a key column name", &name)
-				if name != "" {
-					c.Keys = append(c.Keys, name)
-				}
-			}
-		}},
+		{"keys", false, func(n *yaml.Node, p string) { c.Keys, keysNode = d.keyColumns(n, p) }},
 	})
 	if c.Time != "" && c.Time == c.Value {
 		d.errAt(n, path, "time and value name the same column %q", c.Time)

@@ -151,31 +151,7 @@ func (d *decoder) eventColumns(n *yaml.Node, path string, c *EventColumns) {
 		{"value", false, func(n *yaml.Node, p string) {
 			d.str(n, p, "the name of the column holding each driver's value", &c.Value)
 		}},
-		{"keys", false, func(n *yaml.Node, p string) {
-			keysNode = d.resolve(n)
-			if keysNode == nil {
-				return
-			}
-			if keysNode.Kind == yaml.ScalarNode && keysNode.Tag != "!!null" {
-				var k string
-				d.str(keysNode, p, "a key column name", &k)
-				if k != "" {
-					c.Keys = []string{k}
-				}
-				return
-			}
-			if keysNode.Kind != yaml.SequenceNode {
-				d.errAt(keysNode, p, "expected a list of key column names, found %s", kindName(keysNode))
-				return
-			}
-			for i, k := range keysNode.Content {
-				var name string
-				d.str(k, fmt.Sprintf("%s[%d]", p, i), "a key column name", &name)
-				if name != "" {
-					c.Keys = append(c.Keys, name)
-				}
-			}
-		}},
+		{"keys", false, func(n *yaml.Node, p string) { c.Keys, keysNode = d.keyColumns(n, p) }},
 	})
 	seen := map[string]bool{}
 	for _, name := range []string{c.Date, c.Until, c.Name, c.Value} {
