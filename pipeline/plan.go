@@ -156,7 +156,7 @@ func (p *Plan) Stages() []Stage {
 	read.More = append(read.More, fmt.Sprintf("columns: time %q, value %q, keys %s", s.Columns.Time, s.Columns.Value, listOrNone(s.Columns.Keys)))
 	out = append(out, read)
 	season := fmt.Sprintf("season length %d", s.Calendar.SeasonLength)
-	if len(s.Calendar.Seasons) > 1 {
+	if s.Calendar.SeveralCycles() {
 		season = "season lengths " + joinInts(s.Calendar.Seasons)
 	}
 	out = append(out, Stage{Name: "shape", Detail: fmt.Sprintf("%s periods, %s; rows in one period: %s; missing periods: %s; series end at the %s end",
@@ -175,7 +175,7 @@ func (p *Plan) Stages() []Stage {
 	if len(s.Events) > 0 {
 		out = append(out, p.eventStage())
 	}
-	if p.Decomposer != nil && len(s.Calendar.Seasons) > 1 {
+	if p.Decomposer != nil && s.Calendar.SeveralCycles() {
 		out = append(out, Stage{Name: "decompose", Detail: fmt.Sprintf("%s, season lengths %s, %s", forecast.DecompositionSeveral, joinInts(s.Calendar.Seasons), decompositionForm(s)),
 			Tables: []string{runfolder.TableComponents, runfolder.TableSeasonalFactors}})
 	} else if p.Decomposer != nil {

@@ -52,7 +52,7 @@ func openTables(dir string, s *spec.Spec, meta map[string]string, mem memory.All
 	rt := &runTables{methodSeries: map[string]int{},
 		summarise: s.Problems != spec.DetailSeries, keyNames: keys, summary: map[string]*codeSummary{},
 		layout: forecast.Layout{WithChosen: s.Backtest.Folds > 0, Levels: len(s.Intervals.Levels), Decomposition: s.Decomposition.Method, Seasons: s.Calendar.Seasons}}
-	if len(s.Calendar.Seasons) > 1 {
+	if s.Calendar.SeveralCycles() {
 		rt.layout.Decomposition = forecast.DecompositionSeveral
 	}
 	var err error

@@ -37,7 +37,7 @@ func DefaultMethods(cal Calendar, drivers bool) []MethodSpec {
 			member{"holt_winters", "holt_winters_damped", map[string]any{"damped": true, "seasonal": "auto"}},
 			member{"stl", "stl", map[string]any{"seasonal": "auto"}})
 	}
-	several := len(cal.Seasons) > 1
+	several := cal.SeveralCycles()
 	if drivers || several {
 		pool = append(pool, member{"regression_arima", "regression_arima", nil})
 	}
@@ -62,7 +62,7 @@ func DefaultMethods(cal Calendar, drivers bool) []MethodSpec {
 // that see more than the series: driver event sources or several season
 // lengths.
 func EventAware(s *Spec) bool {
-	return hasDrivers(s) || len(s.Calendar.Seasons) > 1
+	return hasDrivers(s) || s.Calendar.SeveralCycles()
 }
 
 func hasDrivers(s *Spec) bool {

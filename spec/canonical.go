@@ -224,7 +224,7 @@ func (s *Spec) Canonical() []byte {
 }
 
 func canonicalSeasons(c Calendar) any {
-	if len(c.Seasons) > 1 {
+	if c.SeveralCycles() {
 		return c.Seasons
 	}
 	return c.SeasonLength

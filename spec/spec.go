@@ -100,6 +100,10 @@ type Calendar struct {
 	Seasons []int
 }
 
+// SeveralCycles reports whether the calendar has more than one season
+// length (season_length given as a list).
+func (c Calendar) SeveralCycles() bool { return len(c.Seasons) > 1 }
+
 // AllSeasons returns every season length of the calendar in ascending
 // order: Seasons, or SeasonLength alone.
 func (c Calendar) AllSeasons() []int {

@@ -186,7 +186,7 @@ func ComponentColumns(s *spec.Spec) []Column {
 		{ColRemainder, colFloat, true},
 		{ColAdjusted, colFloat, true},
 	}
-	if len(s.Calendar.Seasons) > 1 {
+	if s.Calendar.SeveralCycles() {
 		for _, m := range s.Calendar.Seasons {
 			cols = append(cols, Column{ColSeasonalOf(m), colFloat, true})
 		}
@@ -202,7 +202,7 @@ func FactorColumns(s *spec.Spec) []Column {
 		{ColDecomposition, colString, false},
 		{ColForm, colString, false},
 	}
-	if len(s.Calendar.Seasons) > 1 {
+	if s.Calendar.SeveralCycles() {
 		cols = append(cols, Column{ColSeasonLength, colInt, false})
 	}
 	return append(cols,
