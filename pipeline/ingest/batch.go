@@ -211,7 +211,6 @@ func (b *Batches[S]) load(i int) (*Rows, error) {
 	st, _ := f.Stat()
 	n := int(st.Size() / spillRowBytes)
 	rs.KeyIDs, rs.Periods, rs.Values = make([]int32, 0, n), make([]int64, 0, n), make([]float64, 0, n)
-	rs.files, rs.lines = make([]int32, 0, n), make([]int64, 0, n)
 	r := bufio.NewReaderSize(f, 1<<20)
 	var row [spillRowBytes]byte
 	for {
@@ -223,9 +222,8 @@ func (b *Batches[S]) load(i int) (*Rows, error) {
 		key, file, period, value, line := getRow(row[:])
 		rs.KeyIDs = append(rs.KeyIDs, local[key])
 		rs.Periods = append(rs.Periods, period)
+		rs.origin.add(len(rs.Values), file, line)
 		rs.Values = append(rs.Values, value)
-		rs.files = append(rs.files, file)
-		rs.lines = append(rs.lines, line)
 	}
 	rs.PanelLast = g.PanelLast
 	rs.Times = g.Times

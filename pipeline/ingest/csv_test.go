@@ -67,7 +67,7 @@ func TestCSVChunksKeepRecordOrder(t *testing.T) {
 		if got, want := rs.Values[i], float64(i%13); got != want {
 			t.Errorf("row %d: value %v, want %v", i, got, want)
 		}
-		if got := rs.lines[i]; got != int64(i+2) {
+		if _, got := rs.origin.at(i); got != int64(i+2) {
 			t.Errorf("row %d: line %d, want %d", i, got, i+2)
 		}
 	}

@@ -9,7 +9,6 @@ import (
 	"math"
 	"os"
 	"path/filepath"
-	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -36,8 +35,7 @@ type Rows struct {
 	KeyIDs  []int32
 	Periods []int64
 	Values  []float64
-	files   []int32 // index into files
-	lines   []int64 // CSV line, or Parquet row number (1-based)
+	origin  origins // each row's file and CSV line or Parquet row number (1-based)
 
 	Keys      [][]string // by key id
 	keyIndex  map[string]int32
@@ -116,11 +114,22 @@ func (r *Rows) reserve(n int64) {
 		return
 	}
 	k := int(n)
-	r.KeyIDs = slices.Grow(r.KeyIDs, k)
-	r.Periods = slices.Grow(r.Periods, k)
-	r.Values = slices.Grow(r.Values, k)
-	r.files = slices.Grow(r.files, k)
-	r.lines = slices.Grow(r.lines, k)
+	r.KeyIDs = grow(r.KeyIDs, k)
+	r.Periods = grow(r.Periods, k)
+	r.Values = grow(r.Values, k)
+}
+
+// grow is slices.Grow without clearing the room it makes: it is written
+// row by row anyway, and clearing a large new slice up front touches every
+// page of it at once, on the goroutine every row passes through, where the
+// garbage collector cannot preempt it either.
+func grow[T any](s []T, k int) []T {
+	if cap(s)-len(s) >= k {
+		return s
+	}
+	g := make([]T, len(s), len(s)+k)
+	copy(g, s)
+	return g
 }
 
 func (r *Rows) add(key int32, period int64, value float64, file int32, line int64) {
@@ -145,9 +154,8 @@ func (r *Rows) add(key int32, period int64, value float64, file int32, line int6
 	}
 	r.KeyIDs = append(r.KeyIDs, key)
 	r.Periods = append(r.Periods, period)
+	r.origin.add(len(r.Values), file, line)
 	r.Values = append(r.Values, value)
-	r.files = append(r.files, file)
-	r.lines = append(r.lines, line)
 }
 
 // startSpill moves the rows held so far to a spill file; later rows follow.
@@ -159,20 +167,22 @@ func (r *Rows) startSpill() {
 		return
 	}
 	for i := range r.KeyIDs {
-		if err := sp.add(r.KeyIDs[i], r.Periods[i], r.Values[i], r.files[i], r.lines[i]); err != nil {
+		file, line := r.origin.at(i)
+		if err := sp.add(r.KeyIDs[i], r.Periods[i], r.Values[i], file, line); err != nil {
 			r.spillErr = err
 		}
 	}
 	r.spill = sp
-	r.KeyIDs, r.Periods, r.Values, r.files, r.lines = nil, nil, nil, nil, nil
+	r.KeyIDs, r.Periods, r.Values, r.origin = nil, nil, nil, origins{}
 }
 
 func (r *Rows) Where(i int) string {
-	f := r.files_[r.files[i]]
+	file, line := r.origin.at(i)
+	f := r.files_[file]
 	if f.Format == string(spec.FormatParquet) {
-		return fmt.Sprintf("%s: row %d", f.Path, r.lines[i])
+		return fmt.Sprintf("%s: row %d", f.Path, line)
 	}
-	return fmt.Sprintf("%s:%d", f.Path, r.lines[i])
+	return fmt.Sprintf("%s:%d", f.Path, line)
 }
 
 // DataError is bad input data: it names the file and line (or row).
