@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"path/filepath"
+	"runtime"
 	"slices"
 
 	"almanac/engines"
@@ -43,7 +44,7 @@ func SeriesParams(ctx context.Context, runDir string, key []string) (map[string]
 	if err != nil {
 		return nil, err
 	}
-	all, err := series.Shape(rs, s.Shaping, s.Limits, cal, s.Columns.Keys)
+	all, err := series.Shape(rs, s.Shaping, s.Limits, cal, s.Columns.Keys, runtime.NumCPU())
 	if err != nil {
 		return nil, err
 	}

@@ -476,8 +476,12 @@ func (p *Plan) openBatches(ctx context.Context, opts Options) (*ingest.Rows, *in
 		p.Events = ev
 		attach = series.NewAttacher(ev, cal, s.Horizon)
 	}
+	workers := opts.Workers
+	if workers <= 0 {
+		workers = runtime.NumCPU()
+	}
 	src, err := ingest.NewBatches(rs, batchRows, func(b *ingest.Rows) ([]*series.Series, error) {
-		out, err := series.Shape(b, s.Shaping, s.Limits, cal, s.Columns.Keys)
+		out, err := series.Shape(b, s.Shaping, s.Limits, cal, s.Columns.Keys, workers)
 		if err == nil && attach != nil {
 			for _, se := range out {
 				attach.Attach(se)

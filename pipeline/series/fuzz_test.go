@@ -59,7 +59,7 @@ func FuzzCSVIngest(f *testing.F) {
 		if int64(len(rs.Periods)) != files[0].Rows {
 			t.Fatalf("%d rows kept of %d read", len(rs.Periods), files[0].Rows)
 		}
-		all, err := Shape(rs, s.Shaping, s.Limits, cal, s.Columns.Keys)
+		all, err := Shape(rs, s.Shaping, s.Limits, cal, s.Columns.Keys, 2)
 		if err != nil {
 			return
 		}

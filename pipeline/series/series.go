@@ -7,6 +7,8 @@ import (
 	"math"
 	"slices"
 	"strings"
+	"sync"
+	"sync/atomic"
 
 	"almanac/pipeline/calendar"
 	"almanac/pipeline/ingest"
@@ -55,8 +57,10 @@ type Note struct {
 }
 
 // Shape groups rows by key, sorts series by key, buckets each series'
-// rows into periods, combines duplicates and fills gaps per the spec.
-func Shape(rs *ingest.Rows, sh spec.Shaping, lim spec.Limits, cal calendar.Calendar, keyNames []string) ([]*Series, error) {
+// rows into periods, combines duplicates and fills gaps per the spec. The
+// series are shaped on up to workers goroutines; the result (series, data
+// errors and their order) is the same at any number.
+func Shape(rs *ingest.Rows, sh spec.Shaping, lim spec.Limits, cal calendar.Calendar, keyNames []string, workers int) ([]*Series, error) {
 	nk := len(rs.Keys)
 	if nk > lim.MaxSeries {
 		return nil, fmt.Errorf("the input holds %d series; limits.max_series is %d (raise it in the spec if this is right)", nk, lim.MaxSeries)
@@ -69,58 +73,96 @@ func Shape(rs *ingest.Rows, sh spec.Shaping, lim spec.Limits, cal calendar.Calen
 	}
 	slices.SortFunc(ids, func(a, b int32) int { return ingest.CompareKeys(rs.Keys[a], rs.Keys[b]) })
 
-	panelLast := rs.PanelLast
-	t := rs.Times
-	out := make([]*Series, 0, nk)
-	var errs []string
-	for _, id := range ids {
-		rows := order[counts[id]:counts[id+1]]
-		// Rows outside the periods the run uses (see ingest.Guard): stray
-		// periods left out (a problems row each), an incomplete last period.
-		var notes []Note
-		if t != nil && outsideWindow(rs.Periods, rows, t.WinLo, t.WinHi) {
-			var kept []int32
-			kept, notes = keepWindow(rs, rows, cal)
-			if len(kept) == 0 {
-				code, why := runfolder.CodePartialPeriod, fmt.Sprintf("all %d row(s) of the series lie in the incomplete last period %s, which was left out", len(rows), cal.Label(rs.Periods[rows[0]]))
-				if len(notes) > 0 {
-					code, why = runfolder.CodeStrayPeriod, fmt.Sprintf("all %d row(s) of the series lie in stray periods, which were left out", len(rows))
-				}
-				out = append(out, &Series{Key: rs.Keys[id], Start: rs.Periods[rows[0]], Skip: why, SkipCode: code, Notes: notes})
-				continue
-			}
-			rows = kept
-		}
-		// Stable sort by period keeps input order within a period, which
-		// "last" relies on.
-		slices.SortStableFunc(rows, func(a, b int32) int {
-			pa, pb := rs.Periods[a], rs.Periods[b]
-			switch {
-			case pa < pb:
-				return -1
-			case pa > pb:
-				return 1
-			}
-			return 0
-		})
-		first, last := rs.Periods[rows[0]], rs.Periods[rows[len(rows)-1]]
-		if sh.End == spec.EndPanel {
-			last = panelLast
-		}
-		if last-first+1 > int64(lim.MaxPeriods) {
-			out = append(out, &Series{Key: rs.Keys[id], Start: first, SkipCode: runfolder.CodeTooLong, Notes: notes, Skip: fmt.Sprintf("the series spans %d periods (%s … %s, first row at %s), more than limits.max_periods %d; skipped — a stray date is the usual cause",
-				last-first+1, cal.Label(first), cal.Label(last), rs.Where(int(rows[0])), lim.MaxPeriods)})
-			continue
-		}
-		n := int(last - first + 1)
-		s := &Series{Key: rs.Keys[id], Start: first, Values: make([]float64, n), Notes: notes}
-		errs = fillValues(s, rs, rows, sh, cal, keyNames, errs)
-		out = append(out, s)
+	out := make([]*Series, nk)
+	errs := make([][]string, nk) // by position in out
+	// Each series sorts its own rows (a disjoint part of order) and reads
+	// rs only.
+	inParallel(nk, workers, func(i int) {
+		id := ids[i]
+		out[i], errs[i] = shapeOne(rs, id, order[counts[id]:counts[id+1]], sh, lim, cal, keyNames)
+	})
+	var all []string
+	for _, e := range errs {
+		all = append(all, e...)
 	}
-	if len(errs) > 0 {
-		return nil, &ingest.DataError{Msgs: errs}
+	if len(all) > 0 {
+		return nil, &ingest.DataError{Msgs: all[:min(len(all), ingest.MaxDataErrors)]}
 	}
 	return out, nil
+}
+
+// shapeOne is the series of key id from its rows, with the data errors
+// the shaping rules ask for (at most ingest.MaxDataErrors).
+func shapeOne(rs *ingest.Rows, id int32, rows []int32, sh spec.Shaping, lim spec.Limits, cal calendar.Calendar, keyNames []string) (*Series, []string) {
+	t := rs.Times
+	// Rows outside the periods the run uses (see ingest.Guard): stray
+	// periods left out (a problems row each), an incomplete last period.
+	var notes []Note
+	if t != nil && outsideWindow(rs.Periods, rows, t.WinLo, t.WinHi) {
+		var kept []int32
+		kept, notes = keepWindow(rs, rows, cal)
+		if len(kept) == 0 {
+			code, why := runfolder.CodePartialPeriod, fmt.Sprintf("all %d row(s) of the series lie in the incomplete last period %s, which was left out", len(rows), cal.Label(rs.Periods[rows[0]]))
+			if len(notes) > 0 {
+				code, why = runfolder.CodeStrayPeriod, fmt.Sprintf("all %d row(s) of the series lie in stray periods, which were left out", len(rows))
+			}
+			return &Series{Key: rs.Keys[id], Start: rs.Periods[rows[0]], Skip: why, SkipCode: code, Notes: notes}, nil
+		}
+		rows = kept
+	}
+	// Stable sort by period keeps input order within a period, which
+	// "last" relies on.
+	slices.SortStableFunc(rows, func(a, b int32) int {
+		pa, pb := rs.Periods[a], rs.Periods[b]
+		switch {
+		case pa < pb:
+			return -1
+		case pa > pb:
+			return 1
+		}
+		return 0
+	})
+	first, last := rs.Periods[rows[0]], rs.Periods[rows[len(rows)-1]]
+	if sh.End == spec.EndPanel {
+		last = rs.PanelLast
+	}
+	if last-first+1 > int64(lim.MaxPeriods) {
+		return &Series{Key: rs.Keys[id], Start: first, SkipCode: runfolder.CodeTooLong, Notes: notes, Skip: fmt.Sprintf("the series spans %d periods (%s … %s, first row at %s), more than limits.max_periods %d; skipped — a stray date is the usual cause",
+			last-first+1, cal.Label(first), cal.Label(last), rs.Where(int(rows[0])), lim.MaxPeriods)}, nil
+	}
+	s := &Series{Key: rs.Keys[id], Start: first, Values: make([]float64, int(last-first+1)), Notes: notes}
+	return s, fillValues(s, rs, rows, sh, cal, keyNames, nil)
+}
+
+// inParallel calls f(i) for every i in [0, n) on up to workers goroutines,
+// which take runs of consecutive indexes, and returns when all are done.
+func inParallel(n, workers int, f func(i int)) {
+	const run = 64
+	workers = min(workers, (n+run-1)/run)
+	if workers <= 1 {
+		for i := range n {
+			f(i)
+		}
+		return
+	}
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	for range workers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for {
+				lo := int(next.Add(run)) - run
+				if lo >= n {
+					return
+				}
+				for i := lo; i < min(n, lo+run); i++ {
+					f(i)
+				}
+			}
+		}()
+	}
+	wg.Wait()
 }
 
 func combine(rule spec.Combine, values []float64, rows []int32) float64 {
