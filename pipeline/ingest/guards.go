@@ -6,7 +6,6 @@ import (
 	"slices"
 	"strings"
 	"unicode"
-	"unicode/utf8"
 
 	"almanac/pipeline/calendar"
 	"almanac/pipeline/runfolder"
@@ -305,37 +304,51 @@ const maxVariantNotes = 100
 // keyVariantNotes finds keys that differ only by surrounding whitespace or
 // letter case, and returns a problems row per group naming every spelling.
 func keyVariantNotes(keys [][]string, names []string) []runfolder.Problem {
-	// Sorting key ids by their normalised form puts variants side by side
-	// without a string per key.
-	ids := make([]int32, len(keys))
-	for i := range ids {
-		ids[i] = int32(i)
-	}
-	cmp := func(a, b int32) int {
-		for i := range keys[a] {
-			if c := foldCompare(keys[a][i], keys[b][i]); c != 0 {
-				return c
-			}
-		}
-		return 0
-	}
-	slices.SortFunc(ids, func(a, b int32) int {
-		if c := cmp(a, b); c != 0 {
-			return c
-		}
-		return CompareKeys(keys[a], keys[b])
-	})
+	// Keys with the same folded form (each value trimmed and lower-cased,
+	// the values joined by a 0 byte, which no key value holds) are
+	// variants of each other. Groups come in the order of their folded
+	// form, each group's keys in key order.
+	first := make(map[string]int32, len(keys))
+	var folds []string // by group
 	var groups [][]int32
-	for i := 1; i < len(ids); i++ {
-		if cmp(ids[i-1], ids[i]) != 0 {
+	groupOf := map[int32]int{} // the first key of a group → its group
+	var b strings.Builder
+	for id, key := range keys {
+		b.Reset()
+		for i, v := range key {
+			if i > 0 {
+				b.WriteByte(0)
+			}
+			b.WriteString(strings.Map(unicode.ToLower, strings.TrimFunc(v, unicode.IsSpace)))
+		}
+		f := b.String()
+		at, seen := first[f]
+		if !seen {
+			first[f] = int32(id)
 			continue
 		}
-		if n := len(groups); n > 0 && groups[n-1][len(groups[n-1])-1] == ids[i-1] {
-			groups[n-1] = append(groups[n-1], ids[i])
-		} else {
-			groups = append(groups, []int32{ids[i-1], ids[i]})
+		g, ok := groupOf[at]
+		if !ok {
+			g = len(groups)
+			groupOf[at] = g
+			groups = append(groups, []int32{at})
+			folds = append(folds, f)
 		}
+		groups[g] = append(groups[g], int32(id))
 	}
+	for _, g := range groups {
+		slices.SortFunc(g, func(a, b int32) int { return CompareKeys(keys[a], keys[b]) })
+	}
+	order := make([]int, len(groups))
+	for i := range order {
+		order[i] = i
+	}
+	slices.SortFunc(order, func(a, b int) int { return strings.Compare(folds[a], folds[b]) })
+	sorted := make([][]int32, len(groups))
+	for i, g := range order {
+		sorted[i] = groups[g]
+	}
+	groups = sorted
 	found := groups
 	var out []runfolder.Problem
 	for i, g := range found {
@@ -353,30 +366,6 @@ func keyVariantNotes(keys [][]string, names []string) []runfolder.Problem {
 			Message: fmt.Sprintf("keys differ only by surrounding whitespace or letter case and form separate series: %s (shaping.key_variants: trim or lower merges them)", strings.Join(spell, " and "))})
 	}
 	return out
-}
-
-// foldCompare orders strings as if trimmed of surrounding whitespace and
-// lower-cased, without allocating.
-func foldCompare(a, b string) int {
-	a, b = strings.TrimFunc(a, unicode.IsSpace), strings.TrimFunc(b, unicode.IsSpace)
-	for a != "" && b != "" {
-		ra, na := utf8.DecodeRuneInString(a)
-		rb, nb := utf8.DecodeRuneInString(b)
-		if la, lb := unicode.ToLower(ra), unicode.ToLower(rb); la != lb {
-			if la < lb {
-				return -1
-			}
-			return 1
-		}
-		a, b = a[na:], b[nb:]
-	}
-	switch {
-	case a != "":
-		return 1
-	case b != "":
-		return -1
-	}
-	return 0
 }
 
 // quotedKey renders a key with each value quoted, so that whitespace shows.
