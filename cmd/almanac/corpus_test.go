@@ -14,10 +14,11 @@ import (
 	"github.com/apache/arrow-go/v18/arrow"
 	"github.com/apache/arrow-go/v18/arrow/array"
 	"github.com/apache/arrow-go/v18/arrow/memory"
-	"github.com/apache/arrow-go/v18/parquet"
 	"github.com/apache/arrow-go/v18/parquet/file"
 	"github.com/apache/arrow-go/v18/parquet/pqarrow"
 	"gopkg.in/yaml.v3"
+
+	"almanac/pipeline/ingest/ingesttest"
 )
 
 // expectation is a corpus case's expect.yaml: the exit code, text that
@@ -189,36 +190,9 @@ output: out
 func writeParquet(t *testing.T, dir string, fields []arrow.Field, n int, fill func(b *array.RecordBuilder, i int)) string {
 	t.Helper()
 	path := filepath.Join(dir, "data.parquet")
-	writeParquetFile(t, path, fields, n, fill)
+	ingesttest.WriteParquet(t, path, fields, n, fill)
 	os.WriteFile(filepath.Join(dir, "spec.yaml"), []byte(parquetSpec), 0o644)
 	return path
-}
-
-// writeParquetFile writes one record batch of n rows, built by fill, to path.
-func writeParquetFile(t *testing.T, path string, fields []arrow.Field, n int, fill func(b *array.RecordBuilder, i int)) {
-	t.Helper()
-	sch := arrow.NewSchema(fields, nil)
-	b := array.NewRecordBuilder(memory.DefaultAllocator, sch)
-	defer b.Release()
-	for i := 0; i < n; i++ {
-		fill(b, i)
-	}
-	rec := b.NewRecordBatch()
-	defer rec.Release()
-	f, err := os.Create(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	w, err := pqarrow.NewFileWriter(sch, f, parquet.NewWriterProperties(), pqarrow.DefaultWriterProps())
-	if err != nil {
-		t.Fatal(err)
-	}
-	if err := w.Write(rec); err != nil {
-		t.Fatal(err)
-	}
-	if err := w.Close(); err != nil {
-		t.Fatal(err)
-	}
 }
 
 var (

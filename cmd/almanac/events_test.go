@@ -11,6 +11,8 @@ import (
 
 	"github.com/apache/arrow-go/v18/arrow"
 	"github.com/apache/arrow-go/v18/arrow/array"
+
+	"almanac/pipeline/ingest/ingesttest"
 )
 
 const eventsParquetSpec = `version: 1
@@ -59,7 +61,7 @@ func writeEventsParquet(t *testing.T, rows []parquetEvent) string {
 		}
 		return arrow.Date32FromTime(d)
 	}
-	writeParquetFile(t, filepath.Join(dir, "drivers.parquet"), fields, len(rows), func(rb *array.RecordBuilder, i int) {
+	ingesttest.WriteParquet(t, filepath.Join(dir, "drivers.parquet"), fields, len(rows), func(rb *array.RecordBuilder, i int) {
 		r := rows[i]
 		rb.Field(0).(*array.Date32Builder).Append(day(r.first))
 		if r.last == "" {

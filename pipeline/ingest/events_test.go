@@ -10,11 +10,9 @@ import (
 
 	"github.com/apache/arrow-go/v18/arrow"
 	"github.com/apache/arrow-go/v18/arrow/array"
-	"github.com/apache/arrow-go/v18/arrow/memory"
-	"github.com/apache/arrow-go/v18/parquet"
-	"github.com/apache/arrow-go/v18/parquet/pqarrow"
 
 	"almanac/pipeline/calendar"
+	"almanac/pipeline/ingest/ingesttest"
 	"almanac/spec"
 )
 
@@ -190,33 +188,6 @@ func TestUnmatchedEventCombination(t *testing.T) {
 	}
 }
 
-// writeParquetEvents writes one record batch of the given columns to path.
-func writeParquetEvents(t *testing.T, path string, fields []arrow.Field, n int, fill func(b *array.RecordBuilder, i int)) {
-	t.Helper()
-	sch := arrow.NewSchema(fields, nil)
-	b := array.NewRecordBuilder(memory.DefaultAllocator, sch)
-	defer b.Release()
-	for i := 0; i < n; i++ {
-		fill(b, i)
-	}
-	rec := b.NewRecordBatch()
-	defer rec.Release()
-	f, err := os.Create(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	w, err := pqarrow.NewFileWriter(sch, f, parquet.NewWriterProperties(), pqarrow.DefaultWriterProps())
-	if err != nil {
-		t.Fatal(err)
-	}
-	if err := w.Write(rec); err != nil {
-		t.Fatal(err)
-	}
-	if err := w.Close(); err != nil {
-		t.Fatal(err)
-	}
-}
-
 // Parquet event sources with text dates, TIMESTAMP until, integer keys and
 // an integer value column; errors name the row.
 func TestReadEventsParquet(t *testing.T) {
@@ -243,7 +214,7 @@ func TestReadEventsParquet(t *testing.T) {
 			}
 		}
 	}
-	writeParquetEvents(t, path, fields, 3, fill(firsts))
+	ingesttest.WriteParquet(t, path, fields, 3, fill(firsts))
 	ev, _, err := readAndCheck(t, s)
 	if err != nil {
 		t.Fatal(err)
@@ -256,7 +227,7 @@ func TestReadEventsParquet(t *testing.T) {
 	if got != want {
 		t.Errorf("got  %s\nwant %s", got, want)
 	}
-	writeParquetEvents(t, path, fields, 3, fill([]string{"2024-01-05", "2024-02-31", "2024-03-01"}))
+	ingesttest.WriteParquet(t, path, fields, 3, fill([]string{"2024-01-05", "2024-02-31", "2024-03-01"}))
 	_, _, err = readAndCheck(t, s)
 	for _, w := range []string{`drivers.parquet: row 2: column "first": "2024-02-31" is not a date`,
 		`drivers.parquet: row 3: column "last": the last day 2024-02-10 is before the first day 2024-03-01`} {
