@@ -195,6 +195,21 @@ func (d *decoder) calendar(n *yaml.Node, path string, c *Calendar) (seasonNode *
 	return seasonNode
 }
 
+// day decodes a day written YYYY-MM-DD into dst; what says what the day
+// is, for the error when the value is not text.
+func (d *decoder) day(n *yaml.Node, p, what string, dst *string) {
+	var v string
+	d.str(n, p, what+" (YYYY-MM-DD)", &v)
+	if v == "" {
+		return
+	}
+	if msg := CheckDay(v); msg != "" {
+		d.errAt(n, p, "%s", msg)
+		return
+	}
+	*dst = v
+}
+
 // CheckDay checks a day written as YYYY-MM-DD (years 1 to 9999) and returns
 // what is wrong with it, or "" when it is a real day.
 func CheckDay(v string) string {

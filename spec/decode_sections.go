@@ -255,18 +255,7 @@ func (d *decoder) shaping(n *yaml.Node, p string, sh *Shaping) {
 		{"end", false, func(n *yaml.Node, p string) {
 			d.enum(n, p, "history end", Ends, (*string)(&sh.End))
 		}},
-		{"until", false, func(n *yaml.Node, p string) {
-			var v string
-			d.str(n, p, "the last day to read (YYYY-MM-DD)", &v)
-			if v == "" {
-				return
-			}
-			if msg := CheckDay(v); msg != "" {
-				d.errAt(n, p, "%s", msg)
-				return
-			}
-			sh.Until = v
-		}},
+		{"until", false, func(n *yaml.Node, p string) { d.day(n, p, "the last day to read", &sh.Until) }},
 		{"stray_dates", false, func(n *yaml.Node, p string) {
 			d.enum(n, p, "stray date rule", StrayRules, (*string)(&sh.StrayDates))
 		}},

@@ -103,16 +103,7 @@ func (d *decoder) eventSource(item *yaml.Node, p string) (EventSource, bool) {
 		}},
 		{"known_until", false, func(n *yaml.Node, p string) {
 			knownNode = n
-			var v string
-			d.str(n, p, "the last day the source is known to be complete (YYYY-MM-DD)", &v)
-			if v == "" {
-				return
-			}
-			if msg := CheckDay(v); msg != "" {
-				d.errAt(n, p, "%s", msg)
-				return
-			}
-			ev.KnownUntil = v
+			d.day(n, p, "the last day the source is known to be complete", &ev.KnownUntil)
 		}},
 	})
 	if ev.Path != "" {
