@@ -266,6 +266,27 @@ func (d *decoder) scalar(n *yaml.Node, path, what string) (*yaml.Node, bool) {
 	return n, true
 }
 
+// items walks a list at n, calling each for every item that is present
+// (an alias resolved) with its path, path[i]. It returns the list node
+// (alias resolved), or nil when n is absent or not a list (the error
+// recorded, naming what the list holds).
+func (d *decoder) items(n *yaml.Node, path, what string, each func(item *yaml.Node, p string)) *yaml.Node {
+	n = d.resolve(n)
+	if n == nil {
+		return nil
+	}
+	if n.Kind != yaml.SequenceNode {
+		d.errAt(n, path, "expected a list of %s, found %s", what, kindName(n))
+		return nil
+	}
+	for i, item := range n.Content {
+		if item = d.resolve(item); item != nil {
+			each(item, fmt.Sprintf("%s[%d]", path, i))
+		}
+	}
+	return n
+}
+
 func (d *decoder) str(n *yaml.Node, path, what string, dst *string) {
 	if n, ok := d.scalar(n, path, what); ok {
 		if n.Tag == "!!bool" {

@@ -10,24 +10,8 @@ import (
 )
 
 func (d *decoder) sources(n *yaml.Node, path string) []Source {
-	n = d.resolve(n)
-	if n == nil {
-		return nil
-	}
-	if n.Kind != yaml.SequenceNode {
-		d.errAt(n, path, "expected a list of sources, found %s", kindName(n))
-		return nil
-	}
-	if len(n.Content) == 0 {
-		d.errAt(n, path, "at least one source is needed")
-	}
 	var out []Source
-	for i, item := range n.Content {
-		p := fmt.Sprintf("%s[%d]", path, i)
-		item = d.resolve(item)
-		if item == nil {
-			continue
-		}
+	list := d.items(n, path, "sources", func(item *yaml.Node, p string) {
 		var src Source
 		var formatGiven bool
 		if item.Kind == yaml.ScalarNode {
@@ -43,10 +27,13 @@ func (d *decoder) sources(n *yaml.Node, path string) []Source {
 			})
 		}
 		if src.Path == "" {
-			continue
+			return
 		}
 		d.sourceFile(item, p, &src, formatGiven)
 		out = append(out, src)
+	})
+	if list != nil && len(list.Content) == 0 {
+		d.errAt(list, path, "at least one source is needed")
 	}
 	return out
 }

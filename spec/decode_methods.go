@@ -71,29 +71,16 @@ func DecompositionMethods() []string {
 }
 
 func (d *decoder) methods(n *yaml.Node, path string) ([]MethodSpec, []*yaml.Node) {
-	n = d.resolve(n)
-	if n == nil {
-		return nil, nil
-	}
-	if n.Kind != yaml.SequenceNode {
-		d.errAt(n, path, "expected a list of methods, found %s", kindName(n))
-		return nil, nil
-	}
-	if len(n.Content) == 0 {
-		d.errAt(n, path, "at least one method is needed; choose from %s", quoteList(MethodNames()))
-	}
 	var out []MethodSpec
 	var nodes []*yaml.Node
-	for i, item := range n.Content {
-		p := fmt.Sprintf("%s[%d]", path, i)
-		item = d.resolve(item)
-		if item == nil {
-			continue
-		}
+	list := d.items(n, path, "methods", func(item *yaml.Node, p string) {
 		if m, ok := d.method(item, p); ok {
 			out = append(out, m)
 			nodes = append(nodes, item)
 		}
+	})
+	if list != nil && len(list.Content) == 0 {
+		d.errAt(list, path, "at least one method is needed; choose from %s", quoteList(MethodNames()))
 	}
 	return out, nodes
 }

@@ -57,28 +57,14 @@ func (c EventColumns) Names() []string {
 
 // events decodes the events section: a list of event sources.
 func (d *decoder) events(n *yaml.Node, path string) ([]EventSource, []*yaml.Node) {
-	n = d.resolve(n)
-	if n == nil {
-		return nil, nil
-	}
-	if n.Kind != yaml.SequenceNode {
-		d.errAt(n, path, "expected a list of event sources, found %s", kindName(n))
-		return nil, nil
-	}
 	var out []EventSource
 	var nodes []*yaml.Node
-	for i, item := range n.Content {
-		p := fmt.Sprintf("%s[%d]", path, i)
-		item = d.resolve(item)
-		if item == nil {
-			continue
-		}
-		ev, ok := d.eventSource(item, p)
-		if ok {
+	d.items(n, path, "event sources", func(item *yaml.Node, p string) {
+		if ev, ok := d.eventSource(item, p); ok {
 			out = append(out, ev)
 			nodes = append(nodes, item)
 		}
-	}
+	})
 	return out, nodes
 }
 
