@@ -95,6 +95,14 @@ type Options struct {
 	Finish func(staging, target string) error
 }
 
+// workerCount is Workers, or the number of CPUs when it is 0 or less.
+func (o Options) workerCount() int {
+	if o.Workers <= 0 {
+		return runtime.NumCPU()
+	}
+	return o.Workers
+}
+
 // Summary is what a run reports when it finishes.
 type Summary struct {
 	Dir      string
@@ -154,10 +162,7 @@ type execution struct {
 // Run executes the plan and commits the run folder; started is when the
 // run began (it is recorded in the manifest).
 func (p *Plan) Run(ctx context.Context, opts Options, started time.Time) (*Summary, error) {
-	x := &execution{p: p, opts: opts, workers: opts.Workers, started: started, clock: &stageClock{last: started}}
-	if x.workers <= 0 {
-		x.workers = runtime.NumCPU()
-	}
+	x := &execution{p: p, opts: opts, workers: opts.workerCount(), started: started, clock: &stageClock{last: started}}
 	shardIndex := -1
 	if p.Shard.Count > 1 {
 		shardIndex = p.Shard.Index
@@ -476,10 +481,7 @@ func (p *Plan) openBatches(ctx context.Context, opts Options) (*ingest.Rows, *in
 		p.Events = ev
 		attach = series.NewAttacher(ev, cal, s.Horizon)
 	}
-	workers := opts.Workers
-	if workers <= 0 {
-		workers = runtime.NumCPU()
-	}
+	workers := opts.workerCount()
 	src, err := ingest.NewBatches(rs, batchRows, func(b *ingest.Rows) ([]*series.Series, error) {
 		out, err := series.Shape(b, s.Shaping, s.Limits, cal, s.Columns.Keys, workers)
 		if err == nil && attach != nil {
