@@ -307,11 +307,14 @@ func keyVariantNotes(keys [][]string, names []string) []runfolder.Problem {
 	// Keys with the same folded form (each value trimmed and lower-cased,
 	// the values joined by a 0 byte, which no key value holds) are
 	// variants of each other. Groups come in the order of their folded
-	// form, each group's keys in key order.
-	first := make(map[string]int32, len(keys))
-	var folds []string // by group
-	var groups [][]int32
-	groupOf := map[int32]int{} // the first key of a group → its group
+	// form; the message lists a group's spellings sorted.
+	type variants struct {
+		fold string
+		ids  []int32
+	}
+	first := make(map[string]int32, len(keys)) // a folded form → its first key
+	groupOf := map[int32]int{}                 // a group's first key → the group
+	var groups []variants
 	var b strings.Builder
 	for id, key := range keys {
 		b.Reset()
@@ -331,34 +334,20 @@ func keyVariantNotes(keys [][]string, names []string) []runfolder.Problem {
 		if !ok {
 			g = len(groups)
 			groupOf[at] = g
-			groups = append(groups, []int32{at})
-			folds = append(folds, f)
+			groups = append(groups, variants{fold: f, ids: []int32{at}})
 		}
-		groups[g] = append(groups[g], int32(id))
+		groups[g].ids = append(groups[g].ids, int32(id))
 	}
-	for _, g := range groups {
-		slices.SortFunc(g, func(a, b int32) int { return CompareKeys(keys[a], keys[b]) })
-	}
-	order := make([]int, len(groups))
-	for i := range order {
-		order[i] = i
-	}
-	slices.SortFunc(order, func(a, b int) int { return strings.Compare(folds[a], folds[b]) })
-	sorted := make([][]int32, len(groups))
-	for i, g := range order {
-		sorted[i] = groups[g]
-	}
-	groups = sorted
-	found := groups
+	slices.SortFunc(groups, func(a, b variants) int { return strings.Compare(a.fold, b.fold) })
 	var out []runfolder.Problem
-	for i, g := range found {
+	for i, g := range groups {
 		if i == maxVariantNotes {
 			out = append(out, runfolder.Problem{Stage: "read", Severity: "warning", Code: runfolder.CodeKeyVariants,
-				Message: fmt.Sprintf("… and %d more keys with several spellings", len(found)-maxVariantNotes)})
+				Message: fmt.Sprintf("… and %d more keys with several spellings", len(groups)-maxVariantNotes)})
 			break
 		}
-		spell := make([]string, len(g))
-		for j, id := range g {
+		spell := make([]string, len(g.ids))
+		for j, id := range g.ids {
 			spell[j] = quotedKey(names, keys[id])
 		}
 		slices.Sort(spell)
